@@ -1,0 +1,36 @@
+# Every set-up step lives here, so a fresh clone needs nothing done by hand.
+PYTHON ?= python3
+VENV   := .venv
+BIN    := $(VENV)/bin
+STAMP  := $(VENV)/.installed
+DEMO_OUT ?= demo-run
+
+.PHONY: test demo bench system-deps wheel clean
+
+$(STAMP): pyproject.toml
+	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+	$(BIN)/python -m pip install --quiet -e '.[test]'
+	touch $(STAMP)
+
+test: $(STAMP)
+	$(BIN)/python -m pytest
+
+demo: $(STAMP)
+	$(BIN)/scorewright demo --out $(DEMO_OUT) --force
+
+bench: $(STAMP)
+	$(BIN)/python -m benchmarks
+
+# The programs the workbook and report checks drive (LibreOffice, Chromium).
+# Without them those tests are skipped locally; CI installs them.
+system-deps:
+	apt-get update -qq
+	DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends \
+	    libreoffice-calc chromium fonts-dejavu-core time
+
+wheel: $(STAMP)
+	$(BIN)/python -m build --wheel --outdir dist .
+
+clean:
+	rm -rf $(VENV) dist build *.egg-info $(DEMO_OUT)

@@ -1,0 +1,53 @@
+"""Errors and warnings of scorewright.
+
+Every error a user can cause is a ``ValueError`` subclass defined here. The command line turns
+each of them into one message on stderr and exit code 2; a traceback is only shown with
+``--traceback``. Messages say what is wrong, where it is, and what to do about it.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+
+class ScorecardError(ValueError):
+    """Bad input or settings: the message says what, where and what to do."""
+
+
+class LedgerError(ScorecardError):
+    """The ledger cannot be read or does not fit the settings."""
+
+
+class SettingsError(ScorecardError):
+    """The settings file or a settings value is wrong."""
+
+
+class ClassingError(ScorecardError):
+    """A classing override or constraint cannot be applied."""
+
+
+class FitError(ScorecardError):
+    """The logistic fit cannot produce trustworthy estimates (separation, singular design)."""
+
+
+class ModelFileError(ScorecardError):
+    """A model file is missing, corrupt, edited or of a newer format."""
+
+
+class ScorecardWarning(UserWarning):
+    """Something was repaired or left out; the message says what and how to avoid it."""
+
+
+def describe_rows(rows: Sequence[int], *, limit: int = 5) -> str:
+    """Name rows as the user sees them: 'row 17', 'rows 17 and 203', 'rows 2, 5, 9, 11, 12 and 40 more'.
+
+    ``rows`` are 1-based line numbers of the data (the header is not counted).
+    """
+    rows = [int(r) for r in rows]
+    if len(rows) == 1:
+        return f"row {rows[0]}"
+    shown = rows[:limit]
+    rest = len(rows) - len(shown)
+    if rest > 0:
+        return f"rows {', '.join(map(str, shown))} and {rest} more"
+    return f"rows {', '.join(map(str, shown[:-1]))} and {shown[-1]}"
