@@ -1,0 +1,217 @@
+"""The ``scorewright`` command.
+
+``main`` parses the arguments, builds a frozen options object, calls the command's ``run`` and
+maps our exceptions to exit codes: 0 done (warnings allowed), 1 a check failed that the user
+asked to fail on, 2 bad input or usage. Bad input never shows a traceback (``--traceback`` does,
+for developers). Results go to stdout; messages, warnings and errors to stderr.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import warnings
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import IO
+
+EXIT_OK, EXIT_CHECK_FAILED, EXIT_BAD_INPUT = 0, 1, 2
+
+EXIT_CODES = """exit codes:
+  0  done (warnings allowed)
+  1  a check reached the status given with --fail-on
+  2  bad input or usage: the message says what, where and what to do"""
+
+
+@dataclass(frozen=True)
+class Streams:
+    """Where a command writes: results to ``out``, messages to ``err``."""
+
+    out: IO[str]
+    err: IO[str]
+    quiet: bool = False
+
+    def say(self, text: str = "") -> None:
+        """Write a result line to stdout."""
+        print(text, file=self.out)
+
+    def note(self, text: str) -> None:
+        """Write a progress or information line to stderr (hidden by --quiet)."""
+        if not self.quiet:
+            print(f"scorewright: {text}", file=self.err)
+
+    def warn(self, text: str) -> None:
+        """Write a warning to stderr (hidden by --quiet)."""
+        if not self.quiet:
+            print(f"scorewright: warning: {text}", file=self.err)
+
+    def progress(self, items: Iterable, description: str) -> Iterable:
+        """Wrap a loop in a progress bar when stderr is a terminal, else return it unchanged."""
+        if self.quiet or not getattr(self.err, "isatty", lambda: False)():
+            return items
+        from tqdm import tqdm
+
+        return tqdm(items, desc=description, file=self.err, leave=False, unit="")
+
+
+# --------------------------------------------------------------------------------------------
+# Options of each command
+
+
+@dataclass(frozen=True)
+class InitOptions:
+    """Options of ``scorewright init``."""
+
+    ledger: Path
+    target: str
+    bad: tuple[str, ...] = ()
+    good: tuple[str, ...] = ()
+    indeterminate: tuple[str, ...] = ()
+    id_column: str | None = None
+    date_column: str | None = None
+    weight_column: str | None = None
+    special: tuple[str, ...] = ()
+    out: Path = Path("scorecard.toml")
+    force: bool = False
+
+
+# --------------------------------------------------------------------------------------------
+# The parser
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """Return the argument parser of every command."""
+    parser = argparse.ArgumentParser(
+        prog="scorewright",
+        description="Build, validate and monitor a points scorecard for credit applications.",
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_examples(
+            "scorewright init ledger.csv --target outcome --bad bad --out scorecard.toml",
+            "scorewright build scorecard.toml --out run1/",
+            "scorewright score run1/model.json new.csv --out scored.csv",
+            "scorewright monitor run1/model.json q3.csv --out q3/",
+        ),
+    )
+    parser.add_argument("--version", action="version", version=f"scorewright {_version()}")
+    commands = parser.add_subparsers(dest="command", metavar="COMMAND")
+    _add_init(commands)
+    return parser
+
+
+def _add_common(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("--quiet", "-q", action="store_true", help="hide warnings and progress (errors are always shown)")
+    parser.add_argument("--traceback", action="store_true", help="show a Python traceback on errors (for developers)")
+
+
+def _examples(*lines: str) -> str:
+    return "examples:\n" + "\n".join(f"  {line}" for line in lines) + "\n\n" + EXIT_CODES
+
+
+def _add_init(commands) -> None:
+    parser = commands.add_parser(
+        "init", help="read a ledger and write a settings file with a proposed classing",
+        description=(
+            "Read a labelled ledger, check it, and write a settings file that records the outcome "
+            "mapping, the kind of every characteristic and a proposed classing with its information "
+            "value. Edit the file, then run 'scorewright build' on it."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_examples(
+            "scorewright init ledger.csv --target outcome --bad bad --good good --indeterminate cured",
+            "scorewright init loans.parquet --target defaulted --special months_since_arrears=-1 --out loans.toml",
+        ),
+    )
+    parser.add_argument("ledger", type=Path, help="the ledger: CSV, Parquet or .xlsx")
+    parser.add_argument("--target", required=True, metavar="COLUMN", help="the outcome column")
+    parser.add_argument("--bad", nargs="+", default=(), metavar="VALUE", help="outcome values meaning bad (default for a 0/1 column: 1)")
+    parser.add_argument("--good", nargs="+", default=(), metavar="VALUE", help="outcome values meaning good (default: every other value)")
+    parser.add_argument("--indeterminate", nargs="+", default=(), metavar="VALUE", help="outcome values meaning neither")
+    parser.add_argument("--id", dest="id_column", metavar="COLUMN", help="the application id column (default: detected)")
+    parser.add_argument("--date", dest="date_column", metavar="COLUMN", help="the application date column (default: detected)")
+    parser.add_argument("--weight", dest="weight_column", metavar="COLUMN", help="a case-weight column")
+    parser.add_argument("--special", nargs="+", default=(), metavar="COLUMN=V[,V]", help="special values of a numeric characteristic, e.g. months_since_arrears=-1,999")
+    parser.add_argument("--out", type=Path, default=Path("scorecard.toml"), help="settings file to write (default: scorecard.toml)")
+    parser.add_argument("--force", action="store_true", help="overwrite the settings file if it exists")
+    _add_common(parser)
+    parser.set_defaults(make_options=_init_options, run=_run_init)
+
+
+def _init_options(args: argparse.Namespace) -> InitOptions:
+    return InitOptions(
+        ledger=args.ledger, target=args.target, bad=tuple(args.bad), good=tuple(args.good),
+        indeterminate=tuple(args.indeterminate), id_column=args.id_column, date_column=args.date_column,
+        weight_column=args.weight_column, special=tuple(args.special), out=args.out, force=args.force,
+    )
+
+
+def _run_init(options: InitOptions, streams: Streams) -> int:
+    from .commands import run_init
+
+    return run_init(options, streams)
+
+
+# --------------------------------------------------------------------------------------------
+# Entry points
+
+
+def main(argv: Sequence[str] | None = None, *, stdout: IO[str] | None = None, stderr: IO[str] | None = None) -> int:
+    """Run the command line; return the exit code.
+
+    Parameters
+    ----------
+    argv : sequence of str, optional
+        Arguments without the program name (default: ``sys.argv[1:]``).
+    stdout, stderr : text streams, optional
+        Where results and messages go (default: the process's own).
+    """
+    out, err = stdout or sys.stdout, stderr or sys.stderr
+    parser = build_parser()
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as exit_:  # argparse exits with 2 on usage errors and 0 on --help
+        return int(exit_.code or 0)
+    if args.command is None:
+        parser.print_help(out)
+        return EXIT_BAD_INPUT
+    streams = Streams(out, err, quiet=getattr(args, "quiet", False))
+    from .errors import ScorecardError, ScorecardWarning
+
+    try:
+        options = args.make_options(args)
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always", ScorecardWarning)
+            code = args.run(options, streams)
+        _show_warnings(caught, streams)
+        return code
+    except ScorecardError as error:
+        if args.traceback:
+            raise
+        print(f"scorewright: error: {error}", file=err)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        print("scorewright: interrupted; no output was left half-written.", file=err)
+        return 130
+
+
+def _show_warnings(caught: list, streams: Streams) -> None:
+    from .errors import ScorecardWarning
+
+    shown = set()
+    for warning in caught:
+        text = str(warning.message)
+        if issubclass(warning.category, ScorecardWarning) and text not in shown:
+            shown.add(text)
+            streams.warn(text)
+
+
+def entry_point() -> None:
+    """The console script: run ``main`` and exit with its code."""
+    raise SystemExit(main())
+
+
+def _version() -> str:
+    from . import __version__
+
+    return __version__
+

@@ -1,0 +1,166 @@
+"""Count tables from coded rows: the one small interface to row work.
+
+Everything after intake works on count tables, so the statistics never see rows. The functions
+here turn bin codes into those tables with ``numpy.bincount`` and ``numpy.unique``; an engine
+that groups and counts elsewhere (an embedded SQL engine, a cluster) only has to produce the
+same tables.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from .ledger import BAD, GOOD, OUTCOME_NAMES, SAMPLE_NAMES
+
+N_SAMPLES = len(SAMPLE_NAMES)
+N_OUTCOMES = len(OUTCOME_NAMES)
+KEY_LIMIT = 2**62  # pattern keys are compacted before they could overflow int64
+
+
+@dataclass(frozen=True)
+class BinCounts:
+    """Weighted and raw counts of one characteristic's bins, per sample and outcome.
+
+    ``weighted[s, o, b]`` and ``rows[s, o, b]`` hold, for sample s (development, hold-out,
+    out-of-time), outcome o (good, bad, indeterminate, unknown) and bin b, the summed case weight
+    and the number of rows.
+    """
+
+    characteristic: str
+    labels: tuple[str, ...]
+    weighted: np.ndarray
+    rows: np.ndarray
+
+    def goods(self, sample: int = 0) -> np.ndarray:
+        """Weighted goods per bin in one sample."""
+        return self.weighted[sample, GOOD]
+
+    def bads(self, sample: int = 0) -> np.ndarray:
+        """Weighted bads per bin in one sample."""
+        return self.weighted[sample, BAD]
+
+    def n_goods(self, sample: int = 0) -> np.ndarray:
+        """Rows of goods per bin in one sample."""
+        return self.rows[sample, GOOD]
+
+    def n_bads(self, sample: int = 0) -> np.ndarray:
+        """Rows of bads per bin in one sample."""
+        return self.rows[sample, BAD]
+
+    def everyone(self, sample: int = 0) -> np.ndarray:
+        """Weighted rows of any outcome per bin in one sample (what stability compares)."""
+        return self.weighted[sample].sum(axis=0)
+
+    def __add__(self, other: BinCounts) -> BinCounts:
+        """Add the counts of two batches of the same characteristic."""
+        return BinCounts(self.characteristic, self.labels, self.weighted + other.weighted, self.rows + other.rows)
+
+
+def count_bins(codes: np.ndarray, outcome: np.ndarray, weight: np.ndarray, sample: np.ndarray, *,
+               characteristic: str, labels: Sequence[str]) -> BinCounts:
+    """Return the counts of one characteristic's bins per sample and outcome.
+
+    Parameters
+    ----------
+    codes : numpy.ndarray
+        Bin of each row.
+    outcome, weight, sample : numpy.ndarray
+        Per row: outcome code, case weight, sample code (as in ``Ledger``).
+    characteristic : str
+    labels : sequence of str
+        One label per bin.
+
+    Returns
+    -------
+    BinCounts
+    """
+    n_bins = len(labels)
+    key = (sample.astype(np.int64) * N_OUTCOMES + outcome) * n_bins + codes
+    size = N_SAMPLES * N_OUTCOMES * n_bins
+    shape = (N_SAMPLES, N_OUTCOMES, n_bins)
+    weighted = np.bincount(key, weights=weight, minlength=size).reshape(shape)
+    rows = np.bincount(key, minlength=size).reshape(shape).astype(float)
+    weighted.setflags(write=False)
+    rows.setflags(write=False)
+    return BinCounts(characteristic, tuple(labels), weighted, rows)
+
+
+@dataclass(frozen=True)
+class PatternTable:
+    """Distinct patterns of bin codes across characteristics, with their goods and bads.
+
+    A logistic fit on WoE-coded characteristics depends on the rows only through this table, so
+    fitting it with the goods and bads as weights gives exactly the estimates of a fit on the rows.
+    """
+
+    characteristics: tuple[str, ...]
+    codes: np.ndarray  # n_patterns × n_characteristics bin codes
+    goods: np.ndarray  # weighted goods per pattern
+    bads: np.ndarray   # weighted bads per pattern
+
+    @property
+    def n_patterns(self) -> int:
+        """Number of distinct patterns."""
+        return len(self.goods)
+
+    def column(self, characteristic: str) -> np.ndarray:
+        """Return the bin codes of one characteristic across the patterns."""
+        return self.codes[:, self.characteristics.index(characteristic)]
+
+    def subset(self, characteristics: Sequence[str]) -> PatternTable:
+        """Return the pattern table of fewer characteristics (patterns merged, counts added)."""
+        columns = [self.characteristics.index(c) for c in characteristics]
+        return pattern_table(self.codes[:, columns], self.goods, self.bads, characteristics=characteristics)
+
+
+def pattern_table(codes: np.ndarray, goods: np.ndarray, bads: np.ndarray, *,
+                  characteristics: Sequence[str]) -> PatternTable:
+    """Return the distinct rows of ``codes`` with summed goods and bads.
+
+    Parameters
+    ----------
+    codes : numpy.ndarray
+        Rows × characteristics bin codes (any unsigned integer type).
+    goods, bads : numpy.ndarray
+        Weighted goods and bads carried by each row (a good row of weight w: goods w, bads 0).
+    characteristics : sequence of str
+        The column names of ``codes``.
+
+    Returns
+    -------
+    PatternTable
+        Patterns in ascending order of their codes; rows with no goods and no bads are dropped.
+    """
+    keep = (goods > 0) | (bads > 0)
+    codes, goods, bads = codes[keep], goods[keep], bads[keep]
+    key = pattern_keys(codes)
+    unique_keys, first, inverse = np.unique(key, return_index=True, return_inverse=True)
+    pattern_goods = np.bincount(inverse, weights=goods, minlength=len(unique_keys))
+    pattern_bads = np.bincount(inverse, weights=bads, minlength=len(unique_keys))
+    pattern_codes = codes[first]
+    for array in (pattern_codes, pattern_goods, pattern_bads):
+        array.setflags(write=False)
+    return PatternTable(tuple(characteristics), pattern_codes, pattern_goods, pattern_bads)
+
+
+def pattern_keys(codes: np.ndarray) -> np.ndarray:
+    """Return one int64 key per row that is equal exactly when the rows' codes are equal.
+
+    Columns are combined in mixed radix; when the next column could overflow, the keys so far
+    are replaced by their rank among the distinct keys (which keeps equality and order).
+    """
+    n_rows, n_columns = codes.shape
+    key = np.zeros(n_rows, dtype=np.int64)
+    span = 1
+    for column in range(n_columns):
+        radix = int(codes[:, column].max(initial=0)) + 1
+        if span * radix >= KEY_LIMIT:
+            distinct, key = np.unique(key, return_inverse=True)
+            key = key.astype(np.int64)
+            span = len(distinct)
+        key = key * radix + codes[:, column]
+        span *= radix
+    return key

@@ -1,0 +1,557 @@
+"""Intake: read a ledger, check it, map the outcome, weigh the rows and split the samples.
+
+This is one of the three places that see rows (with coding and scoring). Everything here is
+checked once, where the data enters, with messages that name the file, the column and the rows
+as the user sees them: row numbers count the header as row 1, as a spreadsheet shows them.
+"""
+
+from __future__ import annotations
+
+import csv
+import difflib
+import hashlib
+import os
+import warnings
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from .errors import LedgerError, ScorecardWarning, describe_rows
+from .settings import Settings
+
+GOOD, BAD, INDETERMINATE, UNKNOWN = 0, 1, 2, 3
+OUTCOME_NAMES = ("good", "bad", "indeterminate", "unknown")
+DEVELOPMENT, HOLDOUT, OUT_OF_TIME = 0, 1, 2
+SAMPLE_NAMES = ("development", "hold-out", "out-of-time")
+NUMERIC, CATEGORICAL = "numeric", "categorical"
+
+# a column with a distinct value on at least this share of its rows looks like an identifier
+# (common practice, no source)
+IDENTIFIER_SHARE = 0.95
+IDENTIFIER_MIN_ROWS = 20
+SUFFIXES = (".csv", ".txt", ".parquet", ".pq", ".xlsx", ".xlsm")
+
+
+@dataclass(frozen=True)
+class Characteristic:
+    """A column used as a characteristic: its name, kind and declared special values."""
+
+    name: str
+    kind: str
+    special_values: tuple[float, ...] = ()
+
+
+@dataclass(frozen=True)
+class Fingerprint:
+    """What identifies a ledger: its row count and a SHA-256 of its content."""
+
+    n_rows: int
+    sha256: str
+    of: str  # "file bytes" or "frame values"
+
+    def to_dict(self) -> dict[str, object]:
+        """Return the fingerprint as plain values (for the model file)."""
+        return {"rows": self.n_rows, "sha256": self.sha256, "of": self.of}
+
+
+@dataclass(frozen=True)
+class Ledger:
+    """A checked ledger: characteristic columns, outcome, weights and samples, aligned by row.
+
+    Attributes
+    ----------
+    source : str
+        The file name, or "DataFrame".
+    frame : pandas.DataFrame
+        The characteristic columns only (ids, dates, outcome and weights are held apart).
+    characteristics : tuple of Characteristic
+        The characteristics, in ledger order.
+    outcome : numpy.ndarray
+        int8 per row: 0 good, 1 bad, 2 indeterminate, 3 unknown (no outcome recorded).
+    weight : numpy.ndarray
+        float64 case weight per row.
+    sample : numpy.ndarray
+        int8 per row: 0 development, 1 hold-out, 2 out-of-time.
+    dates : numpy.ndarray or None
+        datetime64[D] per row when the ledger has a date column.
+    ids : numpy.ndarray or None
+        The id column's values, for output files only.
+    notes : tuple of str
+        What intake left out or repaired, and why (the reports list them).
+    fingerprint : Fingerprint
+    """
+
+    source: str
+    frame: pd.DataFrame
+    characteristics: tuple[Characteristic, ...]
+    outcome: np.ndarray
+    weight: np.ndarray
+    sample: np.ndarray
+    dates: np.ndarray | None
+    ids: np.ndarray | None
+    notes: tuple[str, ...]
+    fingerprint: Fingerprint
+    left_out: Mapping[str, str] = field(default_factory=dict)
+
+    @property
+    def n_rows(self) -> int:
+        """Number of rows."""
+        return len(self.outcome)
+
+    def characteristic(self, name: str) -> Characteristic:
+        """Return the characteristic called ``name``."""
+        return next(c for c in self.characteristics if c.name == name)
+
+    def sample_summary(self) -> pd.DataFrame:
+        """Return rows, goods, bads, indeterminates and unknowns (weighted) per sample."""
+        table = np.zeros((len(SAMPLE_NAMES), len(OUTCOME_NAMES)))
+        np.add.at(table, (self.sample, self.outcome), self.weight)
+        frame = pd.DataFrame(table, index=list(SAMPLE_NAMES), columns=list(OUTCOME_NAMES))
+        frame.insert(0, "rows", np.bincount(self.sample, minlength=len(SAMPLE_NAMES)))
+        frame["bad rate"] = frame["bad"] / (frame["good"] + frame["bad"]).where(lambda s: s > 0)
+        return frame
+
+
+# --------------------------------------------------------------------------------------------
+# Reading
+
+
+def read_ledger(source: str | os.PathLike[str] | pd.DataFrame, *, columns: Sequence[str] | None = None) -> pd.DataFrame:
+    """Read a ledger file (CSV, Parquet or Excel) into a DataFrame, checking it can be used.
+
+    Parameters
+    ----------
+    source : path-like or pandas.DataFrame
+        The ledger. A DataFrame is checked and returned unchanged (never modified).
+    columns : sequence of str, optional
+        Read only these columns.
+
+    Returns
+    -------
+    pandas.DataFrame
+
+    Raises
+    ------
+    LedgerError
+        The file is missing, unreadable, of an unknown type, empty, has only a header, or has
+        duplicate column names.
+    """
+    if isinstance(source, pd.DataFrame):
+        _check_column_names([str(c) for c in source.columns], "DataFrame")
+        if len(source) == 0:
+            raise LedgerError("DataFrame: the ledger has no rows. Pass a ledger with at least one application.")
+        return source
+    path = Path(source)
+    name = path.name
+    if not path.exists():
+        raise LedgerError(f"{path}: ledger file not found. Check the path (relative paths start at the settings file's folder).")
+    if path.is_dir():
+        raise LedgerError(f"{path}: is a folder, not a ledger file. Give the path of a CSV, Parquet or .xlsx file.")
+    suffix = path.suffix.lower()
+    if suffix not in SUFFIXES:
+        raise LedgerError(f"{path}: unknown ledger file type {suffix or '(no suffix)'!r}. Use a .csv, .parquet or .xlsx file.")
+    if path.stat().st_size == 0:
+        raise LedgerError(f"{name}: the file is empty. Export the ledger again with a header row and data rows.")
+    header = _read_header(path, suffix)
+    _check_column_names(header, name)
+    frame = _read_frame(path, suffix, columns)
+    if len(frame) == 0:
+        raise LedgerError(f"{name}: the file has a header but no data rows. Export the ledger again with its data.")
+    return frame
+
+
+def _read_header(path: Path, suffix: str) -> list[str]:
+    """Read the column names as they are in the file (pandas would rename duplicates)."""
+    try:
+        if suffix in (".csv", ".txt"):
+            with path.open(newline="", encoding="utf-8-sig") as stream:
+                return next(csv.reader(stream), [])
+        if suffix in (".parquet", ".pq"):
+            import pyarrow.parquet as pq
+
+            return list(pq.read_schema(path).names)
+        import openpyxl
+
+        book = openpyxl.load_workbook(path, read_only=True)
+        try:
+            first = next(book.worksheets[0].iter_rows(max_row=1, values_only=True), ())
+        finally:
+            book.close()
+        return ["" if value is None else str(value) for value in first]
+    except UnicodeDecodeError as error:
+        raise LedgerError(f"{path.name}: not UTF-8 text (byte {error.start}). Save the ledger as UTF-8 CSV.") from None
+    except Exception as error:  # any reader failure is the file's fault here
+        raise LedgerError(f"{path.name}: cannot read the file as {suffix[1:]} ({type(error).__name__}: {error}). Check it opens and is not damaged.") from None
+
+
+def _read_frame(path: Path, suffix: str, columns: Sequence[str] | None) -> pd.DataFrame:
+    usecols = list(columns) if columns is not None else None
+    try:
+        if suffix in (".csv", ".txt"):
+            return pd.read_csv(path, usecols=usecols, encoding="utf-8-sig", low_memory=False)
+        if suffix in (".parquet", ".pq"):
+            return pd.read_parquet(path, columns=usecols)
+        return pd.read_excel(path, usecols=usecols, engine="openpyxl")
+    except pd.errors.EmptyDataError:
+        raise LedgerError(f"{path.name}: the file is empty. Export the ledger again with a header row and data rows.") from None
+    except UnicodeDecodeError as error:
+        raise LedgerError(f"{path.name}: not UTF-8 text (byte {error.start}). Save the ledger as UTF-8 CSV.") from None
+    except Exception as error:  # a reader failure is the file's fault here
+        raise LedgerError(f"{path.name}: cannot read the file ({type(error).__name__}: {error}). Check it opens and is not damaged.") from None
+
+
+def _check_column_names(names: list[str], source: str) -> None:
+    if not names or all(not n.strip() for n in names):
+        raise LedgerError(f"{source}: no header row with column names. The first row must name the columns.")
+    seen: dict[str, int] = {}
+    for position, column in enumerate(names, start=1):
+        if column in seen:
+            raise LedgerError(
+                f"{source}: column name {column!r} appears twice (columns {seen[column]} and {position}). Rename one so every column name is unique."
+            )
+        seen[column] = position
+
+
+def fingerprint_of(source: str | os.PathLike[str] | pd.DataFrame, n_rows: int) -> Fingerprint:
+    """Return a ledger's fingerprint: row count and SHA-256 of the file's bytes or the frame's values."""
+    digest = hashlib.sha256()
+    if isinstance(source, pd.DataFrame):
+        digest.update(pd.util.hash_pandas_object(source, index=False).to_numpy().tobytes())
+        digest.update("\x1f".join(map(str, source.columns)).encode())
+        return Fingerprint(n_rows, digest.hexdigest(), "frame values")
+    with open(source, "rb") as stream:
+        for block in iter(lambda: stream.read(1 << 22), b""):
+            digest.update(block)
+    return Fingerprint(n_rows, digest.hexdigest(), "file bytes")
+
+
+# --------------------------------------------------------------------------------------------
+# Checking and preparing
+
+
+def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "DataFrame",
+                   fingerprint: Fingerprint | None = None, require_outcome: bool = True) -> Ledger:
+    """Check a ledger against the settings and return it ready for classing.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        The ledger as read; it is not modified.
+    settings : Settings
+        Outcome mapping, special columns, kinds, special values and samples.
+    source : str
+        The ledger's name for messages (file name or "DataFrame").
+    fingerprint : Fingerprint, optional
+        Computed from the frame when not given.
+    require_outcome : bool
+        False when scoring or monitoring: the outcome column may then be absent or partly empty.
+
+    Returns
+    -------
+    Ledger
+
+    Raises
+    ------
+    LedgerError
+        The outcome column is missing or holds unmapped values, only one class is present,
+        weights are negative, missing or not finite, a characteristic holds infinite values, or
+        the special columns are wrong.
+    """
+    notes: list[str] = []
+    roles = _role_columns(frame, settings, source, require_outcome)
+    outcome = _map_outcome(frame, settings, source, require_outcome, notes)
+    weight = _weights(frame, settings.ledger.weight_column, source)
+    dates = _dates(frame, settings.ledger.date_column, source) if settings.ledger.date_column else None
+    characteristics, left_out = _choose_characteristics(frame, settings, roles, source)
+    for name, why in left_out.items():
+        notes.append(f"{name!r} left out: {why}.")
+    _check_finite(frame, characteristics, source)
+    sample = split_samples(outcome, dates, settings, source=source)
+    ids = frame[settings.ledger.id_column].to_numpy() if settings.ledger.id_column else None
+    kept = frame[[c.name for c in characteristics]]
+    if fingerprint is None:
+        fingerprint = fingerprint_of(frame, len(frame))
+    for note in notes:
+        if "left out" not in note:
+            warnings.warn(note, ScorecardWarning, stacklevel=2)
+    return Ledger(
+        source=source, frame=kept, characteristics=tuple(characteristics), outcome=outcome, weight=weight,
+        sample=sample, dates=dates, ids=ids, notes=tuple(notes), fingerprint=fingerprint, left_out=left_out,
+    )
+
+
+def _role_columns(frame: pd.DataFrame, settings: Settings, source: str, require_outcome: bool) -> set[str]:
+    """Check the columns named in settings exist; return the names that are not characteristics."""
+    columns = [str(c) for c in frame.columns]
+    ledger = settings.ledger
+    target = settings.outcome.column
+    if not target and require_outcome:
+        raise LedgerError(f"{source}: no outcome column named. Give it with --target COLUMN or as column under [outcome] in the settings file.")
+    named = {"outcome column": target if require_outcome else "", "id column": ledger.id_column,
+             "date column": ledger.date_column, "weight column": ledger.weight_column}
+    for role, column in named.items():
+        if column and column not in columns:
+            raise LedgerError(f"{source}: {role} {column!r} not found.{closest_names(column, columns)}")
+    for column in ledger.leave_out:
+        if column not in columns:
+            raise LedgerError(f"{source}: column {column!r} listed under ledger.leave_out not found.{closest_names(column, columns)}")
+    return {c for c in (target, ledger.id_column, ledger.date_column, ledger.weight_column, *ledger.leave_out) if c}
+
+
+def closest_names(name: str, columns: Sequence[str]) -> str:
+    """Return ' Did you mean ...?' with the closest column names, or the list of columns."""
+    close = difflib.get_close_matches(name, columns, n=3, cutoff=0.5)
+    if not close:
+        lowered = {c.lower(): c for c in columns}
+        close = [lowered[name.lower()]] if name.lower() in lowered else []
+    if close:
+        return " Did you mean " + " or ".join(repr(c) for c in close) + "?"
+    shown = ", ".join(repr(c) for c in columns[:12]) + (", ..." if len(columns) > 12 else "")
+    return f" The ledger's columns are: {shown}."
+
+
+def outcome_key(value: object) -> str:
+    """Return the text an outcome value is matched by: '1' for 1 and 1.0, 'bad' for ' bad '."""
+    if isinstance(value, (bool, np.bool_)):
+        return str(bool(value)).lower()
+    if isinstance(value, (int, np.integer)):
+        return str(int(value))
+    if isinstance(value, (float, np.floating)) and float(value).is_integer():
+        return str(int(value))
+    return str(value).strip()
+
+
+def default_outcome_mapping(values: Sequence[str]) -> tuple[tuple[str, ...], tuple[str, ...]] | None:
+    """Return (bad, good) for a 0/1 outcome (1 = bad), else None."""
+    if set(values) <= {"0", "1"} and len(set(values)) == 2:
+        return ("1",), ("0",)
+    if set(values) <= {"true", "false"} and len(set(values)) == 2:
+        return ("true",), ("false",)
+    return None
+
+
+def _map_outcome(frame: pd.DataFrame, settings: Settings, source: str, require_outcome: bool, notes: list[str]) -> np.ndarray:
+    column = settings.outcome.column
+    if not column or column not in frame.columns:
+        return np.full(len(frame), UNKNOWN, dtype=np.int8)
+    codes, uniques = pd.factorize(frame[column], use_na_sentinel=True)
+    keys = [outcome_key(u) for u in uniques]
+    mapping = _outcome_mapping(settings, keys)
+    unmapped = [(k, int(np.count_nonzero(codes == i))) for i, k in enumerate(keys) if k not in mapping]
+    if unmapped:
+        shown = ", ".join(f"{k!r} ({n} rows)" for k, n in unmapped[:8]) + (f" and {len(unmapped) - 8} more" if len(unmapped) > 8 else "")
+        first_rows = np.flatnonzero(np.isin(codes, [keys.index(k) for k, _ in unmapped]))[:5] + 2
+        raise LedgerError(
+            f"{source}, column {column!r}, {describe_rows(first_rows.tolist())}: "
+            f"value{'s' if len(unmapped) > 1 else ''} {shown} {'are' if len(unmapped) > 1 else 'is'} not a mapped outcome. "
+            "Add each under [outcome] in the settings file as good, bad or indeterminate (or use --bad/--good)."
+        )
+    lookup = np.array([mapping[k] for k in keys] + [UNKNOWN], dtype=np.int8)
+    outcome = lookup[codes]  # the sentinel -1 picks the last entry: unknown
+    n_unknown = int(np.count_nonzero(codes < 0))
+    if n_unknown and require_outcome:
+        rows = describe_rows((np.flatnonzero(codes < 0)[:5] + 2).tolist())
+        notes.append(
+            f"{source}, column {column!r}, {rows}: {n_unknown} rows have no outcome; they are left out of fitting and "
+            "the checks that need outcomes, and kept for stability checks."
+        )
+    if require_outcome:
+        _check_both_classes(outcome, source, column)
+    return outcome
+
+
+def _outcome_mapping(settings: Settings, keys: Sequence[str]) -> dict[str, int]:
+    outcome = settings.outcome
+    bad, good = outcome.bad, outcome.good
+    if not bad and not good:
+        default = default_outcome_mapping(list(keys))
+        if default is not None:
+            bad, good = default
+    mapping = {value: BAD for value in bad}
+    mapping.update({value: GOOD for value in good})
+    mapping.update({value: INDETERMINATE for value in outcome.indeterminate})
+    return mapping
+
+
+def _check_both_classes(outcome: np.ndarray, source: str, column: str) -> None:
+    counts = np.bincount(outcome, minlength=4)
+    if counts[GOOD] == 0 or counts[BAD] == 0:
+        present = "good" if counts[GOOD] else "bad"
+        missing = "bad" if counts[GOOD] else "good"
+        raise LedgerError(
+            f"{source}, column {column!r}: every mapped outcome is {present}; there are no {missing}s. "
+            f"A scorecard needs both. Check the outcome mapping under [outcome] (which values mean {missing}?)."
+        )
+
+
+def _weights(frame: pd.DataFrame, column: str, source: str) -> np.ndarray:
+    if not column:
+        return np.ones(len(frame))
+    values = pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
+    problems = [
+        ("missing or not a number", np.isnan(values)),
+        ("not finite", np.isinf(values)),
+        ("negative", values < 0),
+    ]
+    for what, bad in problems:
+        if bad.any():
+            rows = describe_rows((np.flatnonzero(bad)[:5] + 2).tolist())
+            shown = frame[column].iloc[int(np.flatnonzero(bad)[0])]
+            raise LedgerError(
+                f"{source}, column {column!r}, {rows}: weight {shown!r} is {what} ({int(bad.sum())} rows). "
+                "Every weight must be a finite number of 0 or more; fix those rows or remove weight_column from the settings."
+            )
+    if values.sum() <= 0:
+        raise LedgerError(f"{source}, column {column!r}: every weight is 0. Give the rows positive weights.")
+    return values
+
+
+def _dates(frame: pd.DataFrame, column: str, source: str) -> np.ndarray:
+    raw = frame[column]
+    parsed = pd.to_datetime(raw, errors="coerce", format="ISO8601") if not pd.api.types.is_datetime64_any_dtype(raw) else raw
+    bad = parsed.isna().to_numpy() & raw.notna().to_numpy()
+    if bad.any():
+        rows = describe_rows((np.flatnonzero(bad)[:5] + 2).tolist())
+        raise LedgerError(
+            f"{source}, column {column!r}, {rows}: {raw.iloc[int(np.flatnonzero(bad)[0])]!r} is not a date "
+            f"({int(bad.sum())} rows). Write dates as YYYY-MM-DD."
+        )
+    return parsed.to_numpy().astype("datetime64[D]")
+
+
+def _choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[str],
+                            source: str) -> tuple[list[Characteristic], dict[str, str]]:
+    """Detect each remaining column's kind; leave out identifiers, dates, constants, and 'never'."""
+    chosen, left_out = [], {}
+    for column in frame.columns:
+        name = str(column)
+        if name in roles:
+            continue
+        spec = settings.characteristic(name)
+        series = frame[column]
+        if spec.use == "never":
+            left_out[name] = "use = never in the settings"
+            continue
+        reason = unusable_reason(series)
+        if reason:
+            left_out[name] = reason
+            continue
+        kind = spec.kind or detect_kind(series)
+        if spec.use == "" and (why := looks_like_identifier_or_date(series, kind)):
+            left_out[name] = f"{why}; set use = \"auto\" under [characteristics.{name}] to keep it"
+            continue
+        if kind == NUMERIC and not _numeric_or_empty(series):
+            raise LedgerError(
+                f"{source}, column {name!r}: kind is numeric in the settings but the column holds text "
+                f"(e.g. {series.dropna().iloc[0]!r}). Set kind = \"categorical\" or clean the column."
+            )
+        chosen.append(Characteristic(name, kind, tuple(spec.special_values) if kind == NUMERIC else ()))
+    return chosen, left_out
+
+
+def detect_kind(series: pd.Series) -> str:
+    """Return 'numeric' for number columns (not booleans), else 'categorical'."""
+    if pd.api.types.is_bool_dtype(series) or not pd.api.types.is_numeric_dtype(series):
+        return CATEGORICAL
+    return NUMERIC
+
+
+def unusable_reason(series: pd.Series) -> str:
+    """Say why a column cannot be a characteristic (all missing, constant), or return ''."""
+    present = series.dropna()
+    if present.empty:
+        return "every value is missing"
+    if present.nunique() == 1 and len(present) == len(series):
+        return f"every row has the same value ({present.iloc[0]!r})"
+    if present.nunique() == 1:
+        return f"every value present is the same ({present.iloc[0]!r}); only missingness varies"
+    return ""
+
+
+def looks_like_identifier_or_date(series: pd.Series, kind: str) -> str:
+    """Say why a column looks like an identifier or a date, or return ''."""
+    if pd.api.types.is_datetime64_any_dtype(series):
+        return "it holds dates"
+    present = series.dropna()
+    n_distinct = present.nunique()
+    if len(present) >= IDENTIFIER_MIN_ROWS and n_distinct >= IDENTIFIER_SHARE * len(present):
+        integer_valued = kind == NUMERIC and bool(np.all(np.mod(present.to_numpy(dtype=float), 1) == 0))
+        if kind == CATEGORICAL or integer_valued:
+            return f"it looks like an identifier ({n_distinct} distinct values in {len(present)} rows)"
+    if kind == CATEGORICAL and _looks_like_dates(present):
+        return "it holds dates"
+    return ""
+
+
+def _looks_like_dates(present: pd.Series) -> bool:
+    head = present.astype(str).head(200)
+    if not head.str.contains(r"^\d{4}-\d{2}-\d{2}|^\d{1,2}/\d{1,2}/\d{2,4}", regex=True).all():
+        return False
+    return bool(pd.to_datetime(head, errors="coerce", format="mixed").notna().all())
+
+
+def _numeric_or_empty(series: pd.Series) -> bool:
+    return pd.api.types.is_numeric_dtype(series) and not pd.api.types.is_bool_dtype(series)
+
+
+def _check_finite(frame: pd.DataFrame, characteristics: Sequence[Characteristic], source: str) -> None:
+    for char in characteristics:
+        if char.kind != NUMERIC:
+            continue
+        values = frame[char.name].to_numpy(dtype=float, na_value=np.nan)
+        infinite = np.isinf(values)
+        if infinite.any():
+            rows = describe_rows((np.flatnonzero(infinite)[:5] + 2).tolist())
+            raise LedgerError(
+                f"{source}, column {char.name!r}, {rows}: {int(infinite.sum())} infinite values. "
+                "Replace them with a number, leave them empty (missing), or declare a special value."
+            )
+
+
+# --------------------------------------------------------------------------------------------
+# Samples
+
+
+def split_samples(outcome: np.ndarray, dates: np.ndarray | None, settings: Settings, *, source: str = "ledger") -> np.ndarray:
+    """Assign each row to the development, hold-out or out-of-time sample.
+
+    Rows dated on or after ``samples.out_of_time_from`` form the out-of-time sample. Of the rest,
+    a seeded random ``holdout_fraction`` of each outcome class (good, bad, indeterminate, unknown)
+    forms the hold-out sample, so that both samples have the same bad rate to within one row.
+
+    Returns
+    -------
+    numpy.ndarray
+        int8 per row: 0 development, 1 hold-out, 2 out-of-time.
+
+    Raises
+    ------
+    LedgerError
+        An out-of-time date is set but the ledger has no date column, or rows have no date.
+    """
+    samples = settings.samples
+    sample = np.zeros(len(outcome), dtype=np.int8)
+    if samples.out_of_time_from:
+        if dates is None:
+            raise LedgerError(
+                f"{source}: samples.out_of_time_from is set but the ledger has no date column. "
+                "Name it as date_column under [ledger], or clear out_of_time_from."
+            )
+        undated = np.isnat(dates)
+        if undated.any():
+            rows = describe_rows((np.flatnonzero(undated)[:5] + 2).tolist())
+            raise LedgerError(
+                f"{source}, column {settings.ledger.date_column!r}, {rows}: no date, so the row cannot be placed "
+                "in or out of time. Fill the dates or remove the rows."
+            )
+        sample[dates >= np.datetime64(samples.out_of_time_from, "D")] = OUT_OF_TIME
+    rng = np.random.default_rng(samples.seed)
+    in_time = sample != OUT_OF_TIME
+    for outcome_class in range(len(OUTCOME_NAMES)):
+        rows = np.flatnonzero(in_time & (outcome == outcome_class))
+        n_holdout = int(round(samples.holdout_fraction * len(rows)))
+        sample[rng.choice(rows, size=n_holdout, replace=False)] = HOLDOUT
+    return sample
