@@ -1,0 +1,318 @@
+"""Tests of scorecard/classing.py: fine classing, the optimal grouping, overrides and coding rows."""
+
+from __future__ import annotations
+
+import itertools
+import math
+
+import numpy as np
+import pandas as pd
+import pytest
+from hypothesis import given, settings, strategies as st
+
+from scorecard.classing import (
+    CATEGORICAL, NUMERIC, Binning, GroupingLimits, binning_from_settings, categorical_binning, check_constraints,
+    code_rows, coarse_classing, fine_classing, numeric_binning, optimal_grouping, quantile_cuts, roundest_between,
+    unseen_levels,
+)
+from scorecard.errors import ClassingError
+from scorecard.evidence import information_value, woe_values
+
+IV_ATOL = 1e-12  # the programme and the enumeration add the same floats in a different order
+HYPOTHESIS = settings(max_examples=200, deadline=None, derandomize=True)
+
+
+# ---------------------------------------------------------------------------------------------
+# Coding rows
+
+
+@given(
+    cuts=st.lists(st.floats(-1e6, 1e6, allow_nan=False), min_size=1, max_size=12, unique=True).map(sorted),
+    values=st.lists(st.floats(-2e6, 2e6, allow_nan=False), min_size=1, max_size=60),
+)
+@HYPOTHESIS
+def test_numeric_codes_equal_pandas_cut_with_the_same_edges(cuts, values):
+    # reference: pandas.cut with right=False gives the same left-closed intervals [c_i, c_i+1)
+    binning = numeric_binning("x", cuts, has_missing=False)
+    codes = code_rows(np.array(values), binning)
+    expected = pd.cut(values, [-np.inf, *cuts, np.inf], right=False, labels=False)
+    np.testing.assert_array_equal(codes, np.asarray(expected, dtype=int))
+
+
+def test_missing_and_special_values_go_to_their_own_bins():
+    binning = numeric_binning("months", [6, 12], special_values=[-1, 999])
+    assert binning.labels == ("under 6", "6 to under 12", "12 and over", "special -1", "special 999", "missing")
+    codes = code_rows(pd.Series([0, 6, 11.99, 12, -1, 999, None, -2]), binning)
+    np.testing.assert_array_equal(codes, [0, 1, 1, 2, 3, 4, 5, 0])
+    assert codes.dtype == np.uint8
+
+
+def test_unseen_levels_go_to_the_fallback_bin_and_are_counted():
+    binning = categorical_binning("housing", [("own",), ("rent", "other")], has_missing=True)
+    binning = Binning(**{**binning.__dict__, "fallback_bin": 1})
+    values = pd.Series(["own", "rent", "boat", None, "other", "boat"])
+    np.testing.assert_array_equal(code_rows(values, binning), [0, 1, 1, 2, 1, 1])
+    assert unseen_levels(values, binning) == {"boat": 2}
+
+
+def test_integer_and_float_levels_are_the_same_level():
+    binning = categorical_binning("region", [("1",), ("2", "3")], has_missing=False)
+    np.testing.assert_array_equal(code_rows(pd.Series([1.0, 2.0, 3.0]), binning), [0, 1, 1])
+    np.testing.assert_array_equal(code_rows(pd.Series([1, 2, 3]), binning), [0, 1, 1])
+
+
+def test_missing_goes_to_the_fallback_when_development_had_none():
+    binning = Binning(**{**numeric_binning("x", [5], has_missing=False).__dict__, "fallback_bin": 1})
+    assert binning.missing_bin == -1
+    np.testing.assert_array_equal(code_rows(np.array([1.0, np.nan]), binning), [0, 1])
+
+
+# ---------------------------------------------------------------------------------------------
+# Fine classing
+
+
+def test_quantile_cuts_leave_no_empty_bin_and_are_round_numbers():
+    rng = np.random.default_rng(3)
+    x = np.round(rng.lognormal(8, 1, size=5000), 2)
+    cuts = quantile_cuts(x, np.ones_like(x), max_bins=20)
+    assert 15 <= len(cuts) <= 19
+    counts = np.bincount(np.searchsorted(cuts, x, side="right"), minlength=len(cuts) + 1)
+    assert counts.min() > 0
+    # each bin holds about a twentieth of the rows (common practice, no source: equal-frequency bins)
+    assert counts.max() / len(x) < 0.12
+    # the data have two decimals; the roundest number in each gap needs at most one
+    assert all(round(c, 1) == c for c in cuts)
+
+
+def test_quantile_cuts_on_few_distinct_values_use_each_value():
+    x = np.repeat([0.0, 1, 2, 3], [500, 300, 150, 50])
+    assert quantile_cuts(x, np.ones_like(x), max_bins=20) == (1.0, 2.0, 3.0)
+
+
+@pytest.mark.parametrize(("low", "high", "expected"), [
+    (1523.37, 1600.2, 1600.0), (0.0, 1.0, 1.0), (5.0, 5000.0, 1000.0), (-1500.0, -1200.0, -1400.0),
+    (0.123, 0.1231, 0.1231), (-0.5, 0.0, 0.0), (99.0, 100.0, 100.0), (12.0, 13.0, 13.0),
+])
+def test_roundest_between(low, high, expected):
+    assert roundest_between(low, high) == expected
+    assert low < roundest_between(low, high) <= high
+
+
+def test_fine_classing_pools_rare_levels():
+    values = pd.Series(["a"] * 500 + ["b"] * 480 + ["c"] * 15 + ["d"] * 5)
+    fine = fine_classing(values, np.ones(len(values)), name="x", kind=CATEGORICAL, rare_level_share=0.02)
+    assert fine.groups == (("a",), ("b",), ("c", "d"))
+    assert fine.labels[-1] == "rare levels (2)"
+
+
+def test_fine_classing_weights_the_quantiles():
+    # hand-worked: total weight 50 + 10·50 = 550; the weighted median (275) is first reached at
+    # x = 72 (50 + 10·23 = 280), so the cut sits between 72 and 73
+    x = np.arange(100, dtype=float)
+    weights = np.where(x >= 50, 10.0, 1.0)
+    assert quantile_cuts(x, weights, max_bins=2) == (73.0,)
+    assert quantile_cuts(x, np.ones_like(x), max_bins=2) == (50.0,)
+
+
+# ---------------------------------------------------------------------------------------------
+# The optimal grouping against brute force
+
+
+def _all_partitions(n):
+    for k in range(n):
+        for inner in itertools.combinations(range(1, n), k):
+            yield (0, *inner)
+
+
+def _brute_force(goods, bads, limits, trend):
+    best, best_iv = None, -np.inf
+    total_goods, total_bads = goods.sum(), bads.sum()
+    for starts in _all_partitions(len(goods)):
+        if len(starts) > limits.max_groups:
+            continue
+        ends = [*starts[1:], len(goods)]
+        g = np.array([goods[s:e].sum() for s, e in zip(starts, ends)])
+        b = np.array([bads[s:e].sum() for s, e in zip(starts, ends)])
+        if ((g + b) < limits.min_rows - 1e-9).any() or (g < limits.min_goods).any() or (b < limits.min_bads).any():
+            continue
+        woe = woe_values(g, b, total_goods, total_bads)
+        if trend == "ascending" and (np.diff(woe) <= 0).any():
+            continue
+        if trend == "descending" and (np.diff(woe) >= 0).any():
+            continue
+        iv = information_value(g, b, total_goods=total_goods, total_bads=total_bads)
+        if iv > best_iv + 1e-15:
+            best, best_iv = starts, iv
+    return best, best_iv
+
+
+def _partition_iv(starts, goods, bads):
+    ends = [*starts[1:], len(goods)]
+    g = np.array([goods[s:e].sum() for s, e in zip(starts, ends)])
+    b = np.array([bads[s:e].sum() for s, e in zip(starts, ends)])
+    return information_value(g, b, total_goods=goods.sum(), total_bads=bads.sum())
+
+
+@given(
+    counts=st.lists(st.tuples(st.integers(0, 60), st.integers(0, 20)), min_size=1, max_size=9),
+    min_rows=st.integers(0, 40), min_goods=st.integers(0, 10), min_bads=st.integers(0, 5),
+    max_groups=st.integers(2, 6), trend=st.sampled_from(["ascending", "descending", "none"]),
+)
+@HYPOTHESIS
+def test_optimal_grouping_equals_brute_force_enumeration(counts, min_rows, min_goods, min_bads, max_groups, trend):
+    # the exact optimum of W. D. Fisher, "On grouping for maximum homogeneity", JASA 1958, with
+    # constraints added, checked against enumerating every partition of the ordered bins
+    goods = np.array([c[0] for c in counts], float)
+    bads = np.array([c[1] for c in counts], float)
+    if goods.sum() == 0 or bads.sum() == 0:
+        return
+    limits = GroupingLimits(min_rows, min_goods, min_bads, max_groups)
+    starts = optimal_grouping(goods, bads, total_goods=goods.sum(), total_bads=bads.sum(), limits=limits, trend=trend)
+    expected, expected_iv = _brute_force(goods, bads, limits, trend)
+    if expected is None:
+        assert starts == (0,)
+    else:
+        assert _partition_iv(starts, goods, bads) == pytest.approx(expected_iv, abs=IV_ATOL)
+
+
+def test_unconstrained_grouping_keeps_every_bin_of_a_monotone_sequence():
+    # merging bins never raises IV (it is a divergence), so with no limits nothing is merged
+    goods = np.array([10.0, 20, 30, 40, 50])
+    bads = np.array([10.0, 8, 6, 4, 2])
+    starts = optimal_grouping(goods, bads, total_goods=150, total_bads=30, limits=GroupingLimits(max_groups=8))
+    assert starts == (0, 1, 2, 3, 4)
+
+
+def test_grouping_respects_max_groups():
+    goods = np.arange(1, 11, dtype=float) * 10
+    bads = np.full(10, 10.0)
+    starts = optimal_grouping(goods, bads, total_goods=goods.sum(), total_bads=bads.sum(), limits=GroupingLimits(max_groups=3))
+    assert len(starts) == 3
+
+
+# ---------------------------------------------------------------------------------------------
+# Coarse classing
+
+
+def _synthetic(n=6000, seed=11):
+    rng = np.random.default_rng(seed)
+    x = rng.gamma(2.0, 50.0, size=n)
+    p_bad = 1 / (1 + np.exp(-(-1.0 - 0.01 * x)))
+    bad = rng.random(n) < p_bad
+    x[rng.random(n) < 0.05] = np.nan
+    x[rng.random(n) < 0.04] = -1
+    return x, bad
+
+
+def _fine_counts(fine, x, bad):
+    codes = code_rows(x, fine)
+    goods = np.bincount(codes[~bad], minlength=fine.n_bins).astype(float)
+    bads = np.bincount(codes[bad], minlength=fine.n_bins).astype(float)
+    return goods, bads
+
+
+def test_coarse_classing_is_monotone_and_meets_every_limit():
+    x, bad = _synthetic()
+    fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC, special_values=[-1])
+    goods, bads = _fine_counts(fine, x, bad)
+    result = coarse_classing(fine, goods, bads, min_group_share=0.05, min_goods=10, min_bads=10, max_groups=8)
+    binning = result.binning
+    assert binning.trend == "ascending"  # higher x, fewer bads in this invented process
+    coarse_goods = np.bincount(result.fine_to_coarse, weights=goods, minlength=binning.n_bins)
+    coarse_bads = np.bincount(result.fine_to_coarse, weights=bads, minlength=binning.n_bins)
+    woe = woe_values(coarse_goods, coarse_bads, goods.sum(), bads.sum())
+    assert (np.diff(woe[: binning.n_chain]) > 0).all()
+    assert check_constraints(binning, coarse_goods, coarse_bads, min_group_share=0.05, min_goods=10, min_bads=10,
+                             max_groups=8, trend="ascending") == []
+    assert "missing" in binning.labels and "special -1" in binning.labels
+    assert result.iv == pytest.approx(information_value(coarse_goods, coarse_bads))
+    # coding the rows with the coarse binning gives the counts aggregated from the fine bins
+    codes = code_rows(x, binning)
+    np.testing.assert_array_equal(np.bincount(codes[~bad], minlength=binning.n_bins), coarse_goods)
+
+
+@given(seed=st.integers(0, 10_000), share=st.sampled_from([0.02, 0.05, 0.1]), groups=st.integers(2, 8))
+@settings(max_examples=30, deadline=None, derandomize=True)
+def test_coarse_classing_property_monotone_and_within_limits(seed, share, groups):
+    x, bad = _synthetic(n=2000, seed=seed)
+    fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC, special_values=[-1])
+    goods, bads = _fine_counts(fine, x, bad)
+    result = coarse_classing(fine, goods, bads, min_group_share=share, min_goods=5, min_bads=5, max_groups=groups)
+    binning = result.binning
+    if binning.n_chain == 1:
+        return
+    codes = code_rows(x, binning)
+    g = np.bincount(codes[~bad], minlength=binning.n_bins).astype(float)
+    b = np.bincount(codes[bad], minlength=binning.n_bins).astype(float)
+    chain_woe = woe_values(g, b, g.sum(), b.sum())[: binning.n_chain]
+    assert (np.diff(chain_woe) > 0).all() or (np.diff(chain_woe) < 0).all() or result.notes
+    assert binning.n_chain <= groups
+    rows = (g + b)[: binning.n_chain]
+    assert (rows >= share * (g.sum() + b.sum()) - 1e-9).all()
+    # counts over bins sum to the sample totals
+    assert g.sum() == (~bad).sum() and b.sum() == bad.sum()
+
+
+def test_small_missing_bin_joins_the_group_with_the_nearest_woe():
+    x, bad = _synthetic()
+    x[np.isnan(x)] = 5.0
+    x[:20] = np.nan  # 20 rows: too small to stand
+    fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC)
+    goods, bads = _fine_counts(fine, x, bad)
+    result = coarse_classing(fine, goods, bads, min_special_share=0.01)
+    assert "missing" not in result.binning.labels
+    assert 0 <= result.binning.missing_bin < result.binning.n_chain
+    assert any("missing bin (20 rows" in note for note in result.notes)
+
+
+def test_categorical_levels_are_grouped_in_bad_rate_order():
+    rng = np.random.default_rng(5)
+    levels = np.array(list("abcdefgh"))
+    rate = dict(zip(levels, [0.02, 0.30, 0.05, 0.25, 0.10, 0.15, 0.04, 0.28]))
+    values = rng.choice(levels, size=8000)
+    bad = rng.random(8000) < np.vectorize(rate.get)(values)
+    fine = fine_classing(pd.Series(values), np.ones(8000), name="c", kind=CATEGORICAL)
+    goods, bads = _fine_counts(fine, pd.Series(values), bad)
+    binning = coarse_classing(fine, goods, bads, max_groups=4).binning
+    assert binning.n_chain <= 4
+    order = [level for group in binning.groups for level in group]
+    bad_rates = [rate[level] for level in order]
+    assert bad_rates == sorted(bad_rates, reverse=True)  # worst first: WoE ascends along the chain
+
+
+# ---------------------------------------------------------------------------------------------
+# Overrides
+
+
+def test_override_cuts_are_used_as_given_and_breaks_are_reported():
+    binning = binning_from_settings("x", NUMERIC, cuts=[10, 20], special_values=[-1], specials=["own"], missing=2)
+    assert binning.cuts == (10.0, 20.0)
+    assert binning.missing_bin == 1
+    assert binning.labels == ("under 10", "10 to under 20", "20 and over", "special -1")
+    goods = np.array([5.0, 50, 500, 40])
+    bads = np.array([5.0, 20, 10, 30])
+    problems = check_constraints(binning, goods, bads, min_group_share=0.05, min_goods=10, min_bads=10,
+                                 max_groups=8, trend="ascending")
+    assert any("group 1 (under 10)" in p and "5 goods" in p for p in problems)
+
+
+def test_override_group_number_out_of_range_is_an_error():
+    with pytest.raises(ClassingError, match="characteristics.x.missing = 4: there are only 3 groups"):
+        binning_from_settings("x", NUMERIC, cuts=[1, 2], missing=4)
+
+
+def test_override_of_the_wrong_kind_is_an_error():
+    with pytest.raises(ClassingError, match="'x' is categorical: fix its classing with groups"):
+        binning_from_settings("x", CATEGORICAL, cuts=[1, 2])
+
+
+def test_special_value_absent_in_development_goes_to_the_fallback():
+    binning = binning_from_settings("x", NUMERIC, cuts=[1], special_values=[-1, 999], present_specials=[-1])
+    assert binning.special_bins == (2, -1)
+    assert binning.labels == ("under 1", "1 and over", "special -1", "missing")
+
+
+def test_binning_round_trips_through_plain_values():
+    binning = binning_from_settings("x", NUMERIC, cuts=[1.5, 7], special_values=[-1], missing=1)
+    assert Binning.from_dict("x", binning.to_dict()) == binning
+    assert math.isclose(binning.cuts[0], 1.5)
