@@ -6,20 +6,26 @@ This module only wires the stages together; each stage's arithmetic lives in its
 
 from __future__ import annotations
 
+import os
 import warnings
-from collections.abc import Callable, Iterable
-from dataclasses import dataclass
+from collections.abc import Callable, Iterable, Mapping
+from dataclasses import dataclass, replace
+from pathlib import Path
 
 import numpy as np
+import pandas as pd
 
+from .checks.discrimination import auc, ks_statistic
 from .classing import (
-    NUMERIC, Binning, binning_from_settings, check_constraints, code_rows, coarse_classing, fine_classing,
-    resolve_fallback, unseen_levels,
+    NUMERIC, Binning, binning_from_settings, check_constraints, classing_settings_values, code_rows, coarse_classing,
+    fine_classing, resolve_fallback, unseen_levels,
 )
-from .counting import BinCounts, count_bins
+from .counting import BinCounts, count_bins, pattern_table
 from .errors import ScorecardWarning
 from .evidence import EvidenceTable, evidence_table
-from .ledger import BAD, DEVELOPMENT, GOOD, SAMPLE_NAMES, Ledger
+from .ledger import BAD, DEVELOPMENT, GOOD, SAMPLE_NAMES, Fingerprint, Ledger, fingerprint_of, prepare_ledger, read_ledger
+from .points import PointsTable, Scorecard, ScoreHistogram, points_table, scaling, score_codes, score_histogram
+from .selection import SelectionResult, select_characteristics
 from .settings import Settings
 
 
@@ -186,3 +192,148 @@ def _classed(binning: Binning, counts: BinCounts, origin: str, notes, settings: 
             "0.5 was added to both counts to keep their WoE finite. Group them with a neighbour to avoid this."
         )
     return ClassedCharacteristic(binning, counts, evidence, origin, tuple(notes))
+
+
+# --------------------------------------------------------------------------------------------
+# The whole build
+
+
+@dataclass(frozen=True)
+class Build:
+    """Everything one build produced: the scorecard and the evidence behind it.
+
+    Attributes
+    ----------
+    settings : Settings
+        The settings used, with every characteristic's classing written out (so that the next
+        build is reproducible from them).
+    source : str
+        The ledger's name.
+    fingerprint : Fingerprint
+    samples : pandas.DataFrame
+        Rows, goods, bads, indeterminates and unknowns per sample.
+    characteristics : tuple of ClassedCharacteristic
+        Every characteristic classed, with its counts per sample.
+    selection : SelectionResult
+    scorecard : Scorecard
+    histograms : dict of str to ScoreHistogram
+        Score histogram per sample name.
+    notes : tuple of str
+        Every repair, left-out column and broken constraint, for the report.
+    """
+
+    settings: Settings
+    source: str
+    fingerprint: Fingerprint
+    samples: pd.DataFrame
+    characteristics: tuple[ClassedCharacteristic, ...]
+    selection: SelectionResult
+    scorecard: Scorecard
+    histograms: Mapping[str, ScoreHistogram]
+    notes: tuple[str, ...]
+
+    def characteristic(self, name: str) -> ClassedCharacteristic:
+        """Return one classed characteristic by name."""
+        return next(c for c in self.characteristics if c.name == name)
+
+    def performance(self) -> dict[str, dict[str, float]]:
+        """Return AUC, Gini and KS per sample that has goods and bads."""
+        figures = {}
+        for sample, histogram in self.histograms.items():
+            if histogram.goods.sum() > 0 and histogram.bads.sum() > 0:
+                area = auc(histogram.scores, histogram.goods, histogram.bads)
+                ks = ks_statistic(histogram.scores, histogram.goods, histogram.bads)
+                figures[sample] = {"auc": area.auc, "gini": area.gini, "ks": ks.statistic}
+        return figures
+
+
+def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settings: Settings, *,
+                    progress: Callable[[Iterable], Iterable] = lambda items: items) -> Build:
+    """Run the whole build: classing, selection, fit, points, histograms.
+
+    Parameters
+    ----------
+    data : Ledger, pandas.DataFrame or path
+        A checked ledger, or a DataFrame or file to read and check with the settings.
+    settings : Settings
+    progress : callable
+        Wraps the loop over characteristics (a progress bar in a terminal).
+
+    Returns
+    -------
+    Build
+
+    Raises
+    ------
+    FitError
+        The model cannot be fitted; the message names the characteristics involved.
+    LedgerError
+        The data do not fit the settings.
+
+    Example
+    -------
+    >>> build = build_scorecard(frame, Settings().replace(outcome={"column": "outcome", "bad": ["bad"]}))  # doctest: +SKIP
+    >>> build.scorecard.score(new_applications, reason_count=4)  # doctest: +SKIP
+    """
+    ledger = data if isinstance(data, Ledger) else load_ledger(data, settings)
+    classed = class_ledger(ledger, settings, progress=progress)
+    names = classed.names
+    fitting = (ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD))
+    goods = np.where(ledger.outcome == GOOD, ledger.weight, 0.0)
+    bads = np.where(ledger.outcome == BAD, ledger.weight, 0.0)
+    patterns = pattern_table(classed.codes[fitting], goods[fitting], bads[fitting], characteristics=names)
+    forced = [name for name in names if settings.characteristic(name).use == "always"]
+    selection = select_characteristics(
+        patterns, {c.name: c.evidence.woe for c in classed.characteristics},
+        {c.name: c.evidence.iv for c in classed.characteristics},
+        forced=forced, selection=settings.selection, fit=settings.fit,
+    )
+    table = _points(selection, classed, settings)
+    binnings = tuple(classed.get(name).binning for name in table.names)
+    scorecard = Scorecard(table, binnings, settings.ledger.id_column)
+    columns = [names.index(name) for name in table.names]
+    scores = score_codes(classed.codes[:, columns], table)
+    histograms = {
+        SAMPLE_NAMES[s]: score_histogram(scores[rows], ledger.outcome[rows] == GOOD, ledger.outcome[rows] == BAD,
+                                         ledger.weight[rows], sample=SAMPLE_NAMES[s])
+        for s in range(len(SAMPLE_NAMES)) if (rows := ledger.sample == s).any()
+    }
+    resolved = _resolved_settings(settings, classed)
+    notes = (*ledger.notes, *classed.notes)
+    return Build(resolved, ledger.source, ledger.fingerprint, ledger.sample_summary(), classed.characteristics,
+                 selection, scorecard, histograms, notes)
+
+
+def load_ledger(data: pd.DataFrame | str | os.PathLike[str], settings: Settings, *, require_outcome: bool = True) -> Ledger:
+    """Read (if a path) and check a ledger against the settings."""
+    frame = read_ledger(data)
+    if isinstance(data, pd.DataFrame):
+        return prepare_ledger(frame, settings, require_outcome=require_outcome)
+    return prepare_ledger(frame, settings, source=Path(data).name, fingerprint=fingerprint_of(data, len(frame)),
+                          require_outcome=require_outcome)
+
+
+def _points(selection: SelectionResult, classed: ClassedLedger, settings: Settings) -> PointsTable:
+    fit = selection.fit
+    coefficients = dict(zip(fit.names[1:], fit.coefficients[1:]))
+    position = {name: i for i, name in enumerate(classed.names, start=1)}
+    specs = {name: settings.characteristic(name) for name in coefficients}
+    return points_table(
+        coefficients, float(fit.coefficients[0]),
+        {name: classed.get(name).evidence.woe for name in coefficients},
+        {name: classed.get(name).binning.labels for name in coefficients},
+        scaling(base_score=settings.scaling.base_score, base_odds=settings.scaling.base_odds, pdo=settings.scaling.pdo),
+        decimals=settings.scaling.decimals,
+        reason_codes={name: specs[name].reason_code or f"R{position[name]:02d}" for name in coefficients},
+        reason_labels={name: specs[name].label for name in coefficients if specs[name].label},
+    )
+
+
+def _resolved_settings(settings: Settings, classed: ClassedLedger) -> Settings:
+    """Return the settings with every characteristic's classing written out."""
+    characteristics = dict(settings.characteristics)
+    for char in classed.characteristics:
+        spec = settings.characteristic(char.name)
+        characteristics[char.name] = replace(spec, kind=char.binning.kind, use=spec.use or "auto",
+                                             **classing_settings_values(char.binning))
+    return replace(settings, characteristics=characteristics)

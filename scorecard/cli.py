@@ -9,6 +9,7 @@ for developers). Results go to stdout; messages, warnings and errors to stderr.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import sys
 import warnings
 from collections.abc import Iterable, Sequence
@@ -76,6 +77,31 @@ class InitOptions:
     force: bool = False
 
 
+@dataclass(frozen=True)
+class BuildOptions:
+    """Options of ``scorewright build``."""
+
+    source: Path
+    target: str | None = None
+    bad: tuple[str, ...] = ()
+    good: tuple[str, ...] = ()
+    indeterminate: tuple[str, ...] = ()
+    out: Path | None = None
+    force: bool = False
+    reports: bool = True
+
+
+@dataclass(frozen=True)
+class ScoreOptions:
+    """Options of ``scorewright score``."""
+
+    model: Path
+    ledger: Path
+    out: Path
+    reasons: int | None = None
+    force: bool = False
+
+
 # --------------------------------------------------------------------------------------------
 # The parser
 
@@ -96,6 +122,8 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"scorewright {_version()}")
     commands = parser.add_subparsers(dest="command", metavar="COMMAND")
     _add_init(commands)
+    _add_build(commands)
+    _add_score(commands)
     return parser
 
 
@@ -151,6 +179,69 @@ def _run_init(options: InitOptions, streams: Streams) -> int:
     return run_init(options, streams)
 
 
+def _add_build(commands) -> None:
+    parser = commands.add_parser(
+        "build", help="build the scorecard from a settings file (or straight from a ledger)",
+        description=(
+            "Build the scorecard the settings file describes: classing, selection, fit, points, checks. "
+            "Writes model.json, the resolved settings.toml, report.html and workbook.xlsx into the output folder. "
+            "Given a ledger instead of a settings file, builds with the default settings and the proposed classing."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_examples(
+            "scorewright build scorecard.toml --out run1/",
+            "scorewright build ledger.csv --target outcome --bad bad --out quick/",
+        ),
+    )
+    parser.add_argument("source", type=Path, metavar="SETTINGS_OR_LEDGER", help="a settings file (.toml) or a ledger")
+    parser.add_argument("--target", metavar="COLUMN", help="the outcome column (only when building straight from a ledger)")
+    parser.add_argument("--bad", nargs="+", default=(), metavar="VALUE", help="outcome values meaning bad (ledger only)")
+    parser.add_argument("--good", nargs="+", default=(), metavar="VALUE", help="outcome values meaning good (ledger only)")
+    parser.add_argument("--indeterminate", nargs="+", default=(), metavar="VALUE", help="outcome values meaning neither (ledger only)")
+    parser.add_argument("--out", type=Path, metavar="DIR", help="output folder (default: NAME-build beside the settings file or ledger)")
+    parser.add_argument("--force", action="store_true", help="write into the output folder even if it exists")
+    parser.add_argument("--no-reports", dest="reports", action="store_false", help="write model.json and settings.toml only")
+    _add_common(parser)
+    parser.set_defaults(
+        make_options=lambda a: BuildOptions(a.source, a.target, tuple(a.bad), tuple(a.good), tuple(a.indeterminate), a.out, a.force, a.reports),
+        run=_run_build,
+    )
+
+
+def _run_build(options: BuildOptions, streams: Streams) -> int:
+    from .commands import run_build
+
+    return run_build(options, streams)
+
+
+def _add_score(commands) -> None:
+    parser = commands.add_parser(
+        "score", help="score new applications with a saved model",
+        description=(
+            "Score every row of a ledger with a saved model. Writes one row per application: the id "
+            "(or the row number), score, probability of default (pd) and the reasons that cost it the most points."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_examples(
+            "scorewright score run1/model.json applications.csv --out scored.csv",
+            "scorewright score run1/model.json applications.parquet --out scored.parquet --reasons 2",
+        ),
+    )
+    parser.add_argument("model", type=Path, help="model.json written by 'scorewright build'")
+    parser.add_argument("ledger", type=Path, help="applications to score: CSV, Parquet or .xlsx")
+    parser.add_argument("--out", type=Path, required=True, metavar="FILE", help="scored file to write (.csv or .parquet)")
+    parser.add_argument("--reasons", type=int, metavar="N", help="reasons per application (default: reasons.count of the model's settings)")
+    parser.add_argument("--force", action="store_true", help="overwrite FILE if it exists")
+    _add_common(parser)
+    parser.set_defaults(make_options=lambda a: ScoreOptions(a.model, a.ledger, a.out, a.reasons, a.force), run=_run_score)
+
+
+def _run_score(options: ScoreOptions, streams: Streams) -> int:
+    from .commands import run_score
+
+    return run_score(options, streams)
+
+
 # --------------------------------------------------------------------------------------------
 # Entry points
 
@@ -168,7 +259,9 @@ def main(argv: Sequence[str] | None = None, *, stdout: IO[str] | None = None, st
     out, err = stdout or sys.stdout, stderr or sys.stderr
     parser = build_parser()
     try:
-        args = parser.parse_args(argv)
+        # argparse prints usage errors and --help to the process's streams; send them to ours
+        with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+            args = parser.parse_args(argv)
     except SystemExit as exit_:  # argparse exits with 2 on usage errors and 0 on --help
         return int(exit_.code or 0)
     if args.command is None:

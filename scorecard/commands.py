@@ -8,23 +8,31 @@ messages and exit codes. Heavy libraries are imported here, not in ``cli.py``, s
 from __future__ import annotations
 
 import os
+import tempfile
 from dataclasses import replace
 from pathlib import Path
 
-from .build import ClassedLedger, class_ledger
+import numpy as np
+
+from .build import ClassedLedger, build_scorecard, class_ledger
 from .classing import classing_settings_values
-from .cli import EXIT_OK, InitOptions, Streams
+from .cli import EXIT_OK, BuildOptions, InitOptions, ScoreOptions, Streams
 from .errors import LedgerError, SettingsError
 from .ledger import (
     NUMERIC, closest_names, default_outcome_mapping, detect_kind, fingerprint_of, looks_like_identifier_or_date,
     outcome_key, prepare_ledger, read_ledger,
 )
-from .settings import CharacteristicSettings, Settings, write_settings
+from .modelfile import load_model, model_document, save_model
+from .settings import CharacteristicSettings, Settings, read_settings, write_settings, write_text_atomically
 
 
 def run_init(options: InitOptions, streams: Streams) -> int:
     """Read a ledger, propose a classing, write the settings file and print the IV table."""
     out = options.out
+    if out.exists() and options.ledger.exists() and out.samefile(options.ledger):
+        raise SettingsError(f"{out}: this is the ledger itself; choose another name for the settings file with --out.")
+    if out.is_dir():
+        raise SettingsError(f"{out}: is a folder. Give --out the name of the settings file to write, e.g. {out / 'scorecard.toml'}.")
     if out.exists() and not options.force:
         raise SettingsError(f"{out}: the settings file exists already. Pass --force to overwrite it, or choose another name with --out.")
     frame = read_ledger(options.ledger)
@@ -50,19 +58,33 @@ def run_init(options: InitOptions, streams: Streams) -> int:
 
 def _initial_settings(frame, options: InitOptions, source: str) -> Settings:
     """Settings from the command line: outcome mapping, role columns, special values."""
+    return command_line_settings(
+        frame, ledger=options.ledger, target=options.target, bad=options.bad, good=options.good,
+        indeterminate=options.indeterminate, id_column=options.id_column, date_column=options.date_column,
+        weight_column=options.weight_column, special=options.special, folder=options.out.resolve().parent, source=source,
+    )
+
+
+def command_line_settings(frame, *, ledger: Path, target: str, bad=(), good=(), indeterminate=(), id_column=None,
+                          date_column=None, weight_column=None, special=(), folder: Path, source: str) -> Settings:
+    """Return settings for a ledger from command-line choices, detecting the id and date columns."""
     columns = [str(c) for c in frame.columns]
-    if options.target not in columns:
-        raise LedgerError(f"{source}: outcome column {options.target!r} not found.{closest_names(options.target, columns)}")
-    bad, good = _outcome_lists(frame[options.target], options, source)
-    id_column = options.id_column if options.id_column is not None else _detect_role(frame, options, "identifier")
-    date_column = options.date_column if options.date_column is not None else _detect_role(frame, options, "dates")
-    ledger_path = os.path.relpath(options.ledger.resolve(), options.out.resolve().parent)
-    specials = _special_values(options.special, columns, source)
+    if target not in columns:
+        raise LedgerError(f"{source}: outcome column {target!r} not found.{closest_names(target, columns)}")
+    choice = InitOptions(ledger=ledger, target=target, bad=tuple(bad), good=tuple(good), indeterminate=tuple(indeterminate),
+                         id_column=id_column, date_column=date_column, weight_column=weight_column)
+    bad, good = _outcome_lists(frame[target], choice, source)
+    if id_column is None:
+        id_column = _detect_role(frame, choice, "identifier")
+    if date_column is None:
+        date_column = _detect_role(frame, choice, "dates")
+    specials = _special_values(special, columns, source)
     return Settings().replace(
-        ledger={"path": ledger_path, "id_column": id_column or "", "date_column": date_column or "",
-                "weight_column": options.weight_column or ""},
-        outcome={"column": options.target, "bad": bad, "good": good, "indeterminate": options.indeterminate},
+        ledger={"path": os.path.relpath(ledger.resolve(), folder), "id_column": id_column or "",
+                "date_column": date_column or "", "weight_column": weight_column or ""},
+        outcome={"column": target, "bad": bad, "good": good, "indeterminate": tuple(indeterminate)},
         characteristics={name: CharacteristicSettings(special_values=values) for name, values in specials.items()},
+        folder=str(folder),
     )
 
 
@@ -76,6 +98,11 @@ def _outcome_lists(column, options: InitOptions, source: str) -> tuple[tuple[str
             raise LedgerError(f"{source}, column {options.target!r}: say which outcome values mean bad with --bad (the column holds {shown}).")
         return default
     named = [*options.bad, *options.good, *options.indeterminate]
+    repeated = [v for v in dict.fromkeys(named) if named.count(v) > 1]
+    if repeated:
+        raise SettingsError(
+            f"outcome value {repeated[0]!r} is given more than once among --bad, --good and --indeterminate. Give each value once."
+        )
     absent = [v for v in named if v not in values]
     if absent:
         raise LedgerError(
@@ -161,3 +188,133 @@ def iv_table(classed: ClassedLedger, left_out: dict[str, str] | None = None) -> 
         lines.append(f"{name}: left out ({why})")
     return "\n".join(lines)
 
+
+
+# --------------------------------------------------------------------------------------------
+# build
+
+
+def run_build(options: BuildOptions, streams: Streams) -> int:
+    """Build the scorecard and write the model file, the resolved settings and the reports."""
+    settings, ledger_path = _build_settings(options)
+    out = options.out or ledger_path.parent / f"{options.source.stem}-build"
+    check_output_folder(out, options.force)
+    frame = read_ledger(ledger_path)
+    streams.note(f"read {len(frame):,} rows and {frame.shape[1]} columns from {ledger_path.name}")
+    ledger = prepare_ledger(frame, settings, source=ledger_path.name, fingerprint=fingerprint_of(ledger_path, len(frame)))
+    build = build_scorecard(ledger, settings, progress=lambda items: streams.progress(items, "classing"))
+    resolved = replace(build.settings, ledger=replace(build.settings.ledger, path=os.path.relpath(ledger_path.resolve(), out.resolve())))
+    document = model_document(replace(build, settings=resolved))
+    summary = build_summary(build)
+    written = [
+        save_model(document, out / "model.json"),
+        write_settings(resolved, out / "settings.toml", header=(
+            "The settings this build used, every classing written out: 'scorewright build' on this file\n"
+            "reproduces the same model file."
+        )),
+        write_text_atomically(out / "summary.txt", summary + "\n"),
+    ]
+    streams.say(summary)
+    streams.say()
+    streams.say("written: " + ", ".join(str(path) for path in written))
+    return EXIT_OK
+
+
+def _build_settings(options: BuildOptions) -> tuple[Settings, Path]:
+    source = options.source
+    if source.suffix.lower() == ".toml":
+        if options.target or options.bad or options.good:
+            raise SettingsError(f"{source}: --target, --bad and --good are for building straight from a ledger; with a settings file, set them under [outcome].")
+        settings = read_settings(source)
+        if not settings.ledger.path:
+            raise SettingsError(f"{source}: no ledger named. Set path under [ledger] to the ledger file.")
+        return settings, settings.ledger_path()
+    if not options.target:
+        raise SettingsError(f"{source}: building straight from a ledger needs --target COLUMN (or give a settings file written by 'scorewright init').")
+    frame = read_ledger(source)
+    settings = command_line_settings(frame, ledger=source, target=options.target, bad=options.bad, good=options.good,
+                                     indeterminate=options.indeterminate, folder=source.resolve().parent, source=source.name)
+    return settings, source
+
+
+def check_output_folder(out: Path, force: bool) -> None:
+    """Refuse to write into an existing folder without --force; refuse a file in its place."""
+    if out.exists() and not out.is_dir():
+        raise SettingsError(f"{out}: exists and is not a folder. Choose another --out.")
+    if out.exists() and any(out.iterdir()) and not force:
+        raise SettingsError(f"{out}: the output folder exists and is not empty. Pass --force to write into it, or choose another --out.")
+
+
+def build_summary(build) -> str:
+    """Return the short text summary of a build: samples, characteristics with coefficients, figures per sample."""
+    samples = build.samples
+    counts = ", ".join(f"{name} {int(samples.loc[name, 'rows']):,}" for name in samples.index if samples.loc[name, "rows"] > 0)
+    fit = build.selection.fit
+    lines = [f"scorecard built from {build.source} ({build.fingerprint.n_rows:,} rows: {counts})", ""]
+    rows = [("characteristic", "coefficient", "std error", "IV")]
+    for name, coefficient, error in zip(fit.names[1:], fit.coefficients[1:], fit.std_errors[1:]):
+        rows.append((name, f"{coefficient:.4f}", f"{error:.4f}", f"{build.characteristic(name).evidence.iv:.4f}"))
+    lines += _aligned(rows, numeric=(1, 2, 3))
+    lines += ["", f"intercept {fit.coefficients[0]:.4f}; {len(fit.names) - 1} characteristics; scores from "
+              f"{build.scorecard.table.min_score:g} to {build.scorecard.table.max_score:g}", ""]
+    figures = [("sample", "AUC", "Gini", "KS")]
+    for sample, values in build.performance().items():
+        figures.append((sample, f"{values['auc']:.4f}", f"{values['gini']:.4f}", f"{values['ks']:.4f}"))
+    lines += _aligned(figures, numeric=(1, 2, 3))
+    return "\n".join(lines)
+
+
+def _aligned(rows, *, numeric=()) -> list[str]:
+    widths = [max(len(row[i]) for row in rows) for i in range(len(rows[0]))]
+    return ["  ".join(cell.rjust(w) if i in numeric else cell.ljust(w) for i, (cell, w) in enumerate(zip(row, widths))).rstrip()
+            for row in rows]
+
+
+# --------------------------------------------------------------------------------------------
+# score
+
+
+def run_score(options: ScoreOptions, streams: Streams) -> int:
+    """Score a ledger with a saved model and write the scored file."""
+    if options.out.exists() and not options.force:
+        raise SettingsError(f"{options.out}: the file exists. Pass --force to overwrite it, or choose another --out.")
+    if options.out.suffix.lower() not in (".csv", ".parquet"):
+        raise SettingsError(f"{options.out}: write the scored file as .csv or .parquet.")
+    saved = load_model(options.model)
+    frame = read_ledger(options.ledger)
+    scorecard = saved.scorecard
+    count = saved.settings.reasons.count if options.reasons is None else options.reasons
+    if count < 0:
+        raise SettingsError(f"--reasons {count}: give 0 or more reasons.")
+    scored = scorecard.score(frame, reason_count=count, source=options.ledger.name)
+    for name, levels in scorecard.unseen(frame).items():
+        shown = ", ".join(f"{level!r} ({n} rows)" for level, n in list(levels.items())[:5])
+        fallback = next(b for b in scorecard.binnings if b.characteristic == name)
+        streams.warn(f"{options.ledger.name}, column {name!r}: levels never seen at build time: {shown}"
+                     f"{' and more' if len(levels) > 5 else ''}; scored as {fallback.labels[fallback.fallback_bin]!r}.")
+    id_column = scorecard.id_column
+    if id_column and id_column in frame.columns:
+        scored.insert(0, id_column, frame[id_column].to_numpy())
+    else:
+        scored.insert(0, "row", np.arange(2, len(frame) + 2))  # as a spreadsheet numbers them: header is row 1
+    write_table_atomically(scored, options.out)
+    streams.note(f"scored {len(scored):,} applications; scores from {scored['score'].min():g} to {scored['score'].max():g}")
+    streams.say(f"written: {options.out}")
+    return EXIT_OK
+
+
+def write_table_atomically(frame, path: Path) -> Path:
+    """Write a table as CSV or Parquet under a temporary name, then rename it into place."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    os.close(handle)
+    try:
+        if path.suffix.lower() == ".parquet":
+            frame.to_parquet(temporary, index=False)
+        else:
+            frame.to_csv(temporary, index=False)
+        os.replace(temporary, path)
+    except BaseException:
+        Path(temporary).unlink(missing_ok=True)
+        raise
+    return path

@@ -1,0 +1,312 @@
+"""Choosing the characteristics of the model, with every decision and its reason on record.
+
+The steps, in order: characteristics the settings force out never enter; the IV screen; the
+leakage flag; of two WoE columns correlated above the threshold, the one with the lower IV
+leaves; stepwise choice (forward, backward or both, by p-value or by BIC); and the reversal
+check: a characteristic whose coefficient comes out negative (a reversal of its WoE's meaning)
+is removed and the model refitted, unless the settings force it in. All of it works on the
+development pattern table; no rows are read.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+from scipy import stats
+
+from .counting import PatternTable
+from .errors import FitError
+from .logistic import FitResult, fit_logistic
+from .settings import FitSettings, SelectionSettings
+
+
+@dataclass(frozen=True)
+class Decision:
+    """One entry of the selection log.
+
+    Attributes
+    ----------
+    step : str
+        'forced', 'screen', 'leakage', 'correlation', 'stepwise' or 'reversal'.
+    characteristic : str
+    action : str
+        'forced in', 'left out', 'flagged', 'kept', 'entered' or 'removed'.
+    reason : str
+        Why, in a sentence a reviewer can check.
+    value : float or None
+        The figure the decision turned on (an IV, a correlation, a p-value, a BIC, a coefficient).
+    """
+
+    step: str
+    characteristic: str
+    action: str
+    reason: str
+    value: float | None = None
+
+
+@dataclass(frozen=True)
+class SelectionResult:
+    """The chosen characteristics, the final fit and the log of every decision."""
+
+    chosen: tuple[str, ...]
+    fit: FitResult
+    log: tuple[Decision, ...]
+    correlations: pd.DataFrame
+    vif: Mapping[str, float]
+
+    def to_frame(self) -> pd.DataFrame:
+        """Return the selection log as a table."""
+        return pd.DataFrame([d.__dict__ for d in self.log], columns=["step", "characteristic", "action", "reason", "value"])
+
+
+def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[float]], iv: Mapping[str, float], *,
+                           forced: Sequence[str] = (), selection: SelectionSettings = SelectionSettings(),
+                           fit: FitSettings = FitSettings()) -> SelectionResult:
+    """Choose the model's characteristics and fit it.
+
+    Parameters
+    ----------
+    patterns : PatternTable
+        Development patterns of every candidate characteristic's bin codes, with goods and bads.
+    woe : mapping of str to sequence of float
+        Development WoE of each bin, per candidate.
+    iv : mapping of str to float
+        Development IV per candidate.
+    forced : sequence of str
+        Characteristics the settings force in (``use = "always"``).
+    selection, fit : settings sections
+
+    Returns
+    -------
+    SelectionResult
+
+    Raises
+    ------
+    FitError
+        The final model cannot be fitted (separation or linear dependence among forced
+        characteristics); the message names them.
+    """
+    log: list[Decision] = []
+    design = _WoeDesign(patterns, woe, fit)
+    candidates = [name for name in patterns.characteristics]
+    for name in forced:
+        log.append(Decision("forced", name, "forced in", "use = always in the settings"))
+    candidates = _screen(candidates, iv, forced, selection, log)
+    candidates = _decorrelate(candidates, iv, forced, design, selection, log)
+    chosen = _stepwise(candidates, forced, design, selection, log)
+    chosen, result = _remove_reversals(chosen, forced, design, log)
+    correlations = design.correlation(candidates)
+    return SelectionResult(tuple(chosen), result, tuple(log), correlations, variance_inflation(design.correlation(chosen)))
+
+
+class _WoeDesign:
+    """WoE-coded columns of the pattern table, and fits on subsets of them."""
+
+    def __init__(self, patterns: PatternTable, woe: Mapping[str, Sequence[float]], fit: FitSettings):
+        self.patterns = patterns
+        self.columns = {name: np.asarray(woe[name], float)[patterns.column(name)] for name in patterns.characteristics}
+        self.fit_settings = fit
+        self.weights = patterns.goods + patterns.bads
+
+    def matrix(self, names: Sequence[str]) -> np.ndarray:
+        if not names:
+            return np.zeros((self.patterns.n_patterns, 0))
+        return np.column_stack([self.columns[name] for name in names])
+
+    def fit(self, names: Sequence[str]) -> FitResult:
+        settings = self.fit_settings
+        return fit_logistic(self.matrix(names), self.patterns.goods, self.patterns.bads, names=list(names),
+                            solver=settings.solver, l2=settings.l2, max_iterations=settings.max_iterations)
+
+    def correlation(self, names: Sequence[str]) -> pd.DataFrame:
+        return pd.DataFrame(weighted_correlation(self.matrix(names), self.weights), index=list(names), columns=list(names))
+
+    def good_probability(self, fit: FitResult | None) -> np.ndarray:
+        if fit is None:  # intercept only: every pattern at the overall good rate
+            share = self.patterns.goods.sum() / self.weights.sum()
+            return np.full(self.patterns.n_patterns, share)
+        names = list(fit.names[1:])
+        log_odds = fit.coefficients[0] + self.matrix(names) @ fit.coefficients[1:]
+        return 1.0 / (1.0 + np.exp(-log_odds))
+
+
+def weighted_correlation(matrix: np.ndarray, weights: np.ndarray) -> np.ndarray:
+    """Return the weighted Pearson correlation matrix of the columns of ``matrix``."""
+    if matrix.shape[1] == 0:
+        return np.zeros((0, 0))
+    mean = weights @ matrix / weights.sum()
+    centred = matrix - mean
+    covariance = (centred * weights[:, None]).T @ centred / weights.sum()
+    spread = np.sqrt(np.diag(covariance))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        correlation = covariance / np.outer(spread, spread)
+    return np.nan_to_num(correlation)
+
+
+def variance_inflation(correlation: pd.DataFrame) -> dict[str, float]:
+    """Return each column's variance inflation factor: the diagonal of the inverse correlation matrix."""
+    if correlation.empty:
+        return {}
+    inverse = np.linalg.pinv(correlation.to_numpy())
+    return {name: float(value) for name, value in zip(correlation.index, np.diag(inverse))}
+
+
+def score_test(design: _WoeDesign, fit: FitResult | None, candidates: Sequence[str]) -> np.ndarray:
+    """Return the score (Rao) test p-value of adding each candidate to the fitted model.
+
+    Notes
+    -----
+    U = z'(g − nπ), V = z'Wz − z'WX (X'WX)⁻¹ X'Wz with W = nπ(1 − π); U²/V is χ² with one
+    degree of freedom under the null (C. R. Rao, 1948; standard in stepwise logistic regression).
+    """
+    good = design.good_probability(fit)
+    n = design.weights
+    residual = design.patterns.goods - n * good
+    w = n * good * (1 - good)
+    current = np.column_stack([np.ones(len(n)), design.matrix(list(fit.names[1:]) if fit else [])])
+    z = design.matrix(candidates)
+    information = current.T @ (current * w[:, None])
+    cross = current.T @ (z * w[:, None])
+    explained = np.einsum("ij,ij->j", cross, np.linalg.solve(information, cross))
+    variance = np.einsum("ij,ij->j", z * w[:, None], z) - explained
+    statistic = np.divide((z.T @ residual) ** 2, variance, out=np.zeros(len(candidates)), where=variance > 1e-12)
+    return stats.chi2.sf(statistic, df=1)
+
+
+def _screen(candidates, iv, forced, selection: SelectionSettings, log) -> list[str]:
+    kept = []
+    for name in candidates:
+        if iv[name] > selection.leakage_iv:
+            log.append(Decision("leakage", name, "flagged",
+                                f"IV {iv[name]:.3f} is above {selection.leakage_iv}: check it is known at the time of application", iv[name]))
+        if name in forced:
+            kept.append(name)
+        elif iv[name] < selection.min_iv:
+            log.append(Decision("screen", name, "left out", f"IV {iv[name]:.4f} is below min_iv {selection.min_iv}", iv[name]))
+        else:
+            kept.append(name)
+    return kept
+
+
+def _decorrelate(candidates, iv, forced, design: _WoeDesign, selection: SelectionSettings, log) -> list[str]:
+    """Walk the candidates by IV, strongest first; leave out any too correlated with one already kept."""
+    correlation = design.correlation(candidates)
+    kept: list[str] = []
+    for name in sorted(candidates, key=lambda c: (c not in forced, -iv[c])):
+        partners = [(other, correlation.loc[name, other]) for other in kept if abs(correlation.loc[name, other]) > selection.max_correlation]
+        if partners and name not in forced:
+            other, value = max(partners, key=lambda p: abs(p[1]))
+            log.append(Decision("correlation", name, "left out",
+                                f"WoE correlation {value:.3f} with {other!r} is above {selection.max_correlation}; "
+                                f"{other!r} has the larger IV ({iv[other]:.3f} against {iv[name]:.3f})", float(value)))
+            continue
+        kept.append(name)
+    return [name for name in candidates if name in kept]
+
+
+def _stepwise(candidates, forced, design: _WoeDesign, selection: SelectionSettings, log) -> list[str]:
+    forced = [name for name in candidates if name in forced]
+    if selection.stepwise == "none":
+        return list(candidates)
+    if selection.criterion == "bic":
+        return _stepwise_bic(candidates, forced, design, selection, log)
+    chosen = list(candidates) if selection.stepwise == "backward" else list(forced)
+    removed: set[str] = set()
+    limit = selection.max_characteristics or len(candidates)
+    for _ in range(4 * len(candidates) + 1):
+        fit = design.fit(chosen) if chosen else None
+        if selection.stepwise in ("backward", "both") and fit is not None:
+            worst = _weakest(fit, forced)
+            if worst and worst[1] > selection.p_remove:
+                chosen.remove(worst[0])
+                removed.add(worst[0])
+                log.append(Decision("stepwise", worst[0], "removed", f"Wald p-value {worst[1]:.4g} is above p_remove {selection.p_remove}", worst[1]))
+                continue
+        if selection.stepwise == "backward" or len(chosen) >= limit:
+            break
+        outside = [name for name in candidates if name not in chosen and name not in removed]
+        if not outside:
+            break
+        p_values = score_test(design, fit, outside)
+        best = int(np.argmin(p_values))
+        if p_values[best] >= selection.p_enter:
+            break
+        chosen.append(outside[best])
+        log.append(Decision("stepwise", outside[best], "entered", f"score-test p-value {p_values[best]:.4g} is below p_enter {selection.p_enter}", float(p_values[best])))
+    _log_left_out(candidates, chosen, log, "its p-value never came below p_enter" if selection.stepwise != "backward" else "")
+    return chosen
+
+
+def _weakest(fit: FitResult, forced) -> tuple[str, float] | None:
+    options = [(name, float(p)) for name, p in zip(fit.names[1:], fit.p_values[1:]) if name not in forced]
+    return max(options, key=lambda o: o[1]) if options else None
+
+
+def _stepwise_bic(candidates, forced, design: _WoeDesign, selection: SelectionSettings, log) -> list[str]:
+    chosen = list(candidates) if selection.stepwise == "backward" else list(forced)
+    limit = selection.max_characteristics or len(candidates)
+    current = _bic(design, chosen)
+    for _ in range(4 * len(candidates) + 1):
+        moves = []
+        if selection.stepwise in ("forward", "both") and len(chosen) < limit:
+            moves += [("entered", name, _bic(design, [*chosen, name])) for name in candidates if name not in chosen]
+        if selection.stepwise in ("backward", "both"):
+            moves += [("removed", name, _bic(design, [c for c in chosen if c != name])) for name in chosen if name not in forced]
+        if not moves:
+            break
+        action, name, value = min(moves, key=lambda m: m[2])
+        if value >= current:
+            break
+        chosen = [*chosen, name] if action == "entered" else [c for c in chosen if c != name]
+        log.append(Decision("stepwise", name, action, f"BIC falls from {current:.2f} to {value:.2f}", value))
+        current = value
+    _log_left_out(candidates, chosen, log, "adding it would not lower the BIC")
+    return chosen
+
+
+def _bic(design: _WoeDesign, names: Sequence[str]) -> float:
+    if not names:
+        weights = design.weights
+        share = design.patterns.goods.sum() / weights.sum()
+        log_likelihood = design.patterns.goods.sum() * np.log(share) + design.patterns.bads.sum() * np.log(1 - share)
+        return float(-2 * log_likelihood + np.log(weights.sum()))
+    try:
+        return float(design.fit(names).bic)
+    except FitError:
+        return np.inf
+
+
+def _log_left_out(candidates, chosen, log, reason: str) -> None:
+    if not reason:
+        return
+    for name in candidates:
+        if name not in chosen and not any(d.characteristic == name and d.action == "removed" for d in log):
+            log.append(Decision("stepwise", name, "left out", reason))
+
+
+def _remove_reversals(chosen, forced, design: _WoeDesign, log) -> tuple[list[str], FitResult]:
+    """Refit; while a coefficient that is not forced is negative, remove the most negative and refit."""
+    chosen = list(chosen)
+    if not chosen:
+        raise FitError(
+            "no characteristic entered the model. Check the selection log: lower selection.min_iv or raise "
+            "selection.p_enter, or force characteristics in with use = \"always\"."
+        )
+    while True:
+        fit = design.fit(chosen)
+        negative = [(name, float(fit.coefficients[i + 1]), float(fit.z_values[i + 1]))
+                    for i, name in enumerate(fit.names[1:]) if fit.coefficients[i + 1] < 0]
+        removable = [r for r in negative if r[0] not in forced]
+        if not removable or len(chosen) == 1:
+            break
+        name, coefficient, _ = min(removable, key=lambda r: r[2])
+        chosen.remove(name)
+        log.append(Decision("reversal", name, "removed",
+                            f"coefficient {coefficient:.4f} is negative: its points would run against its WoE", coefficient))
+    for name, coefficient, _ in negative:
+        why = "use = always forces it in" if name in forced else "it is the only characteristic left"
+        log.append(Decision("reversal", name, "kept", f"coefficient {coefficient:.4f} is negative (its points run against its WoE), but {why}", coefficient))
+    return chosen, fit
