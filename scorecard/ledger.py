@@ -8,6 +8,7 @@ as the user sees them: row numbers count the header as row 1, as a spreadsheet s
 from __future__ import annotations
 
 import csv
+import datetime
 import difflib
 import hashlib
 import os
@@ -260,23 +261,21 @@ def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "Da
         weights are negative, missing or not finite, a characteristic holds infinite values, or
         the special columns are wrong.
     """
-    notes: list[str] = []
+    repairs: list[str] = []
     roles = _role_columns(frame, settings, source, require_outcome)
-    outcome = _map_outcome(frame, settings, source, require_outcome, notes)
+    outcome = _map_outcome(frame, settings, source, require_outcome, repairs)
     weight = _weights(frame, settings.ledger.weight_column, source)
     dates = _dates(frame, settings.ledger.date_column, source) if settings.ledger.date_column else None
     characteristics, left_out = _choose_characteristics(frame, settings, roles, source)
-    for name, why in left_out.items():
-        notes.append(f"{name!r} left out: {why}.")
+    notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
     _check_finite(frame, characteristics, source)
     sample = split_samples(outcome, dates, settings, source=source)
     ids = frame[settings.ledger.id_column].to_numpy() if settings.ledger.id_column else None
     kept = frame[[c.name for c in characteristics]]
     if fingerprint is None:
         fingerprint = fingerprint_of(frame, len(frame))
-    for note in notes:
-        if "left out" not in note:
-            warnings.warn(note, ScorecardWarning, stacklevel=2)
+    for note in repairs:
+        warnings.warn(note, ScorecardWarning, stacklevel=2)
     return Ledger(
         source=source, frame=kept, characteristics=tuple(characteristics), outcome=outcome, weight=weight,
         sample=sample, dates=dates, ids=ids, notes=tuple(notes), fingerprint=fingerprint, left_out=left_out,
@@ -342,7 +341,7 @@ def _map_outcome(frame: pd.DataFrame, settings: Settings, source: str, require_o
     mapping = _outcome_mapping(settings, keys)
     unmapped = [(k, int(np.count_nonzero(codes == i))) for i, k in enumerate(keys) if k not in mapping]
     if unmapped:
-        shown = ", ".join(f"{k!r} ({n} rows)" for k, n in unmapped[:8]) + (f" and {len(unmapped) - 8} more" if len(unmapped) > 8 else "")
+        shown = ", ".join(f"{k!r} ({_n_rows(n)})" for k, n in unmapped[:8]) + (f" and {len(unmapped) - 8} more" if len(unmapped) > 8 else "")
         first_rows = np.flatnonzero(np.isin(codes, [keys.index(k) for k, _ in unmapped]))[:5] + 2
         raise LedgerError(
             f"{source}, column {column!r}, {describe_rows(first_rows.tolist())}: "
@@ -355,7 +354,7 @@ def _map_outcome(frame: pd.DataFrame, settings: Settings, source: str, require_o
     if n_unknown and require_outcome:
         rows = describe_rows((np.flatnonzero(codes < 0)[:5] + 2).tolist())
         notes.append(
-            f"{source}, column {column!r}, {rows}: {n_unknown} rows have no outcome; they are left out of fitting and "
+            f"{source}, column {column!r}, {rows}: {_n_rows(n_unknown)} {'has' if n_unknown == 1 else 'have'} no outcome; they are left out of fitting and "
             "the checks that need outcomes, and kept for stability checks."
         )
     if require_outcome:
@@ -399,9 +398,9 @@ def _weights(frame: pd.DataFrame, column: str, source: str) -> np.ndarray:
     for what, bad in problems:
         if bad.any():
             rows = describe_rows((np.flatnonzero(bad)[:5] + 2).tolist())
-            shown = frame[column].iloc[int(np.flatnonzero(bad)[0])]
+            shown = _plain(frame[column].iloc[int(np.flatnonzero(bad)[0])])
             raise LedgerError(
-                f"{source}, column {column!r}, {rows}: weight {shown!r} is {what} ({int(bad.sum())} rows). "
+                f"{source}, column {column!r}, {rows}: weight {shown!r} is {what} ({_n_rows(int(bad.sum()))}). "
                 "Every weight must be a finite number of 0 or more; fix those rows or remove weight_column from the settings."
             )
     if values.sum() <= 0:
@@ -416,8 +415,8 @@ def _dates(frame: pd.DataFrame, column: str, source: str) -> np.ndarray:
     if bad.any():
         rows = describe_rows((np.flatnonzero(bad)[:5] + 2).tolist())
         raise LedgerError(
-            f"{source}, column {column!r}, {rows}: {raw.iloc[int(np.flatnonzero(bad)[0])]!r} is not a date "
-            f"({int(bad.sum())} rows). Write dates as YYYY-MM-DD."
+            f"{source}, column {column!r}, {rows}: {_plain(raw.iloc[int(np.flatnonzero(bad)[0])])!r} is not a date "
+            f"({_n_rows(int(bad.sum()))}). Write dates as YYYY-MM-DD."
         )
     return parsed.to_numpy().astype("datetime64[D]")
 
@@ -446,7 +445,7 @@ def _choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[
         if kind == NUMERIC and not _numeric_or_empty(series):
             raise LedgerError(
                 f"{source}, column {name!r}: kind is numeric in the settings but the column holds text "
-                f"(e.g. {series.dropna().iloc[0]!r}). Set kind = \"categorical\" or clean the column."
+                f"(e.g. {_plain(series.dropna().iloc[0])!r}). Set kind = \"categorical\" or clean the column."
             )
         chosen.append(Characteristic(name, kind, tuple(spec.special_values) if kind == NUMERIC else ()))
     return chosen, left_out
@@ -465,9 +464,9 @@ def unusable_reason(series: pd.Series) -> str:
     if present.empty:
         return "every value is missing"
     if present.nunique() == 1 and len(present) == len(series):
-        return f"every row has the same value ({present.iloc[0]!r})"
+        return f"every row has the same value ({_plain(present.iloc[0])!r})"
     if present.nunique() == 1:
-        return f"every value present is the same ({present.iloc[0]!r}); only missingness varies"
+        return f"every value present is the same ({_plain(present.iloc[0])!r}); only missingness varies"
     return ""
 
 
@@ -476,13 +475,15 @@ def looks_like_identifier_or_date(series: pd.Series, kind: str) -> str:
     if pd.api.types.is_datetime64_any_dtype(series):
         return "it holds dates"
     present = series.dropna()
+    if present.empty:
+        return ""
+    if kind == CATEGORICAL and _looks_like_dates(present):
+        return "it holds dates"
     n_distinct = present.nunique()
     if len(present) >= IDENTIFIER_MIN_ROWS and n_distinct >= IDENTIFIER_SHARE * len(present):
         integer_valued = kind == NUMERIC and bool(np.all(np.mod(present.to_numpy(dtype=float), 1) == 0))
         if kind == CATEGORICAL or integer_valued:
             return f"it looks like an identifier ({n_distinct} distinct values in {len(present)} rows)"
-    if kind == CATEGORICAL and _looks_like_dates(present):
-        return "it holds dates"
     return ""
 
 
@@ -491,6 +492,15 @@ def _looks_like_dates(present: pd.Series) -> bool:
     if not head.str.contains(r"^\d{4}-\d{2}-\d{2}|^\d{1,2}/\d{1,2}/\d{2,4}", regex=True).all():
         return False
     return bool(pd.to_datetime(head, errors="coerce", format="mixed").notna().all())
+
+
+def _plain(value: object) -> object:
+    """A numpy scalar as the plain Python value, so messages show 7 rather than np.int64(7)."""
+    return value.item() if isinstance(value, np.generic) else value
+
+
+def _n_rows(count: int) -> str:
+    return "1 row" if count == 1 else f"{count} rows"
 
 
 def _numeric_or_empty(series: pd.Series) -> bool:
@@ -547,7 +557,8 @@ def split_samples(outcome: np.ndarray, dates: np.ndarray | None, settings: Setti
                 f"{source}, column {settings.ledger.date_column!r}, {rows}: no date, so the row cannot be placed "
                 "in or out of time. Fill the dates or remove the rows."
             )
-        sample[dates >= np.datetime64(samples.out_of_time_from, "D")] = OUT_OF_TIME
+        start = np.datetime64(datetime.date.fromisoformat(samples.out_of_time_from), "D")
+        sample[dates >= start] = OUT_OF_TIME
     rng = np.random.default_rng(samples.seed)
     in_time = sample != OUT_OF_TIME
     for outcome_class in range(len(OUTCOME_NAMES)):

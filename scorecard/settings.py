@@ -436,6 +436,9 @@ def _type_name(value: Any) -> str:
 
 
 def _is_iso_date(text: str) -> bool:
+    # only YYYY-MM-DD: fromisoformat also takes '20250701' and week dates, which numpy reads otherwise
+    if len(text) != 10 or text[4] != "-" or text[7] != "-":
+        return False
     try:
         datetime.date.fromisoformat(text)
     except (TypeError, ValueError):
@@ -514,7 +517,8 @@ def _toml_float(value: float) -> str:
 
 def _toml_string(text: str) -> str:
     escaped = text.replace("\\", "\\\\").replace('"', '\\"').replace("\n", "\\n").replace("\t", "\\t")
-    escaped = "".join(ch if ch >= " " else f"\\u{ord(ch):04x}" for ch in escaped)
+    # TOML allows no raw control characters in a basic string: U+0000 to U+001F and U+007F
+    escaped = "".join(ch if ch >= " " and ch != "\x7f" else f"\\u{ord(ch):04x}" for ch in escaped)
     return f'"{escaped}"'
 
 
@@ -530,11 +534,19 @@ def write_text_atomically(path: Path, text: str) -> Path:
     try:
         with os.fdopen(handle, "w", encoding="utf-8", newline="\n") as stream:
             stream.write(text)
+        # mkstemp makes the file private (0600); give it the mode a plain write would have
+        os.chmod(temporary, path.stat().st_mode & 0o7777 if path.exists() else _mode_for_new_files())
         os.replace(temporary, path)
     except BaseException:
         Path(temporary).unlink(missing_ok=True)
         raise
     return path
+
+
+def _mode_for_new_files() -> int:
+    umask = os.umask(0)
+    os.umask(umask)
+    return 0o666 & ~umask
 
 
 # --------------------------------------------------------------------------------------------

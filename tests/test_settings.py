@@ -1,0 +1,233 @@
+"""Tests of the settings file (scorecard/settings.py): round trip, atomic writing, validation."""
+
+from __future__ import annotations
+
+import dataclasses
+import os
+import tomllib
+
+import pytest
+from hypothesis import given
+from hypothesis import settings as hypothesis_settings
+from hypothesis import strategies as st
+
+from scorecard import Settings, SettingsError, read_settings, settings_from_mapping, settings_reference, write_settings
+from scorecard.settings import SECTIONS, CharacteristicSettings, settings_to_toml
+
+
+def round_trip(settings: Settings) -> Settings:
+    return settings_from_mapping(tomllib.loads(settings_to_toml(settings)))
+
+
+def with_characteristics(**characteristics: CharacteristicSettings) -> Settings:
+    return Settings().replace(characteristics=characteristics)
+
+
+# --------------------------------------------------------------------------------------------
+# Round trip
+
+
+def test_defaults_round_trip():
+    assert round_trip(Settings()) == Settings()
+
+
+def test_every_section_and_key_is_written():
+    document = tomllib.loads(settings_to_toml(Settings()))
+    for name, cls in SECTIONS.items():
+        assert set(document[name]) == {spec.name for spec in dataclasses.fields(cls)}
+
+
+def test_characteristics_round_trip():
+    settings = Settings().replace(
+        outcome={"column": "status", "bad": ("bad", "written off"), "good": ("good",), "indeterminate": ("cured",)},
+        samples={"out_of_time_from": "2025-07-01", "holdout_fraction": 0.25},
+        checks={"grades": (450.0, 500.5, 620.0)},
+        report={"title": 'The "new" book \\ 2025', "lender": "Tab\there, line\nbreak"},
+        characteristics={
+            "income": CharacteristicSettings(kind="numeric", use="auto", cuts=(-1.5, 0.0, 1e-7, 1500.0, 2.5e16),
+                                             special_values=(-1.0, 999.0), specials=("own", 2), missing=1),
+            "home": CharacteristicSettings(kind="categorical", use="always",
+                                           groups=(("own",), ("rent", "other"), ('say "no"', "back\\slash")),
+                                           unseen=2, label="Home status", reason_code="R07"),
+            "months since: last arrears": CharacteristicSettings(use="never"),
+            "ï.quoted key": CharacteristicSettings(trend="descending", cuts=(3.0,)),
+            "": CharacteristicSettings(kind="numeric"),
+        },
+    )
+    assert round_trip(settings) == settings
+
+
+def test_written_file_reads_back_with_comments_and_header(tmp_path):
+    settings = with_characteristics(
+        income=CharacteristicSettings(kind="numeric", cuts=(10.0, 20.0)),
+        branch=CharacteristicSettings(use="never"),
+    )
+    path = write_settings(settings, tmp_path / "scorecard.toml", header="first line\nsecond line",
+                          comments={"income": "IV 0.1234 (medium)", "branch": "left out: every row has the same value (7)"})
+    text = path.read_text(encoding="utf-8")
+    assert text.startswith("# first line\n# second line\n")
+    assert "[characteristics.income]\n# IV 0.1234 (medium)\n" in text
+    assert '[characteristics.branch]\n# left out: every row has the same value (7)\nkind = ""\nuse = "never"\n' in text
+    loaded = read_settings(path)
+    assert loaded == dataclasses.replace(settings, folder=str(tmp_path))
+
+
+finite_floats = st.floats(allow_nan=False, allow_infinity=False)
+level_names = st.text(max_size=12)
+
+
+@hypothesis_settings(derandomize=True, max_examples=100, deadline=None)
+@given(cuts=st.lists(finite_floats, min_size=1, max_size=12, unique=True).map(lambda c: tuple(sorted(set(c)))))
+def test_random_cut_lists_round_trip(cuts):
+    settings = with_characteristics(x=CharacteristicSettings(kind="numeric", cuts=cuts))
+    back = round_trip(settings).characteristics["x"].cuts
+    assert back == cuts  # exactly: repr of a float reads back as the same float
+
+
+@hypothesis_settings(derandomize=True, max_examples=60, deadline=None)
+@given(levels=st.lists(level_names, min_size=2, max_size=10, unique=True), name=level_names, data=st.data())
+def test_random_level_names_round_trip(levels, name, data):
+    split = data.draw(st.integers(min_value=1, max_value=len(levels) - 1))
+    groups = (tuple(levels[:split]), tuple(levels[split:]))
+    settings = with_characteristics(**{name: CharacteristicSettings(kind="categorical", groups=groups, label=levels[0])})
+    assert round_trip(settings) == settings
+
+
+# --------------------------------------------------------------------------------------------
+# Writing
+
+
+def test_write_settings_leaves_no_temporary_file(tmp_path):
+    path = write_settings(Settings(), tmp_path / "scorecard.toml")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["scorecard.toml"]
+    assert read_settings(path).outcome == Settings().outcome
+
+
+def test_write_settings_replaces_an_existing_file_when_complete(tmp_path):
+    path = tmp_path / "scorecard.toml"
+    path.write_text("# the analyst's edits\n", encoding="utf-8")
+    write_settings(Settings().replace(outcome={"column": "status"}), path)
+    assert read_settings(path).outcome.column == "status"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["scorecard.toml"]
+
+
+def test_failed_write_leaves_the_existing_file_and_no_temporary(tmp_path):
+    path = tmp_path / "scorecard.toml"
+    path.write_bytes(b"# the analyst's edits\n")
+    # a lone surrogate cannot be encoded as UTF-8: the write fails part-way through the text
+    broken = Settings().replace(report={"title": "Scorecard \ud800"})
+    with pytest.raises(UnicodeEncodeError):
+        write_settings(broken, path)
+    assert path.read_bytes() == b"# the analyst's edits\n"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["scorecard.toml"]
+
+
+def test_written_file_has_the_mode_of_a_plain_write(tmp_path):
+    plain = tmp_path / "plain.toml"
+    plain.write_text("")
+    written = write_settings(Settings(), tmp_path / "scorecard.toml")
+    assert written.stat().st_mode == plain.stat().st_mode
+    os.chmod(written, 0o640)
+    write_settings(Settings(), written)
+    assert written.stat().st_mode & 0o777 == 0o640  # replacing keeps the file's own mode
+
+
+# --------------------------------------------------------------------------------------------
+# Reading: files
+
+
+def test_missing_settings_file(tmp_path):
+    with pytest.raises(SettingsError, match=r"scorecard\.toml: settings file not found"):
+        read_settings(tmp_path / "scorecard.toml")
+
+
+def test_invalid_toml_names_the_file_and_line(tmp_path):
+    path = tmp_path / "scorecard.toml"
+    path.write_text("[classing]\nmax_groups = = 3\n")
+    with pytest.raises(SettingsError, match=r"scorecard\.toml: not a valid TOML settings file: .*line 2"):
+        read_settings(path)
+
+
+# --------------------------------------------------------------------------------------------
+# Reading: unknown keys, wrong types, impossible values
+
+
+def test_unknown_section_suggests_the_close_one():
+    with pytest.raises(SettingsError, match=r"unknown section 'sample'\. Did you mean 'samples'\?"):
+        settings_from_mapping({"sample": {"seed": 3}})
+
+
+def test_unknown_key_suggests_the_close_one():
+    with pytest.raises(SettingsError, match=r"unknown key in \[classing\] 'min_group_shar'\. Did you mean 'min_group_share'\?"):
+        settings_from_mapping({"classing": {"min_group_shar": 0.05}})
+
+
+def test_unknown_characteristic_key_suggests_the_close_one():
+    with pytest.raises(SettingsError, match=r"unknown key in \[characteristics\.income\] 'cut'\. Did you mean 'cuts'\?"):
+        settings_from_mapping({"characteristics": {"income": {"cut": [1, 2]}}})
+
+
+def test_unknown_key_names_the_file(tmp_path):
+    path = tmp_path / "scorecard.toml"
+    path.write_text("[fit]\nsolvr = 'newton'\n")
+    with pytest.raises(SettingsError, match=r"scorecard\.toml: unknown key in \[fit\] 'solvr'\. Did you mean 'solver'\?"):
+        read_settings(path)
+
+
+@pytest.mark.parametrize(("section", "key", "value", "shown"), [
+    ("classing", "min_group_share", "five", "'five'"),
+    ("classing", "max_groups", 2.5, "2.5"),
+    ("outcome", "bad", "x", "'x'"),
+    ("samples", "seed", True, "True"),
+    ("characteristics.income", "cuts", [1, "2"], r"\[1, '2'\]"),
+])
+def test_wrong_type(section, key, value, shown):
+    document = {"characteristics": {"income": {key: value}}} if section.startswith("characteristics") else {section: {key: value}}
+    with pytest.raises(SettingsError, match=rf"{section}\.{key} = {shown} has the wrong type"):
+        settings_from_mapping(document)
+
+
+@pytest.mark.parametrize(("document", "message"), [
+    ({"classing": {"min_group_share": 1.5}}, r"classing\.min_group_share = 1\.5 is not possible: it must be a share between 0 and 1"),
+    ({"classing": {"max_groups": 1}}, r"classing\.max_groups = 1 is not possible: it must be 2 or more"),
+    ({"samples": {"holdout_fraction": 1.0}}, r"samples\.holdout_fraction = 1\.0 is not possible"),
+    ({"characteristics": {"home": {"groups": [["own", "rent"]]}}}, r"characteristics\.home\.groups needs at least 2 groups, got 1"),
+    ({"characteristics": {"income": {"cuts": [30, 10, 20]}}}, r"characteristics\.income\.cuts must be strictly ascending numbers, got \[30\.0, 10\.0, 20\.0\]"),
+    ({"characteristics": {"income": {"cuts": [10, 10]}}}, r"characteristics\.income\.cuts must be strictly ascending"),
+    ({"checks": {"psi_watch": 0.25, "psi_act": 0.25}}, r"checks\.psi_act \(0\.25\) must be larger than checks\.psi_watch \(0\.25\)"),
+    ({"checks": {"psi_watch": 0.3}}, r"checks\.psi_act \(0\.25\) must be larger than checks\.psi_watch \(0\.3\)"),
+    ({"characteristics": {"home": {"groups": [["own", "rent"], ["rent"]]}}}, r"characteristics\.home\.groups lists level 'rent' in more than one group"),
+    ({"outcome": {"bad": ["1", "2"], "good": ["0", "2"]}}, r"outcome value '2' is listed both as bad and as good"),
+    ({"samples": {"out_of_time_from": "2025-13-01"}}, r"samples\.out_of_time_from = '2025-13-01' is not possible: it must be an ISO date"),
+    ({"samples": {"out_of_time_from": "20250701"}}, r"samples\.out_of_time_from = '20250701' is not possible"),
+    ({"samples": {"out_of_time_from": "next July"}}, r"samples\.out_of_time_from = 'next July' is not possible"),
+    ({"characteristics": {"x": {"cuts": [1], "groups": [["a"], ["b"]]}}}, r"characteristics\.x has both cuts and groups"),
+    ({"characteristics": {"x": {"missing": 0}}}, r"characteristics\.x\.missing = 0 is not possible: group numbers start at 1"),
+])
+def test_impossible_values(document, message):
+    with pytest.raises(SettingsError, match=message):
+        settings_from_mapping(document)
+
+
+def test_section_must_be_a_table():
+    with pytest.raises(SettingsError, match=r"\[classing\] must be a table of keys, not int"):
+        settings_from_mapping({"classing": 3})
+
+
+# --------------------------------------------------------------------------------------------
+# The reference table
+
+
+def test_reference_lists_every_key_with_its_default():
+    reference = {key: (default, meaning) for key, default, meaning in settings_reference()}
+    expected = {f"{name}.{spec.name}": spec for name, cls in SECTIONS.items() for spec in dataclasses.fields(cls)}
+    expected.update({f"characteristics.NAME.{spec.name}": spec for spec in dataclasses.fields(CharacteristicSettings)})
+    assert set(reference) == set(expected)
+    for key, spec in expected.items():
+        default, meaning = reference[key]
+        assert meaning == spec.metadata["meaning"] and meaning
+        if spec.default is None:
+            assert default == "(none)"
+        else:
+            value = tomllib.loads(f"value = {default}")["value"]
+            assert value == (list(spec.default) if isinstance(spec.default, tuple) else spec.default), key
