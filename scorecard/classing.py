@@ -527,12 +527,15 @@ def _coarse_binning(fine: Binning, chain: np.ndarray, starts: Sequence[int], tre
 
 def _place_own_bins(fine, coarse, fine_to_coarse, goods, bads, n_goods, n_bads, total_goods, total_bads,
                     min_share, min_goods, min_bads, notes) -> Binning:
-    """Keep missing and special bins on their own, or merge small ones into the nearest-WoE group."""
+    """Keep missing and special bins on their own, or merge small ones into the nearest-WoE group.
+
+    Of the groups a small bin could join, the nearest in WoE that keeps the chain's WoE order is
+    taken; only when none keeps it is the nearest taken anyway, and the note says so.
+    """
     total = total_goods + total_bads
     n_chain = coarse.n_chain
     chain_goods = np.bincount(fine_to_coarse[: fine.n_chain], weights=goods[: fine.n_chain], minlength=n_chain)
     chain_bads = np.bincount(fine_to_coarse[: fine.n_chain], weights=bads[: fine.n_chain], minlength=n_chain)
-    chain_woe = woe_values(chain_goods, chain_bads, total_goods, total_bads)
     labels = list(coarse.labels)
     own = [(f"special {format_number(v)}", b) for v, b in zip(fine.special_values, fine.special_bins) if b >= 0]
     if fine.missing_bin >= 0:
@@ -545,19 +548,36 @@ def _place_own_bins(fine, coarse, fine_to_coarse, goods, bads, n_goods, n_bads, 
             labels.append(label)
             targets[fine_bin] = len(labels) - 1
         else:
-            own_woe = woe_values(goods[fine_bin:fine_bin + 1], bads[fine_bin:fine_bin + 1], total_goods, total_bads)[0]
-            nearest = int(np.argmin(np.abs(chain_woe - own_woe)))
-            targets[fine_bin] = nearest
+            target, keeps_order = _nearest_group(chain_goods, chain_bads, goods[fine_bin], bads[fine_bin],
+                                                 total_goods, total_bads, coarse.trend)
+            chain_goods[target] += goods[fine_bin]
+            chain_bads[target] += bads[fine_bin]
+            targets[fine_bin] = target
             notes.append(
                 f"{fine.characteristic!r}: the {label} bin ({_rows(goods[fine_bin] + bads[fine_bin])}, "
-                f"{n_bads[fine_bin]:.0f} bads) is too small to stand alone; it joins group {nearest + 1} "
-                f"({coarse.labels[nearest]}), whose WoE is nearest."
+                f"{n_bads[fine_bin]:.0f} bads) is too small to stand alone; it joins group {target + 1} "
+                f"({coarse.labels[target]}), whose WoE is nearest"
+                + ("." if keeps_order else f"; no group could take it without breaking the {coarse.trend} WoE order.")
             )
         fine_to_coarse[fine_bin] = targets[fine_bin]
     special_bins = tuple(targets[b] for b in fine.special_bins)
     missing_bin = targets[fine.missing_bin]
     return replace(coarse, labels=tuple(labels), special_values=fine.special_values,
                    special_bins=special_bins, missing_bin=missing_bin)
+
+
+def _nearest_group(chain_goods, chain_bads, goods, bads, total_goods, total_bads, trend) -> tuple[int, bool]:
+    """Return the group nearest in WoE whose joining keeps the chain's order, and whether one did."""
+    chain_woe = woe_values(chain_goods, chain_bads, total_goods, total_bads)
+    own_woe = woe_values(np.array([goods]), np.array([bads]), total_goods, total_bads)[0]
+    order = np.argsort(np.abs(chain_woe - own_woe), kind="stable")
+    for group in order:
+        woe = woe_values(chain_goods + goods * (np.arange(len(chain_goods)) == group),
+                         chain_bads + bads * (np.arange(len(chain_bads)) == group), total_goods, total_bads)
+        steps = np.diff(woe)
+        if trend == "none" or (trend == "ascending" and (steps > 0).all()) or (trend == "descending" and (steps < 0).all()):
+            return int(group), True
+    return int(order[0]), False
 
 
 def worst_bin(goods: np.ndarray, bads: np.ndarray) -> int:

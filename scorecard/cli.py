@@ -282,6 +282,12 @@ def main(argv: Sequence[str] | None = None, *, stdout: IO[str] | None = None, st
             raise
         print(f"scorewright: error: {error}", file=err)
         return EXIT_BAD_INPUT
+    except OSError as error:  # a folder that cannot be written, a full disk: the user's to fix
+        if args.traceback:
+            raise
+        where = f"{error.filename}: " if error.filename else ""
+        print(f"scorewright: error: {where}{error.strerror or error}. Check the path exists and can be written.", file=err)
+        return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         print("scorewright: interrupted; no output was left half-written.", file=err)
         return 130

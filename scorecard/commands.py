@@ -112,9 +112,12 @@ def _outcome_lists(column, options: InitOptions, source: str) -> tuple[tuple[str
     rest = tuple(v for v in values if v not in named)
     if options.bad and options.good:
         return tuple(options.bad), tuple(options.good)  # any value left over is named by prepare_ledger
-    if options.bad:
-        return tuple(options.bad), rest
-    return rest, tuple(options.good)
+    if not options.bad:
+        raise LedgerError(
+            f"{source}, column {options.target!r}: name the bad values with --bad as well; every value not named "
+            "is then good (or indeterminate with --indeterminate)."
+        )
+    return tuple(options.bad), rest
 
 
 def _detect_role(frame, options: InitOptions, what: str) -> str | None:

@@ -41,13 +41,13 @@ class ScorecardWarning(UserWarning):
 def describe_rows(rows: Sequence[int], *, limit: int = 5) -> str:
     """Name rows as the user sees them: 'row 17', 'rows 17 and 203', 'rows 2, 5, 9, 11, 12 and 40 more'.
 
-    ``rows`` are 1-based line numbers of the data (the header is not counted).
+    ``rows`` are row numbers as a spreadsheet shows them (the header is row 1); give them all, so
+    that the message can say how many more there are.
     """
-    rows = [int(r) for r in rows]
-    if len(rows) == 1:
-        return f"row {rows[0]}"
-    shown = rows[:limit]
-    rest = len(rows) - len(shown)
-    if rest > 0:
-        return f"rows {', '.join(map(str, shown))} and {rest} more"
-    return f"rows {', '.join(map(str, shown[:-1]))} and {shown[-1]}"
+    total = len(rows)
+    shown = [str(int(r)) for r in rows[:limit]]
+    if total == 1:
+        return f"row {shown[0]}"
+    if total > limit:
+        return f"rows {', '.join(shown)} and {total - limit} more"
+    return f"rows {', '.join(shown[:-1])} and {shown[-1]}"

@@ -342,7 +342,7 @@ def _map_outcome(frame: pd.DataFrame, settings: Settings, source: str, require_o
     unmapped = [(k, int(np.count_nonzero(codes == i))) for i, k in enumerate(keys) if k not in mapping]
     if unmapped:
         shown = ", ".join(f"{k!r} ({_n_rows(n)})" for k, n in unmapped[:8]) + (f" and {len(unmapped) - 8} more" if len(unmapped) > 8 else "")
-        first_rows = np.flatnonzero(np.isin(codes, [keys.index(k) for k, _ in unmapped]))[:5] + 2
+        first_rows = np.flatnonzero(np.isin(codes, [keys.index(k) for k, _ in unmapped]))+ 2
         raise LedgerError(
             f"{source}, column {column!r}, {describe_rows(first_rows.tolist())}: "
             f"value{'s' if len(unmapped) > 1 else ''} {shown} {'are' if len(unmapped) > 1 else 'is'} not a mapped outcome. "
@@ -352,7 +352,7 @@ def _map_outcome(frame: pd.DataFrame, settings: Settings, source: str, require_o
     outcome = lookup[codes]  # the sentinel -1 picks the last entry: unknown
     n_unknown = int(np.count_nonzero(codes < 0))
     if n_unknown and require_outcome:
-        rows = describe_rows((np.flatnonzero(codes < 0)[:5] + 2).tolist())
+        rows = describe_rows((np.flatnonzero(codes < 0)+ 2).tolist())
         notes.append(
             f"{source}, column {column!r}, {rows}: {_n_rows(n_unknown)} {'has' if n_unknown == 1 else 'have'} no outcome; they are left out of fitting and "
             "the checks that need outcomes, and kept for stability checks."
@@ -397,7 +397,7 @@ def _weights(frame: pd.DataFrame, column: str, source: str) -> np.ndarray:
     ]
     for what, bad in problems:
         if bad.any():
-            rows = describe_rows((np.flatnonzero(bad)[:5] + 2).tolist())
+            rows = describe_rows((np.flatnonzero(bad)+ 2).tolist())
             shown = _plain(frame[column].iloc[int(np.flatnonzero(bad)[0])])
             raise LedgerError(
                 f"{source}, column {column!r}, {rows}: weight {shown!r} is {what} ({_n_rows(int(bad.sum()))}). "
@@ -413,7 +413,7 @@ def _dates(frame: pd.DataFrame, column: str, source: str) -> np.ndarray:
     parsed = pd.to_datetime(raw, errors="coerce", format="ISO8601") if not pd.api.types.is_datetime64_any_dtype(raw) else raw
     bad = parsed.isna().to_numpy() & raw.notna().to_numpy()
     if bad.any():
-        rows = describe_rows((np.flatnonzero(bad)[:5] + 2).tolist())
+        rows = describe_rows((np.flatnonzero(bad)+ 2).tolist())
         raise LedgerError(
             f"{source}, column {column!r}, {rows}: {_plain(raw.iloc[int(np.flatnonzero(bad)[0])])!r} is not a date "
             f"({_n_rows(int(bad.sum()))}). Write dates as YYYY-MM-DD."
@@ -514,7 +514,7 @@ def _check_finite(frame: pd.DataFrame, characteristics: Sequence[Characteristic]
         values = frame[char.name].to_numpy(dtype=float, na_value=np.nan)
         infinite = np.isinf(values)
         if infinite.any():
-            rows = describe_rows((np.flatnonzero(infinite)[:5] + 2).tolist())
+            rows = describe_rows((np.flatnonzero(infinite)+ 2).tolist())
             raise LedgerError(
                 f"{source}, column {char.name!r}, {rows}: {int(infinite.sum())} infinite values. "
                 "Replace them with a number, leave them empty (missing), or declare a special value."
@@ -552,7 +552,7 @@ def split_samples(outcome: np.ndarray, dates: np.ndarray | None, settings: Setti
             )
         undated = np.isnat(dates)
         if undated.any():
-            rows = describe_rows((np.flatnonzero(undated)[:5] + 2).tolist())
+            rows = describe_rows((np.flatnonzero(undated)+ 2).tolist())
             raise LedgerError(
                 f"{source}, column {settings.ledger.date_column!r}, {rows}: no date, so the row cannot be placed "
                 "in or out of time. Fill the dates or remove the rows."

@@ -471,6 +471,8 @@ def write_settings(settings: Settings, path: str | os.PathLike[str], *, comments
         The path written.
     """
     text = settings_to_toml(settings, comments=comments, header=header)
+    # read back before writing, so that no file this tool writes can be refused when it is read
+    settings_from_mapping(tomllib.loads(text), source=str(path))
     return write_text_atomically(Path(path), text)
 
 
