@@ -102,6 +102,17 @@ class ScoreOptions:
     force: bool = False
 
 
+@dataclass(frozen=True)
+class MonitorOptions:
+    """Options of ``scorewright monitor``."""
+
+    model: Path
+    ledger: Path
+    out: Path | None = None
+    fail_on: str | None = None
+    force: bool = False
+
+
 # --------------------------------------------------------------------------------------------
 # The parser
 
@@ -124,6 +135,7 @@ def build_parser() -> argparse.ArgumentParser:
     _add_init(commands)
     _add_build(commands)
     _add_score(commands)
+    _add_monitor(commands)
     return parser
 
 
@@ -236,6 +248,36 @@ def _add_score(commands) -> None:
     parser.set_defaults(make_options=lambda a: ScoreOptions(a.model, a.ledger, a.out, a.reasons, a.force), run=_run_score)
 
 
+def _add_monitor(commands) -> None:
+    parser = commands.add_parser(
+        "monitor", help="re-check a saved scorecard on a new quarter's applications",
+        description=(
+            "Score a new ledger with a saved model and compare it with the development baseline: "
+            "stability of the score and of each characteristic, and, where outcomes are known, "
+            "discrimination and calibration. Every check gets a status: ok, watch or act. "
+            "Writes monitor.html and monitor.xlsx; with the model's date column, also per calendar quarter."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_examples(
+            "scorewright monitor run1/model.json q3.csv --out q3/",
+            "scorewright monitor run1/model.json latest.parquet --out checks/ --fail-on act",
+        ),
+    )
+    parser.add_argument("model", type=Path, help="model.json written by 'scorewright build'")
+    parser.add_argument("ledger", type=Path, help="the new applications: CSV, Parquet or .xlsx (outcome column optional)")
+    parser.add_argument("--out", type=Path, metavar="DIR", help="output folder (default: NAME-monitor beside the ledger)")
+    parser.add_argument("--fail-on", choices=("watch", "act"), help="exit with 1 when any check reaches this status")
+    parser.add_argument("--force", action="store_true", help="write into the output folder even if it exists")
+    _add_common(parser)
+    parser.set_defaults(make_options=lambda a: MonitorOptions(a.model, a.ledger, a.out, a.fail_on, a.force), run=_run_monitor)
+
+
+def _run_monitor(options: MonitorOptions, streams: Streams) -> int:
+    from .commands import run_monitor
+
+    return run_monitor(options, streams)
+
+
 def _run_score(options: ScoreOptions, streams: Streams) -> int:
     from .commands import run_score
 
@@ -282,6 +324,9 @@ def main(argv: Sequence[str] | None = None, *, stdout: IO[str] | None = None, st
             raise
         print(f"scorewright: error: {error}", file=err)
         return EXIT_BAD_INPUT
+    except BrokenPipeError:  # the reader of our output has gone (e.g. '| head'): nothing to report
+        _silence_stdout()
+        return EXIT_OK
     except OSError as error:  # a folder that cannot be written, a full disk: the user's to fix
         if args.traceback:
             raise
@@ -302,6 +347,17 @@ def _show_warnings(caught: list, streams: Streams) -> None:
         if issubclass(warning.category, ScorecardWarning) and text not in shown:
             shown.add(text)
             streams.warn(text)
+
+
+def _silence_stdout() -> None:
+    """Point stdout at /dev/null so that Python's final flush does not fail on a closed pipe."""
+    import os
+
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError):  # stdout is not a real file (tests pass a StringIO)
+        pass
 
 
 def entry_point() -> None:

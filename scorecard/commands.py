@@ -16,13 +16,14 @@ import numpy as np
 
 from .build import ClassedLedger, build_scorecard, class_ledger
 from .classing import classing_settings_values
-from .cli import EXIT_OK, BuildOptions, InitOptions, ScoreOptions, Streams
+from .cli import EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, InitOptions, MonitorOptions, ScoreOptions, Streams
 from .errors import LedgerError, SettingsError
 from .ledger import (
     NUMERIC, closest_names, default_outcome_mapping, detect_kind, fingerprint_of, looks_like_identifier_or_date,
     outcome_key, prepare_ledger, read_ledger,
 )
 from .modelfile import load_model, model_document, save_model
+from .monitor import STATUSES, monitor_ledger
 from .settings import CharacteristicSettings, Settings, read_settings, write_settings, write_text_atomically
 
 
@@ -321,3 +322,67 @@ def write_table_atomically(frame, path: Path) -> Path:
         Path(temporary).unlink(missing_ok=True)
         raise
     return path
+
+
+# --------------------------------------------------------------------------------------------
+# monitor
+
+
+def run_monitor(options: MonitorOptions, streams: Streams) -> int:
+    """Check a new ledger against a saved model's baseline; write the monitoring reports."""
+    out = options.out or options.ledger.parent / f"{options.ledger.stem}-monitor"
+    check_output_folder(out, options.force)
+    saved = load_model(options.model)
+    frame = read_ledger(options.ledger)
+    source = options.ledger.name
+    streams.note(f"read {len(frame):,} rows from {source}")
+    ledger = prepare_ledger(frame, monitoring_settings(saved.settings, frame), source=source,
+                            fingerprint=fingerprint_of(options.ledger, len(frame)), require_outcome=False)
+    result = monitor_ledger(saved, frame, ledger.outcome, ledger.weight, ledger.dates, source=source)
+    for note in (*ledger.notes, *result.notes):
+        streams.note(note)
+    summary = monitor_summary(result, model=options.model)
+    written = [write_text_atomically(out / "monitor.txt", summary + "\n")]
+    streams.say(summary)
+    streams.say()
+    streams.say("written: " + ", ".join(str(path) for path in written))
+    failing = {"watch": ("watch", "act"), "act": ("act",)}.get(options.fail_on or "", ())
+    return EXIT_CHECK_FAILED if result.status in failing else EXIT_OK
+
+
+def monitoring_settings(settings: Settings, frame) -> Settings:
+    """Return the model's settings fitted to a new ledger: no samples, role columns only where present."""
+    columns = {str(c) for c in frame.columns}
+    ledger = settings.ledger
+
+    def present(column: str) -> str:
+        return column if column in columns else ""
+
+    return settings.replace(
+        ledger={"id_column": present(ledger.id_column), "date_column": present(ledger.date_column),
+                "weight_column": present(ledger.weight_column),
+                "leave_out": tuple(c for c in ledger.leave_out if c in columns)},
+        outcome={"column": present(settings.outcome.column)},
+        samples={"holdout_fraction": 0.0, "out_of_time_from": ""},
+    )
+
+
+def monitor_summary(result, *, model: Path) -> str:
+    """Return the short text summary of a monitoring run: overall status first, then each check."""
+    overall = result.overall
+    lines = [
+        f"monitoring {result.source} with {model}",
+        f"{overall.rows:,.0f} rows: {overall.goods + overall.bads:,.0f} with a known outcome "
+        f"({overall.bads:,.0f} bads), {overall.unknown:,.0f} without",
+        "",
+        f"overall status: {result.status}",
+    ]
+    ranked = sorted(overall.statuses, key=lambda s: -STATUSES.index(s.status))
+    rows = [(s.status, s.check, f"{s.figure} {s.value:.3g}", s.thresholds) for s in ranked]
+    lines += ["  " + line for line in _aligned(rows)]
+    if overall.outcomes is None:
+        lines += ["", "stability only: no row has a known outcome, so discrimination and calibration are not checked"]
+    if result.quarters:
+        lines += ["", "per quarter: " + ", ".join(f"{q.period} {q.status}" for q in result.quarters)]
+    return "\n".join(lines)
+

@@ -1,0 +1,157 @@
+"""Tests of scorecard/monitor.py and the monitor command: statuses on known shifts, false alarms."""
+
+from __future__ import annotations
+
+import io
+import json
+import warnings
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from scorecard.build import build_scorecard
+from scorecard.cli import main
+from scorecard.ledger import BAD, GOOD, UNKNOWN
+from scorecard.modelfile import load_model, model_document, save_model
+from scorecard.monitor import check_period, monitor_ledger
+from scorecard.points import ScoreHistogram
+from scorecard.settings import Settings
+from scorecard.validation import band_edges
+
+N_DEVELOPMENT = 30_000
+N_QUARTER = 8_000
+
+
+def _frame(n, seed, *, shift=0.0, bad_factor=1.0, start="2024-01-01", days=90):
+    """Invented process: income and enquiries drive the outcome; housing a little."""
+    rng = np.random.default_rng(seed)
+    income = rng.lognormal(8 + shift, 0.4, n).round(-1)
+    enquiries = rng.poisson(1.2, n)
+    housing = rng.choice(["own", "rent", "family"], n, p=[0.5, 0.35, 0.15])
+    log_odds_bad = -2.2 - 1.1 * (np.log(income) - 8) + 0.35 * enquiries + np.where(housing == "rent", 0.3, 0.0)
+    p_bad = np.minimum(bad_factor / (1 + np.exp(-log_odds_bad)), 1.0)
+    outcome = np.where(rng.random(n) < p_bad, "bad", "good")
+    dates = pd.Timestamp(start) + pd.to_timedelta(rng.integers(0, days, n), unit="D")
+    return pd.DataFrame({"income": income, "enquiries": enquiries, "housing": housing, "outcome": outcome,
+                         "date": dates.strftime("%Y-%m-%d")})
+
+
+@pytest.fixture(scope="module")
+def saved(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("monitor")
+    settings = Settings().replace(outcome={"column": "outcome", "bad": ("bad",), "good": ("good",)},
+                                  ledger={"date_column": "date"})
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        build = build_scorecard(_frame(N_DEVELOPMENT, 1, days=360), settings)
+    path = save_model(model_document(build), folder / "model.json")
+    return load_model(path), path
+
+
+def _monitor(saved_model, frame):
+    outcome = np.where(frame["outcome"] == "bad", BAD, GOOD) if "outcome" in frame else np.full(len(frame), UNKNOWN)
+    return monitor_ledger(saved_model, frame, outcome.astype(np.int8), np.ones(len(frame)), None, source="quarter")
+
+
+def _status(period, check):
+    return next(s.status for s in period.statuses if s.check == check)
+
+
+def test_a_quarter_from_the_same_process_is_ok(saved):
+    result = _monitor(saved[0], _frame(N_QUARTER, 2))
+    assert _status(result.overall, "score stability") == "ok"
+    assert all(_status(result.overall, f"stability of {n}") == "ok" for n in saved[0].scorecard.table.names)
+    assert _status(result.overall, "calibration") == "ok"
+    assert _status(result.overall, "discrimination") == "ok"
+
+
+def test_a_shifted_population_is_act_on_its_characteristic_and_the_score(saved):
+    result = _monitor(saved[0], _frame(N_QUARTER, 3, shift=0.5))
+    assert _status(result.overall, "stability of income") == "act"
+    assert _status(result.overall, "score stability") == "act"
+    assert _status(result.overall, "stability of enquiries") == "ok"
+
+
+def test_a_doubled_bad_rate_is_act_on_calibration_but_not_discrimination(saved):
+    result = _monitor(saved[0], _frame(N_QUARTER, 4, bad_factor=2.0))
+    assert _status(result.overall, "calibration") == "act"
+    assert _status(result.overall, "discrimination") == "ok"
+    large = result.overall.outcomes.in_the_large
+    assert large.observed_bads > 1.6 * large.expected_bads
+
+
+@pytest.mark.slow
+def test_false_alarm_rate_of_calibration_is_at_most_the_nominal_level(saved):
+    # A property of the tests, not of one draw: quarters whose outcomes are drawn from the model's
+    # own PD at each score satisfy every null hypothesis, so the Holm-adjusted family raises
+    # 'watch' (p below 0.05) at most 5% of the time (S. Holm, Scandinavian Journal of Statistics 1979).
+    model = saved[0]
+    baseline = model.baseline["development"]
+    edges = band_edges(baseline, model.settings.checks)
+    shares = baseline.everyone / baseline.everyone.sum()
+    pd_ = model.scorecard.table.scaling.pd_of_score(baseline.scores)
+    counts = {name: model.bin_counts[name]["development"]["everyone"] for name in model.scorecard.table.names}
+    rng = np.random.default_rng(2026)
+    draws, alarms = 400, 0
+    for _ in range(draws):
+        rows = rng.multinomial(4000, shares)
+        bads = rng.binomial(rows, pd_)
+        histogram = ScoreHistogram("draw", baseline.scores, (rows - bads).astype(float), bads.astype(float),
+                                   np.zeros(len(rows)))
+        period = check_period("draw", histogram, counts, model, edges, unseen={})
+        alarms += _status(period, "calibration") != "ok"
+    rate = alarms / draws
+    print(f"calibration false-alarm rate over {draws} draws: {rate:.3f}")
+    tolerance = 3 * np.sqrt(0.05 * 0.95 / draws)  # three binomial standard errors of a 5% rate
+    assert rate <= 0.05 + tolerance
+
+
+def _run(*argv):
+    out, err = io.StringIO(), io.StringIO()
+    return main(list(argv), stdout=out, stderr=err), out.getvalue(), err.getvalue()
+
+
+def test_quarter_without_outcomes_checks_stability_only(saved, tmp_path):
+    frame = _frame(2000, 5).drop(columns="outcome")
+    frame.to_csv(tmp_path / "q.csv", index=False)
+    code, out, err = _run("monitor", str(saved[1]), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"))
+    assert code == 0, err
+    assert "stability only" in out
+    assert "calibration" not in out.split("stability only")[0]
+
+
+def test_per_quarter_trend_and_fail_on(saved, tmp_path):
+    frame = pd.concat([_frame(3000, 6, start="2025-01-01"), _frame(3000, 7, start="2025-04-01", bad_factor=2.0)])
+    frame.to_csv(tmp_path / "q.csv", index=False)
+    code, out, err = _run("monitor", str(saved[1]), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"), "--fail-on", "act")
+    assert code == 1, err
+    assert "per quarter: 2025Q1 ok, 2025Q2 act" in out
+
+
+def test_a_gap_between_quarters_is_bad_input(saved, tmp_path):
+    frame = pd.concat([_frame(500, 8, start="2025-01-01"), _frame(500, 9, start="2025-07-01")])
+    frame.to_csv(tmp_path / "q.csv", index=False)
+    code, _, err = _run("monitor", str(saved[1]), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"))
+    assert code == 2
+    assert "quarter 2025Q2 has no rows" in err and "Traceback" not in err
+
+
+def test_a_missing_characteristic_is_named(saved, tmp_path):
+    _frame(500, 10).drop(columns="enquiries").to_csv(tmp_path / "q.csv", index=False)
+    code, _, err = _run("monitor", str(saved[1]), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"))
+    assert code == 2 and "column 'enquiries' of the scorecard is not in the ledger" in err
+
+
+@pytest.mark.parametrize("damage", ["corrupt", "newer"])
+def test_a_damaged_or_newer_model_file_is_bad_input(saved, tmp_path, damage):
+    document = json.loads(saved[1].read_text())
+    if damage == "corrupt":
+        (tmp_path / "model.json").write_text(saved[1].read_text()[:-200])
+    else:
+        document["format_version"] = 99
+        save_model(document, tmp_path / "model.json")
+    _frame(500, 11).to_csv(tmp_path / "q.csv", index=False)
+    code, _, err = _run("monitor", str(tmp_path / "model.json"), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"))
+    assert code == 2 and "Traceback" not in err
+    assert ("not a valid model file" if damage == "corrupt" else "newer than this tool reads") in err
