@@ -73,6 +73,9 @@ class InitOptions:
     date_column: str | None = None
     weight_column: str | None = None
     special: tuple[str, ...] = ()
+    leave_out: tuple[str, ...] = ()
+    out_of_time_from: str = ""
+    holdout: float | None = None
     out: Path = Path("scorecard.toml")
     force: bool = False
 
@@ -171,6 +174,9 @@ def _add_init(commands) -> None:
     parser.add_argument("--date", dest="date_column", metavar="COLUMN", help="the application date column (default: detected)")
     parser.add_argument("--weight", dest="weight_column", metavar="COLUMN", help="a case-weight column")
     parser.add_argument("--special", nargs="+", default=(), metavar="COLUMN=V[,V]", help="special values of a numeric characteristic, e.g. months_since_arrears=-1,999")
+    parser.add_argument("--leave-out", nargs="+", default=(), metavar="COLUMN", help="columns that are not characteristics (e.g. recorded after the decision)")
+    parser.add_argument("--out-of-time-from", default="", metavar="YYYY-MM-DD", help="rows dated on or after this date form the out-of-time sample")
+    parser.add_argument("--holdout", type=float, metavar="SHARE", help="share of the in-time rows kept back as the hold-out sample (default 0.3)")
     parser.add_argument("--out", type=Path, default=Path("scorecard.toml"), help="settings file to write (default: scorecard.toml)")
     parser.add_argument("--force", action="store_true", help="overwrite the settings file if it exists")
     _add_common(parser)
@@ -181,7 +187,8 @@ def _init_options(args: argparse.Namespace) -> InitOptions:
     return InitOptions(
         ledger=args.ledger, target=args.target, bad=tuple(args.bad), good=tuple(args.good),
         indeterminate=tuple(args.indeterminate), id_column=args.id_column, date_column=args.date_column,
-        weight_column=args.weight_column, special=tuple(args.special), out=args.out, force=args.force,
+        weight_column=args.weight_column, special=tuple(args.special), leave_out=tuple(args.leave_out),
+        out_of_time_from=args.out_of_time_from, holdout=args.holdout, out=args.out, force=args.force,
     )
 
 

@@ -24,7 +24,10 @@ from .ledger import (
 )
 from .modelfile import load_model, model_document, save_model
 from .monitor import STATUSES, monitor_ledger
-from .settings import CharacteristicSettings, Settings, read_settings, write_settings, write_text_atomically
+from .settings import (
+    CharacteristicSettings, Settings, read_settings, settings_from_mapping, settings_to_mapping, write_settings,
+    write_text_atomically,
+)
 
 
 def run_init(options: InitOptions, streams: Streams) -> int:
@@ -63,11 +66,13 @@ def _initial_settings(frame, options: InitOptions, source: str) -> Settings:
         frame, ledger=options.ledger, target=options.target, bad=options.bad, good=options.good,
         indeterminate=options.indeterminate, id_column=options.id_column, date_column=options.date_column,
         weight_column=options.weight_column, special=options.special, folder=options.out.resolve().parent, source=source,
+        leave_out=options.leave_out, out_of_time_from=options.out_of_time_from, holdout=options.holdout,
     )
 
 
 def command_line_settings(frame, *, ledger: Path, target: str, bad=(), good=(), indeterminate=(), id_column=None,
-                          date_column=None, weight_column=None, special=(), folder: Path, source: str) -> Settings:
+                          date_column=None, weight_column=None, special=(), folder: Path, source: str, leave_out=(),
+                          out_of_time_from: str = "", holdout: float | None = None) -> Settings:
     """Return settings for a ledger from command-line choices, detecting the id and date columns."""
     columns = [str(c) for c in frame.columns]
     if target not in columns:
@@ -80,13 +85,18 @@ def command_line_settings(frame, *, ledger: Path, target: str, bad=(), good=(), 
     if date_column is None:
         date_column = _detect_role(frame, choice, "dates")
     specials = _special_values(special, columns, source)
-    return Settings().replace(
+    samples = {"out_of_time_from": out_of_time_from}
+    if holdout is not None:
+        samples["holdout_fraction"] = holdout
+    document = settings_to_mapping(Settings().replace(
         ledger={"path": os.path.relpath(ledger.resolve(), folder), "id_column": id_column or "",
-                "date_column": date_column or "", "weight_column": weight_column or ""},
+                "date_column": date_column or "", "weight_column": weight_column or "", "leave_out": tuple(leave_out)},
         outcome={"column": target, "bad": bad, "good": good, "indeterminate": tuple(indeterminate)},
+        samples=samples,
         characteristics={name: CharacteristicSettings(special_values=values) for name, values in specials.items()},
-        folder=str(folder),
-    )
+    ))
+    # validated like a settings file, so that a wrong option gets the same clear message
+    return settings_from_mapping(document, source="the command line", folder=str(folder))
 
 
 def _outcome_lists(column, options: InitOptions, source: str) -> tuple[tuple[str, ...], tuple[str, ...]]:

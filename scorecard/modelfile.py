@@ -27,7 +27,7 @@ from .classing import Binning
 from .errors import ModelFileError
 from .ledger import SAMPLE_NAMES
 from .points import CharacteristicPoints, PointsTable, Scaling, Scorecard, ScoreHistogram
-from .settings import Settings, settings_from_mapping
+from .settings import Settings, settings_from_mapping, settings_to_mapping
 
 FORMAT = "scorewright-model"
 FORMAT_VERSION = 1
@@ -98,7 +98,7 @@ def model_document(build) -> dict[str, Any]:
         "format": FORMAT,
         "format_version": FORMAT_VERSION,
         "tool_version": __version__,
-        "settings": settings_document(build.settings),
+        "settings": _plain(settings_to_mapping(build.settings)),
         "ledger": {"source": build.source, "fingerprint": build.fingerprint.to_dict(),
                    "samples": _samples(build.samples)},
         "scaling": table.scaling.to_dict(),
@@ -114,17 +114,6 @@ def model_document(build) -> dict[str, Any]:
         "baseline": {"score_histograms": {sample: h.to_dict() for sample, h in build.histograms.items()}},
         "notes": list(build.notes),
     }
-
-
-def settings_document(settings: Settings) -> dict[str, Any]:
-    """Return the settings as nested plain values (the shape of the TOML file)."""
-    document = {name: dataclasses.asdict(getattr(settings, name)) for name in
-                ("ledger", "outcome", "samples", "classing", "selection", "fit", "scaling", "reasons", "checks", "report")}
-    document["characteristics"] = {
-        name: {key: value for key, value in dataclasses.asdict(spec).items() if value is not None}
-        for name, spec in settings.characteristics.items()
-    }
-    return _plain(document)
 
 
 def save_model(document: Mapping[str, Any], path: str | os.PathLike[str]) -> Path:

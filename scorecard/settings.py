@@ -450,6 +450,25 @@ def _is_iso_date(text: str) -> bool:
 # Writing
 
 
+def settings_to_mapping(settings: Settings) -> dict[str, Any]:
+    """Return the settings as nested plain values, the shape of the TOML file (None values left out)."""
+    document: dict[str, Any] = {name: dataclasses.asdict(getattr(settings, name)) for name in SECTIONS}
+    document["characteristics"] = {
+        name: {key: value for key, value in dataclasses.asdict(spec).items() if value is not None}
+        for name, spec in settings.characteristics.items()
+    }
+    return _as_lists(document)
+
+
+def _as_lists(value: Any) -> Any:
+    """Turn tuples into lists throughout, as TOML reading gives them."""
+    if isinstance(value, Mapping):
+        return {key: _as_lists(item) for key, item in value.items()}
+    if isinstance(value, (tuple, list)):
+        return [_as_lists(item) for item in value]
+    return value
+
+
 def write_settings(settings: Settings, path: str | os.PathLike[str], *, comments: Mapping[str, str] | None = None,
                    header: str = "") -> Path:
     """Write settings as TOML, atomically, every key spelled out.
@@ -565,3 +584,66 @@ def settings_reference() -> list[tuple[str, str, str]]:
         default = "(none)" if spec.default is None else _toml_value(spec.default)
         rows.append((f"characteristics.NAME.{spec.name}", default, spec.metadata["meaning"]))
     return rows
+
+
+# --------------------------------------------------------------------------------------------
+# Editing a settings file in place, as an analyst would (comments kept)
+
+
+def edit_settings(path: str | os.PathLike[str], changes: Mapping[str, Any]) -> Path:
+    """Set keys of a settings file, keeping its comments and layout, and check the result.
+
+    Parameters
+    ----------
+    path : path-like
+        The settings file; rewritten atomically.
+    changes : mapping
+        Dotted keys to new values, e.g. ``{"samples.out_of_time_from": "2025-01-01",
+        "characteristics.collections_status.use": "never"}``.
+
+    Returns
+    -------
+    Path
+
+    Raises
+    ------
+    SettingsError
+        The edited file does not validate (an unknown key or an impossible value).
+    """
+    path = Path(path)
+    lines = path.read_text(encoding="utf-8").splitlines()
+    for dotted, value in changes.items():
+        section, _, key = dotted.rpartition(".")
+        lines = _set_line(lines, section, key, _toml_value(value))
+    text = "\n".join(lines) + "\n"
+    try:
+        document = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as error:
+        raise SettingsError(f"{path}: editing made the file invalid TOML ({error}).") from None
+    settings_from_mapping(document, source=str(path), folder=str(path.parent))
+    return write_text_atomically(path, text)
+
+
+def _set_line(lines: list[str], section: str, key: str, value: str) -> list[str]:
+    """Replace ``key = ...`` inside ``[section]`` (keeping a trailing comment), or add it."""
+    header = "[" + ".".join(_toml_key(part) for part in _split_section(section)) + "]"
+    start = next((i for i, line in enumerate(lines) if line.strip() == header), None)
+    if start is None:
+        return [*lines, "", header, f"{key} = {value}"]
+    end = next((i for i in range(start + 1, len(lines)) if lines[i].lstrip().startswith("[")), len(lines))
+    for i in range(start + 1, end):
+        name, equals, rest = lines[i].partition("=")
+        if equals and name.strip() == key:
+            comment = rest[rest.index("  #"):] if "  #" in rest else ""
+            lines[i] = f"{key} = {value}{comment}"
+            return lines
+    insert = end
+    while insert > start + 1 and not lines[insert - 1].strip():
+        insert -= 1
+    return [*lines[:insert], f"{key} = {value}", *lines[insert:]]
+
+
+def _split_section(section: str) -> list[str]:
+    """Split 'characteristics.name' into its parts; a characteristic's name may itself hold dots."""
+    first, _, rest = section.partition(".")
+    return [first, rest] if first == "characteristics" and rest else [first]
