@@ -137,7 +137,7 @@ LEVEL_EFFECTS: dict[str, dict[str | None, float]] = {
         "debt_consolidation": 0.25, "car": -0.15, "home_improvement": -0.10, "holiday": 0.10,
         "education": 0.0, "medical": 0.20, "other": 0.15,
     },
-    "channel": {"branch": 0.0, "online": 0.10, "broker": 0.35},
+    "channel": {"branch": 0.0, "online": 0.10, "broker": 0.75},
     "phone_provided": {"yes": 0.0, "no": 0.30},
     "home_district": dict(zip(
         LEVELS["home_district"], np.round(0.3 * np.sin(2.3 * np.arange(40) + 0.5), 3).tolist()

@@ -116,6 +116,16 @@ class MonitorOptions:
     force: bool = False
 
 
+@dataclass(frozen=True)
+class DemoOptions:
+    """Options of ``scorewright demo``."""
+
+    out: Path = Path("demo-run")
+    rows: int = 40_000
+    seed: int = 2024
+    force: bool = False
+
+
 # --------------------------------------------------------------------------------------------
 # The parser
 
@@ -139,6 +149,7 @@ def build_parser() -> argparse.ArgumentParser:
     _add_build(commands)
     _add_score(commands)
     _add_monitor(commands)
+    _add_demo(commands)
     return parser
 
 
@@ -283,6 +294,32 @@ def _run_monitor(options: MonitorOptions, streams: Streams) -> int:
     from .commands import run_monitor
 
     return run_monitor(options, streams)
+
+
+def _add_demo(commands) -> None:
+    parser = commands.add_parser(
+        "demo", help="run the whole flow on an invented lender's ledgers",
+        description=(
+            "Generate the ledgers of an invented lender (eight quarters of applications), then run the "
+            "analyst's whole flow on them: init, the analyst's decisions, build with an out-of-time sample, "
+            "score new applications with reasons, and monitor the last two quarters. Prints each step and "
+            "the files to open."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_examples("scorewright demo", "scorewright demo --out my-demo --rows 100000"),
+    )
+    parser.add_argument("--out", type=Path, default=Path("demo-run"), metavar="DIR", help="output folder (default: demo-run)")
+    parser.add_argument("--rows", type=int, default=40_000, help="applications over the eight quarters (default 40000)")
+    parser.add_argument("--seed", type=int, default=2024, help="seed of the generator (default 2024)")
+    parser.add_argument("--force", action="store_true", help="write into the output folder even if it exists")
+    _add_common(parser)
+    parser.set_defaults(make_options=lambda a: DemoOptions(a.out, a.rows, a.seed, a.force), run=_run_demo)
+
+
+def _run_demo(options: DemoOptions, streams: Streams) -> int:
+    from .commands import run_demo
+
+    return run_demo(options, streams)
 
 
 def _run_score(options: ScoreOptions, streams: Streams) -> int:

@@ -16,7 +16,7 @@ import numpy as np
 
 from .build import ClassedLedger, build_scorecard, class_ledger
 from .classing import classing_settings_values
-from .cli import EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, InitOptions, MonitorOptions, ScoreOptions, Streams
+from .cli import EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, DemoOptions, InitOptions, MonitorOptions, ScoreOptions, Streams
 from .errors import LedgerError, SettingsError
 from .ledger import (
     NUMERIC, closest_names, default_outcome_mapping, detect_kind, fingerprint_of, looks_like_identifier_or_date,
@@ -350,7 +350,8 @@ def run_monitor(options: MonitorOptions, streams: Streams) -> int:
                             fingerprint=fingerprint_of(options.ledger, len(frame)), require_outcome=False)
     result = monitor_ledger(saved, frame, ledger.outcome, ledger.weight, ledger.dates, source=source)
     for note in (*ledger.notes, *result.notes):
-        streams.note(note)
+        if note not in ledger.left_out.values() and "left out:" not in note:
+            streams.note(note)
     summary = monitor_summary(result, model=options.model)
     written = [write_text_atomically(out / "monitor.txt", summary + "\n")]
     streams.say(summary)
@@ -382,8 +383,8 @@ def monitor_summary(result, *, model: Path) -> str:
     overall = result.overall
     lines = [
         f"monitoring {result.source} with {model}",
-        f"{overall.rows:,.0f} rows: {overall.goods + overall.bads:,.0f} with a known outcome "
-        f"({overall.bads:,.0f} bads), {overall.unknown:,.0f} without",
+        f"{overall.rows:,.0f} rows: {overall.goods:,.0f} good, {overall.bads:,.0f} bad, "
+        f"{overall.indeterminate:,.0f} indeterminate, {overall.unknown:,.0f} with no outcome yet",
         "",
         f"overall status: {result.status}",
     ]
@@ -396,3 +397,17 @@ def monitor_summary(result, *, model: Path) -> str:
         lines += ["", "per quarter: " + ", ".join(f"{q.period} {q.status}" for q in result.quarters)]
     return "\n".join(lines)
 
+
+
+# --------------------------------------------------------------------------------------------
+# demo
+
+
+def run_demo(options: DemoOptions, streams: Streams) -> int:
+    """Run the whole flow on the invented demo scenario."""
+    from .demo.run import run_demo as run
+
+    if options.rows < 8_000:
+        raise SettingsError(f"--rows {options.rows}: the demo needs at least 8000 applications (1000 a quarter).")
+    check_output_folder(options.out, options.force)
+    return run(options.out, rows=options.rows, seed=options.seed, streams=streams)

@@ -98,6 +98,11 @@ class PeriodMonitor:
         """The worst status of any check."""
         return worst(s.status for s in self.statuses)
 
+    @property
+    def indeterminate(self) -> float:
+        """Weighted rows whose outcome is neither good nor bad (not counting those with none)."""
+        return self.rows - self.goods - self.bads - self.unknown
+
 
 @dataclass(frozen=True)
 class MonitorResult:

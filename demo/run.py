@@ -1,0 +1,89 @@
+"""Run the analyst's whole flow on the invented demo scenario, printing each step.
+
+The steps are the commands an analyst types, run in this process with the same arguments:
+generate the ledgers; ``init`` on the first six quarters (the last two of them as the
+out-of-time sample); the analyst's decisions from ``analyst.toml``; ``build``; ``score`` the
+next applications with reasons; ``monitor`` the last two quarters once their outcomes are known.
+"""
+
+from __future__ import annotations
+
+import shlex
+import time
+import tomllib
+from importlib import resources
+from pathlib import Path
+
+from scorecard.demo import generator
+from scorecard.errors import ScorecardError
+from scorecard.settings import edit_settings
+
+BUILD_QUARTERS = 6  # 2024Q1 to 2025Q2: the history the scorecard is built on
+OUT_OF_TIME_FROM = "2025-01-01"  # the last two of those quarters are kept out of time
+SPECIAL = ("months_since_delinquency=-1", "months_since_last_enquiry=999")
+
+
+def run_demo(out: Path, *, rows: int, seed: int, streams) -> int:
+    """Run the demo into folder ``out``; return 0 when every step succeeded."""
+    from scorecard.cli import main
+
+    started = time.perf_counter()
+    data = out / "data"
+    data.mkdir(parents=True, exist_ok=True)
+    history, applications, recent = _write_ledgers(data, rows=rows, seed=seed, streams=streams)
+    settings = out / "scorecard.toml"
+    steps = [
+        ("Propose a classing of every characteristic and write the settings file",
+         ["init", str(history), "--target", "outcome", "--bad", "bad", "--good", "good", "--indeterminate", "indeterminate",
+          "--out-of-time-from", OUT_OF_TIME_FROM, "--special", *SPECIAL, "--out", str(settings), "--force"]),
+        ("The analyst's decisions", None),
+        ("Build the scorecard: selection, fit, points, checks, reports",
+         ["build", str(settings), "--out", str(out / "build"), "--force"]),
+        ("Score the next applications, with the reasons behind each score",
+         ["score", str(out / "build" / "model.json"), str(applications), "--out", str(out / "scored.csv"), "--force"]),
+        ("Monitor the last two quarters once their outcomes are known",
+         ["monitor", str(out / "build" / "model.json"), str(recent), "--out", str(out / "monitor"), "--force"]),
+    ]
+    for number, (title, argv) in enumerate(steps, start=2):
+        streams.say(f"\n== step {number} of {len(steps) + 1}: {title}")
+        if argv is None:
+            _apply_decisions(settings, streams)
+            continue
+        streams.say("$ scorewright " + " ".join(shlex.quote(a) for a in argv))
+        code = main(argv, stdout=streams.out, stderr=streams.err)
+        if code not in (0, 1):
+            raise ScorecardError(f"the demo stopped at 'scorewright {argv[0]}' (exit code {code}); the message above says why.")
+    streams.say(f"\n== done in {time.perf_counter() - started:.0f} s. Open these files:")
+    for path, what in [
+        (out / "build" / "report.html", "the reviewer's report (any browser, offline)"),
+        (out / "build" / "workbook.xlsx", "the reviewer's workbook, with live formulas"),
+        (out / "scored.csv", "scores, PDs and reasons of the new applications"),
+        (out / "monitor" / "monitor.html", "the monitoring report of the last two quarters"),
+        (settings, "the settings file: every decision, editable"),
+    ]:
+        if path.exists():
+            streams.say(f"  {path}  {what}")
+    return 0
+
+
+def _write_ledgers(data: Path, *, rows: int, seed: int, streams):
+    streams.say(f"== step 1 of 6: Generate the ledgers of {generator.SCENARIO_NAME} (invented), {rows:,} applications over eight quarters")
+    frame = generator.generate_ledger(rows, seed=seed)
+    quarter = generator.quarter_index(frame)
+    history = generator.write_ledger(frame[quarter < BUILD_QUARTERS], data / "history.csv")
+    later = frame[quarter >= BUILD_QUARTERS]
+    applications = generator.write_ledger(later.drop(columns=[generator.TARGET, generator.LEAKING]), data / "new_applications.csv")
+    recent = generator.write_ledger(later, data / "recent_outcomes.csv")
+    names = generator.quarter_names()
+    streams.say(f"  {history}: {names[0]} to {names[BUILD_QUARTERS - 1]}, {int((quarter < BUILD_QUARTERS).sum()):,} applications with outcomes")
+    streams.say(f"  {applications}: {names[BUILD_QUARTERS]} to {names[-1]}, {len(later):,} applications to score")
+    streams.say(f"  {recent}: the same applications with the outcomes known a year later")
+    return history, applications, recent
+
+
+def _apply_decisions(settings: Path, streams) -> None:
+    text = resources.files("scorecard.demo").joinpath("analyst.toml").read_text(encoding="utf-8")
+    decisions = tomllib.loads(text)["decision"]
+    for decision in decisions:
+        streams.say(f"  set {decision['key']} = {decision['value']!r}: {decision['why']}")
+    edit_settings(settings, {d["key"]: d["value"] for d in decisions})

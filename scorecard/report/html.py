@@ -1,0 +1,843 @@
+"""The build report: one self-contained HTML page that a model reviewer reads on screen or on paper.
+
+``render_report`` turns a build and its validation into the page; ``write_report`` writes it.
+The page carries its own style and its charts as inline SVG, and refers to nothing outside
+itself, so it opens offline in any browser. Every value is formatted here and escaped by the
+template (Jinja2 autoescaping), so a category label such as ``<b>`` shows as text.
+
+The page is made from count tables, score histograms and small results only, never from rows,
+so rendering takes the same time for a ledger of a thousand rows or of ten million.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import platform
+from collections.abc import Collection, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+from markupsafe import Markup
+
+from .. import __version__
+from ..settings import settings_to_toml, write_text_atomically
+from . import CAUTION
+from . import charts
+from .templates import environment
+
+SECTIONS = (
+    ("summary", "Summary"),
+    ("data", "Data and samples"),
+    ("characteristics", "Characteristics"),
+    ("selection", "Selection log"),
+    ("fit", "The fit"),
+    ("points", "The points table"),
+    ("discrimination", "Discrimination"),
+    ("calibration", "Calibration"),
+    ("stability", "Stability"),
+    ("cutoffs", "Cut-offs"),
+    ("cautions", "Cautions and limits"),
+    ("reproducibility", "Reproducibility"),
+)
+DEVELOPMENT = "development"
+CUTOFF_ROWS = 21  # rows of the cut-off table the page shows; the workbook holds every cut-off
+CUTOFF_STEPS = (1, 2, 5, 10, 20, 25, 50, 100, 200, 500, 1000)  # score steps tried for the shown rows
+CUTOFF_SPAN = (0.02, 0.98)  # approval rates the shown rows cover: the cut-offs a lender would consider
+DASH = "—"
+ADJUSTED_MARK = "†"
+
+
+def render_report(build, validation, *, generated_by: str = "") -> str:
+    """Return the build report as one self-contained HTML page.
+
+    Parameters
+    ----------
+    build : scorecard.build.Build
+        The scorecard and the evidence behind it.
+    validation : scorecard.validation.Validation
+        The checks of ``build`` per sample (``validate_build(build)``).
+    generated_by : str
+        Who or what made the report (e.g. the command line); shown under Reproducibility.
+
+    Returns
+    -------
+    str
+        The HTML page: inline style and SVG charts, no script, no external reference.
+    """
+    report = build.settings.report
+    context = {
+        "title": report.title,
+        "kicker": "Scorecard build report",
+        "subtitle": _subtitle(build),
+        "caution": CAUTION,
+        "tool_version": __version__,
+        "sections": SECTIONS,
+        "summary": _summary(build, validation),
+        "data": _data(build),
+        "characteristics": _characteristics(build),
+        "selection": _selection(build),
+        "fit": _fit(build),
+        "points": _points(build),
+        "discrimination": _discrimination(build, validation),
+        "calibration": _calibration(validation),
+        "stability": _stability(build, validation),
+        "cutoffs": _cutoffs(validation),
+        "cautions": _cautions(build),
+        "reproducibility": _reproducibility(build, generated_by),
+    }
+    return environment().get_template("report.html").render(**context)
+
+
+def write_report(build, validation, path) -> Path:
+    """Write the build report to ``path`` atomically and return the path.
+
+    The page is written under a temporary name in the same folder and then renamed into place
+    (``os.replace``), so a failed run leaves no half-written report.
+
+    Parameters
+    ----------
+    build : scorecard.build.Build
+    validation : scorecard.validation.Validation
+    path : path-like
+        Where the report goes, e.g. ``run1/report.html``; its folder is made if missing.
+
+    Returns
+    -------
+    pathlib.Path
+    """
+    return write_text_atomically(Path(os.fspath(path)), render_report(build, validation))
+
+
+# --------------------------------------------------------------------------------------------
+# What the template draws: tables, figures and charts, every value already text
+
+
+@dataclass(frozen=True)
+class _Cell:
+    text: str
+    css: str = ""
+
+
+@dataclass(frozen=True)
+class _Row:
+    cells: tuple[_Cell, ...]
+    css: str = ""
+
+
+@dataclass(frozen=True)
+class _Table:
+    head: tuple[_Cell, ...]
+    rows: tuple[_Row, ...]
+    caption: str = ""
+    css: str = ""
+
+
+@dataclass(frozen=True)
+class _Figure:
+    label: str
+    value: str
+    detail: str = ""
+
+
+@dataclass(frozen=True)
+class _Chart:
+    svg: Markup
+    caption: str
+
+
+def _table(columns: Sequence[str], rows, *, numeric: Collection[int] = (), caption: str = "",
+           row_css: Sequence[str] | None = None, css: str = "") -> _Table:
+    """A table of text cells; columns listed in ``numeric`` are right-aligned."""
+    def cell(value, column):
+        number = "number" if column in numeric else ""
+        if isinstance(value, _Cell):
+            return _Cell(value.text, " ".join(filter(None, (number, value.css))))
+        return _Cell(value, number)
+
+    row_css = row_css or [""] * len(rows)
+    head = tuple(cell(label, column) for column, label in enumerate(columns))
+    body = tuple(_Row(tuple(cell(value, column) for column, value in enumerate(row)), style)
+                 for row, style in zip(rows, row_css))
+    return _Table(head, body, caption, css)
+
+
+def _chart(svg: str, caption: str) -> _Chart:
+    # The chart helpers escape every text they draw, so their output is safe markup.
+    return _Chart(Markup(svg), caption)
+
+
+def _status(word: str) -> _Cell:
+    return _Cell(Markup('<span class="status {0}">{0}</span>').format(word))
+
+
+# --------------------------------------------------------------------------------------------
+# 1. Summary
+
+
+def _subtitle(build) -> str:
+    lender = build.settings.report.lender
+    made = f"built from {build.source} ({_count(build.fingerprint.n_rows)} rows)"
+    return f"{lender} · {made}" if lender else made[0].upper() + made[1:]
+
+
+def _summary(build, validation) -> dict:
+    table = build.scorecard.table
+    honest = _honest_sample(validation)
+    checks = validation.samples[honest]
+    figures = [
+        _Figure("Characteristics in the model", f"{len(table.names)} of {len(build.characteristics)}",
+                "classed characteristics"),
+        _Figure("Score range", f"{_score(table.min_score, table.decimals)} to {_score(table.max_score, table.decimals)}",
+                "lowest and highest possible"),
+        _Figure(f"AUC, {honest} sample", _fixed(checks.auc.auc, 4),
+                f"{_level(checks.auc.level)} interval {_interval(checks.auc.lower, checks.auc.upper, 4)}"),
+        _Figure(f"Gini, {honest} sample", _fixed(checks.auc.gini, 4), "2 × AUC − 1"),
+        _Figure(f"KS, {honest} sample", _fixed(checks.ks.statistic, 4),
+                f"widest at score {_score(checks.ks.score, table.decimals)}"),
+    ]
+    return {
+        "purpose": _purpose(build),
+        "fingerprint": _fingerprint(build),
+        "samples": _sample_table(build, brief=True),
+        "figures": figures,
+        "headline": _headline_table(validation, table.decimals),
+        "attention": _attention(build, validation),
+    }
+
+
+def _purpose(build) -> str:
+    report = build.settings.report
+    table = build.scorecard.table
+    lender = f" of {report.lender}" if report.lender else ""
+    return (
+        f"“{report.title}” is the application scorecard{lender}: a table of points that ranks new credit "
+        f"applications by how likely the loan is to be repaid as agreed. Each of {len(table.names)} "
+        f"characteristics of an application earns the points its answer falls into (section 6), and the "
+        f"points add up to a score from {_score(table.min_score, table.decimals)} to "
+        f"{_score(table.max_score, table.decimals)}; the higher the score, the lower the risk. It was fitted "
+        f"on past applications in {build.source} whose outcome is known. This report is the evidence behind "
+        f"it for a model reviewer: how the data were split, how each characteristic was grouped and chosen, "
+        f"how well the score separates good loans from bad ones, and how well its predicted default rates "
+        f"match what happened, on every sample."
+    )
+
+
+def _fingerprint(build) -> list[tuple[str, str]]:
+    fingerprint = build.fingerprint
+    return [("Ledger", build.source), ("Rows", _count(fingerprint.n_rows)),
+            (f"SHA-256 of the {fingerprint.of}", fingerprint.sha256)]
+
+
+def _honest_sample(validation) -> str:
+    """The sample whose figures say most about new applications: out-of-time, else hold-out."""
+    for name in ("out-of-time", "hold-out"):
+        if name in validation.samples:
+            return name
+    return DEVELOPMENT
+
+
+def _headline_table(validation, decimals: int) -> _Table:
+    rows = []
+    for name, checks in validation.samples.items():
+        area = checks.auc
+        rows.append([name, _count(checks.goods), _count(checks.bads), _percent(checks.bad_rate), _fixed(area.auc, 4),
+                     _interval(area.lower, area.upper, 4), _fixed(area.gini, 4),
+                     _interval(area.gini_lower, area.gini_upper, 4), _fixed(checks.ks.statistic, 4),
+                     _score(checks.ks.score, decimals)])
+    level = _level(next(iter(validation.samples.values())).auc.level) if validation.samples else "95%"
+    return _table(["sample", "goods", "bads", "bad rate", "AUC", f"AUC {level} interval", "Gini",
+                   f"Gini {level} interval", "KS", "KS at score"], rows, numeric=range(1, 10),
+                  caption=f"Headline figures per sample (AUC interval: DeLong, {level}).")
+
+
+def _attention(build, validation) -> list[str]:
+    """Findings of the checks that a reviewer should look at first."""
+    checks = build.settings.checks
+    table = build.scorecard.table
+    fit = build.selection.fit
+    found = []
+    for name in table.names:
+        evidence = build.characteristic(name).evidence
+        if evidence.leakage_flag:
+            found.append(f"{name!r} is in the model with IV {evidence.iv:.3f}, above the leakage threshold "
+                         f"{build.settings.selection.leakage_iv:g}: confirm it is known when an application is made "
+                         f"(section 3).")
+        if evidence.adjusted.any():
+            found.append(f"{name!r} has bins with no goods or no bads on development; 0.5 was added to their "
+                         f"counts (section 3).")
+    for name, coefficient in zip(fit.names[1:], fit.coefficients[1:]):
+        if coefficient < 0:
+            found.append(f"The coefficient of {name!r} is negative ({coefficient:.4f}): a reversal of its WoE's "
+                         f"meaning (section 5).")
+    if not fit.converged:
+        found.append(f"The fit did not converge in {fit.iterations} iterations (section 5).")
+    for sample, result in validation.score_stability.items():
+        if result.status != "ok":
+            found.append(f"Score PSI of the {sample} sample against development is {result.value:.4f}: "
+                         f"{result.status} (section 9).")
+    for sample, per_characteristic in validation.characteristic_stability.items():
+        for item in per_characteristic:
+            if item.psi.status != "ok":
+                found.append(f"PSI of {item.characteristic!r} on the {sample} sample is {item.psi.value:.4f}: "
+                              f"{item.psi.status} (section 9).")
+    for sample, result in validation.samples.items():
+        if result.hosmer_lemeshow.p_value < checks.p_watch:
+            found.append(f"Hosmer–Lemeshow p-value on the {sample} sample is {_p_value(result.hosmer_lemeshow.p_value)}, "
+                         f"below {checks.p_watch:g} (section 8).")
+        if result.in_the_large.p_excess < checks.p_watch:
+            found.append(f"More bads than predicted on the {sample} sample: {_percent(result.in_the_large.observed_rate)} "
+                         f"observed against {_percent(result.in_the_large.expected_rate)} predicted, one-sided "
+                         f"p-value {_p_value(result.in_the_large.p_excess)} (section 8).")
+    return found
+
+
+# --------------------------------------------------------------------------------------------
+# 2. Data and samples
+
+
+def _data(build) -> dict:
+    settings = build.settings
+    samples = settings.samples
+    drawn = [
+        f"Hold-out: {_percent(samples.holdout_fraction, 0)} of the in-time rows of each outcome, drawn at random "
+        f"with seed {samples.seed}, so development and hold-out have the same bad rate to within one row.",
+    ]
+    if samples.out_of_time_from:
+        drawn.append(f"Out-of-time: every row dated on or after {samples.out_of_time_from} "
+                     f"(date column {settings.ledger.date_column!r}).")
+    else:
+        drawn.append("Out-of-time: none drawn (no date set under [samples] out_of_time_from).")
+    drawn.append("Development: the rest. Only its goods and bads are used to class, choose and fit.")
+    outcome = settings.outcome
+    mapping = [f"Outcome column {outcome.column!r}.",
+               f"Bad: {_values(outcome.bad) or 'the mapping read from the data'}.",
+               f"Good: {_values(outcome.good) or 'the mapping read from the data'}."]
+    if outcome.indeterminate:
+        mapping.append(f"Indeterminate (left out of fitting, kept for stability): {_values(outcome.indeterminate)}.")
+    if settings.ledger.weight_column:
+        mapping.append(f"Counts are weighted by column {settings.ledger.weight_column!r}.")
+    return {"samples": _sample_table(build, brief=False), "drawn": drawn, "mapping": mapping,
+            "notes": list(build.notes)}
+
+
+def _sample_table(build, *, brief: bool) -> _Table:
+    frame = build.samples[build.samples["rows"] > 0]
+    if brief:
+        columns = ["sample", "rows", "goods", "bads", "bad rate"]
+        rows = [[name, _count(r["rows"]), _count(r["good"]), _count(r["bad"]), _percent(r["bad rate"])]
+                for name, r in frame.iterrows()]
+        return _table(columns, rows, numeric=range(1, 5))
+    columns = ["sample", "rows", "goods", "bads", "indeterminate", "unknown", "bad rate"]
+    rows = [[name, _count(r["rows"]), _count(r["good"]), _count(r["bad"]), _count(r["indeterminate"]),
+             _count(r["unknown"]), _percent(r["bad rate"])] for name, r in frame.iterrows()]
+    totals = frame.sum(numeric_only=True)
+    decided = totals["good"] + totals["bad"]
+    rows.append(["all", _count(totals["rows"]), _count(totals["good"]), _count(totals["bad"]),
+                 _count(totals["indeterminate"]), _count(totals["unknown"]),
+                 _percent(totals["bad"] / decided if decided else math.nan)])
+    return _table(columns, rows, numeric=range(1, 7), row_css=[""] * (len(rows) - 1) + ["total"],
+                  caption="Bad rate: bads over goods and bads; indeterminate and unknown outcomes are not in it.")
+
+
+def _values(values: Sequence[str]) -> str:
+    return ", ".join(repr(value) for value in values)
+
+
+# --------------------------------------------------------------------------------------------
+# 3. Characteristics
+
+
+def _characteristics(build) -> dict:
+    model = build.scorecard.table.names
+    others = sorted((c for c in build.characteristics if c.name not in model), key=lambda c: -c.evidence.iv)
+    ordered = [build.characteristic(name) for name in model] + others
+    overview = _table(
+        ["characteristic", "in the model", "IV", "strength", "bins", "classing", "leakage flag"],
+        [[_Cell(Markup('<a href="#{}">{}</a>').format(_anchor(position), c.name)),
+          "yes" if c.name in model else "no", _fixed(c.evidence.iv, 4), c.evidence.strength,
+          str(c.binning.n_bins), _origin(c.origin), _flag("IV above threshold") if c.evidence.leakage_flag else ""]
+         for position, c in enumerate(ordered)],
+        numeric=(2, 4),
+        caption="Every characteristic classed, model ones first (in model order), then the others by IV. "
+                "Development sample.",
+    )
+    views = [_characteristic_view(c, position, c.name in model, build) for position, c in enumerate(ordered)]
+    return {"overview": overview, "model": views[:len(model)], "others": views[len(model):],
+            "leakage_iv": f"{build.settings.selection.leakage_iv:g}"}
+
+
+def _characteristic_view(classed, position: int, in_model: bool, build) -> dict:
+    evidence = classed.evidence
+    return {
+        "name": classed.name,
+        "anchor": _anchor(position),
+        "in_model": in_model,
+        "iv": _fixed(evidence.iv, 4),
+        "strength": evidence.strength,
+        "origin": _origin(classed.origin),
+        "leakage": evidence.leakage_flag,
+        "table": _evidence_table(evidence),
+        "adjusted": bool(evidence.adjusted.any()),
+        "chart": _chart(charts.woe_bars(evidence.labels, evidence.woe,
+                                        title=f"WoE of {classed.name} by bin, {evidence.sample} sample"),
+                        f"WoE of each bin of {classed.name}, {evidence.sample} sample."),
+        "notes": list(classed.notes),
+        "sample": evidence.sample,
+    }
+
+
+def _evidence_table(evidence) -> _Table:
+    rows_per_bin = evidence.goods + evidence.bads
+    total = rows_per_bin.sum()
+    rows = []
+    for label, goods, bads, rate, count, woe, iv, adjusted in zip(
+            evidence.labels, evidence.goods, evidence.bads, evidence.bad_rate, rows_per_bin, evidence.woe,
+            evidence.iv_contributions, evidence.adjusted):
+        woe_text = _fixed(woe, 4) + (f" {ADJUSTED_MARK}" if adjusted else "")
+        rows.append([label, _count(goods), _count(bads), _percent(rate), _percent(count / total, 1),
+                     _Cell(woe_text, "adjusted" if adjusted else ""), _fixed(iv, 4)])
+    n_goods, n_bads = evidence.goods.sum(), evidence.bads.sum()
+    rows.append(["all", _count(n_goods), _count(n_bads), _percent(n_bads / total), _percent(1.0, 1), "",
+                 _fixed(evidence.iv, 4)])
+    return _table(["bin", "goods", "bads", "bad rate", "share of rows", "WoE", "IV contribution"], rows,
+                  numeric=range(1, 7), row_css=[""] * (len(rows) - 1) + ["total"])
+
+
+def _origin(origin: str) -> str:
+    return "fixed in the settings" if origin == "settings" else "proposed by the tool"
+
+
+def _anchor(position: int) -> str:
+    # Numbered ids: names come from the ledger and may hold any character.
+    return f"characteristic-{position + 1}"
+
+
+def _flag(text: str) -> _Cell:
+    return _Cell(text, "flag")
+
+
+# --------------------------------------------------------------------------------------------
+# 4. Selection log
+
+
+def _selection(build) -> dict:
+    selection = build.selection
+    rules = build.settings.selection
+    log = _table(["step", "characteristic", "action", "reason", "value"],
+                 [[d.step, d.characteristic, d.action, d.reason, _figure(d.value)] for d in selection.log],
+                 numeric=(4,), caption="Every decision in the order it was taken; development sample.")
+    settings_text = (
+        f"Screen: IV below {rules.min_iv:g} leaves; IV above {rules.leakage_iv:g} is flagged for leakage. "
+        f"Of two WoE columns correlated above {rules.max_correlation:g}, the one with the lower IV leaves. "
+        f"Stepwise: {rules.stepwise}, by {rules.criterion.replace('_', '-')}"
+        + (f" (enter below {rules.p_enter:g}, leave above {rules.p_remove:g})" if rules.criterion == "p_value" else "")
+        + ". A characteristic whose coefficient comes out negative is removed and the model refitted."
+    )
+    vif = _table(["characteristic", "VIF"], [[name, _fixed(value, 2)] for name, value in selection.vif.items()],
+                 numeric=(1,), caption="Variance inflation factors of the model's WoE columns, development sample.")
+    return {"rules": settings_text, "log": log, "correlations": _correlation_table(selection.correlations, rules.max_correlation),
+            "vif": vif, "threshold": f"{rules.max_correlation:g}"}
+
+
+def _correlation_table(correlations, threshold: float) -> _Table:
+    """The lower triangle of the candidates' WoE correlations, columns numbered to stay narrow."""
+    names = list(correlations.index)
+    values = correlations.to_numpy()
+    rows = []
+    for i, name in enumerate(names):
+        cells = [f"{i + 1}  {name}"]
+        for j in range(len(names)):
+            if j > i:
+                cells.append("")
+            elif j == i:
+                cells.append(_Cell("1", "diagonal"))
+            else:
+                cells.append(_Cell(_fixed(values[i, j], 2), "high" if abs(values[i, j]) > threshold else ""))
+        rows.append(cells)
+    columns = ["characteristic"] + [str(j + 1) for j in range(len(names))]
+    return _table(columns, rows, numeric=range(1, len(names) + 1), css="matrix",
+                  caption=f"Weighted correlations of the WoE columns of the candidates that passed the IV screen; "
+                          f"development sample. Highlighted: above {threshold:g} in absolute value.")
+
+
+def _figure(value: float | None) -> str:
+    if value is None or not np.isfinite(value):
+        return ""
+    if value != 0 and (abs(value) < 0.001 or abs(value) >= 1e5):
+        return f"{value:.3g}"
+    return f"{value:,.4f}"
+
+
+# --------------------------------------------------------------------------------------------
+# 5. The fit
+
+
+def _fit(build) -> dict:
+    fit = build.selection.fit
+    rows, css = [], []
+    for position, (name, coefficient, error, z, p) in enumerate(
+            zip(fit.names, fit.coefficients, fit.std_errors, fit.z_values, fit.p_values)):
+        reversal = position > 0 and coefficient < 0
+        rows.append([name, _Cell(_fixed(coefficient, 4), "flag" if reversal else ""), _fixed(error, 4),
+                     _fixed(z, 2), _p_value(p)])
+        css.append("")
+    coefficients = _table(["name", "coefficient", "standard error", "z", "p-value"], rows, numeric=range(1, 5),
+                          caption="Logistic regression of the log-odds of good:bad on the WoE of each characteristic; "
+                                  "development sample. Each coefficient should be positive.")
+    figures = [
+        _Figure("Log-likelihood", _fixed(fit.log_likelihood, 2)),
+        _Figure("AIC", _fixed(fit.aic, 2)),
+        _Figure("BIC", _fixed(fit.bic, 2)),
+        _Figure("Observations", _count(fit.n_observations), "goods and bads, development"),
+        _Figure("Iterations", str(fit.iterations), f"solver: {fit.solver}"),
+        _Figure("Converged", "yes" if fit.converged else "no", f"ridge penalty {fit.l2:g}"),
+    ]
+    trace = _chart(charts.cost_trace_chart(fit.cost_trace, title="Cost per iteration of the fit, development sample"),
+                   "Mean negative log-likelihood at the start and after each iteration; development sample.")
+    return {"coefficients": coefficients, "figures": figures, "trace": trace}
+
+
+# --------------------------------------------------------------------------------------------
+# 6. The points table
+
+
+def _points(build) -> dict:
+    table = build.scorecard.table
+    scale = table.scaling
+    rows, css = [], []
+    for characteristic in table.characteristics:
+        for number, (label, points) in enumerate(zip(characteristic.labels, characteristic.points)):
+            rows.append([characteristic.name if number == 0 else "", label, _score(points, table.decimals)])
+            css.append("group-start" if number == 0 else "")
+    points = _table(["characteristic", "bin", "points"], rows, numeric=(2,), row_css=css, css="points-table")
+    k = len(table.names)
+    scaling = [
+        ("Base score", _score(scale.base_score, 2)), ("Base odds (good:bad)", f"{scale.base_odds:g} : 1"),
+        ("Points to double the odds (PDO)", f"{scale.pdo:g}"), ("Factor = PDO / ln 2", _fixed(scale.factor, 4)),
+        ("Offset = base score − factor × ln(base odds)", _fixed(scale.offset, 4)),
+        ("Intercept of the fit", _fixed(table.intercept, 4)), ("Characteristics (k)", str(k)),
+    ]
+    rounding = "whole points" if table.decimals == 0 else f"{table.decimals} decimals"
+    formula = (
+        f"Each bin's points are the factor times (the characteristic's coefficient times the bin's weight of "
+        f"evidence, plus the intercept divided by {k}), plus the offset divided by {k}, rounded to {rounding}. "
+        f"An application's score is the sum of the points of its bins. Before rounding, that sum equals the "
+        f"offset plus the factor times the natural log of the predicted odds of good to bad, so the odds double "
+        f"every {scale.pdo:g} points, the score {_score(scale.base_score, 2)} stands for odds of "
+        f"{scale.base_odds:g} to 1, and the probability of default of a score is 1 / (1 + odds)."
+    )
+    return {"table": points, "scaling": scaling, "formula": formula, "meaning": _score_meaning(table)}
+
+
+def _score_meaning(table) -> _Table:
+    """Odds and PD at the base score and at whole PDO steps from it, within the score range."""
+    scale = table.scaling
+    steps = range(math.ceil((table.min_score - scale.base_score) / abs(scale.pdo)),
+                   math.floor((table.max_score - scale.base_score) / abs(scale.pdo)) + 1)
+    scores = [scale.base_score + step * abs(scale.pdo) for step in steps]
+    rows = [[_score(score, 2), f"{math.exp(scale.log_odds_of_score(score)):,.2f} : 1",
+             _percent(float(scale.pd_of_score(score)))] for score in scores]
+    return _table(["score", "odds good:bad", "probability of default"], rows, numeric=(0, 1, 2),
+                  caption="What a score stands for, at steps of one PDO.")
+
+
+# --------------------------------------------------------------------------------------------
+# 7. Discrimination
+
+
+def _discrimination(build, validation) -> dict:
+    decimals = build.scorecard.table.decimals
+    roc = _chart(
+        charts.roc_chart({name: (c.roc.goods_declined, c.roc.bads_declined) for name, c in validation.samples.items()},
+                         title="ROC curves, " + ", ".join(validation.samples) + " samples"),
+        "ROC curve of each sample: share of bads against share of goods declined as the cut-off rises. "
+        "The dashed diagonal is a score that does not discriminate.")
+    per_sample = []
+    for name, checks in validation.samples.items():
+        cutoffs = checks.roc.cutoffs[1:]  # the first point declines nothing
+        ks = _chart(charts.ks_chart(cutoffs, checks.roc.goods_declined[1:], checks.roc.bads_declined[1:],
+                                    ks_score=checks.ks.score, ks=checks.ks.statistic,
+                                    title=f"Cumulative goods and bads by score, {name} sample"),
+                    f"Share of all goods and of all bads scored at or below each score; {name} sample.")
+        gains = checks.gains
+        labels = [_span(low, high, decimals) for low, high in zip(gains.score_low, gains.score_high)]
+        distribution = _chart(charts.score_distribution(labels, gains.goods, gains.bads,
+                                                        title=f"Goods and bads by score band, {name} sample"),
+                              f"Share of all goods and of all bads in each score band; {name} sample.")
+        per_sample.append({"name": name, "ks": ks, "distribution": distribution, "gains": _gains_table(gains, labels, name)})
+    return {"headline": _headline_table(validation, decimals), "roc": roc, "samples": per_sample}
+
+
+def _gains_table(gains, labels: Sequence[str], sample: str) -> _Table:
+    rows = [[label, _count(count), _count(goods), _count(bads), _percent(rate), _percent(share, 1),
+             _percent(bads_share, 1), _percent(goods_share, 1), _fixed(lift, 2)]
+            for label, count, goods, bads, rate, share, bads_share, goods_share, lift in zip(
+                labels, gains.count, gains.goods, gains.bads, gains.bad_rate, gains.cumulative_count_share,
+                gains.cumulative_bads_share, gains.cumulative_goods_share, gains.lift)]
+    return _table(["scores", "applications", "goods", "bads", "bad rate", "cumulative applications",
+                   "cumulative bads", "cumulative goods", "lift"], rows, numeric=range(1, 9),
+                  caption=f"Gains by score band, lowest scores first; {sample} sample. Cumulative shares count "
+                          f"from the lowest band; lift is the band's bad rate over the sample's "
+                          f"({_percent(gains.overall_bad_rate)}).")
+
+
+# --------------------------------------------------------------------------------------------
+# 8. Calibration
+
+
+def _calibration(validation) -> list[dict]:
+    return [_sample_calibration(name, checks) for name, checks in validation.samples.items()]
+
+
+def _sample_calibration(name: str, checks) -> dict:
+    table = checks.calibration
+    labels = [_span(low, high, 0) for low, high in zip(table.score_low, table.score_high)]
+    level = _level(table.level)
+    chart = _chart(charts.calibration_chart(labels, table.observed_rate, table.jeffreys_lower, table.jeffreys_upper,
+                                            table.mean_pd, title=f"Observed and predicted bad rate by band, {name} sample"),
+                   f"Observed bad rate per score band with its Jeffreys {level} interval, and the band's mean "
+                   f"predicted PD; {name} sample.")
+    rows = [[label, _count(count), _count(bads), _percent(observed), _percent(predicted), _fixed(expected, 1),
+             _interval(100 * low, 100 * high, 2) + "%", _p_value(jeffreys), _p_value(excess), _p_value(two_sided)]
+            for label, count, bads, observed, predicted, expected, low, high, jeffreys, excess, two_sided in zip(
+                labels, table.count, table.bads, table.observed_rate, table.mean_pd, table.expected_bads,
+                table.jeffreys_lower, table.jeffreys_upper, table.jeffreys_p, table.binomial_p_excess,
+                table.binomial_p_two_sided)]
+    bands = _table(
+        ["scores", "applications", "bads", "observed bad rate", "predicted PD", "expected bads",
+         f"Jeffreys {level} interval", "Jeffreys p", "binomial p (more bads)", "binomial p (two-sided)"],
+        rows, numeric=range(1, 10),
+        caption=f"Observed against predicted defaults per score band; {name} sample. One-sided p-values are small "
+                f"when a band has more bads than predicted."
+                + (" Band counts were rounded to whole numbers for the binomial tests." if table.rounded_counts else ""))
+    return {"name": name, "chart": chart, "bands": bands, "figures": _calibration_figures(checks), "notes": list(checks.notes)}
+
+
+def _calibration_figures(checks) -> list[_Figure]:
+    test = checks.hosmer_lemeshow
+    large = checks.in_the_large
+    figures = [
+        _Figure("Hosmer–Lemeshow", _fixed(test.statistic, 2), f"df {test.df}, p-value {_p_value(test.p_value)}"),
+        _Figure("Calibration-in-the-large", f"{_percent(large.observed_rate)} observed",
+                f"{_percent(large.expected_rate)} predicted, z {_fixed(large.z, 2)}, p-value {_p_value(large.p_two_sided)}"),
+    ]
+    line = checks.calibration_line
+    if line is not None:
+        figures += [
+            _Figure("Calibration intercept", _fixed(line.intercept, 3),
+                    f"standard error {_fixed(line.intercept_std_error, 3)}, p-value (= 0) {_p_value(line.intercept_p_value)}"),
+            _Figure("Calibration slope", _fixed(line.slope, 3),
+                    f"standard error {_fixed(line.slope_std_error, 3)}, p-value (= 1) {_p_value(line.slope_p_value)}"),
+        ]
+    figures.append(_Figure("Brier score", _fixed(checks.brier, 4), "mean squared error of the PD"))
+    return figures
+
+
+# --------------------------------------------------------------------------------------------
+# 9. Stability
+
+
+def _stability(build, validation) -> dict:
+    checks = build.settings.checks
+    decimals = build.scorecard.table.decimals
+    overview = _table(["sample", "score PSI", "status"],
+                      [[name, _fixed(result.value, 4), _status(result.status)]
+                       for name, result in validation.score_stability.items()],
+                      numeric=(1,), caption="Score PSI of each sample against development, over the development bands.")
+    samples = []
+    for name, result in validation.score_stability.items():
+        samples.append({
+            "name": name,
+            "bands": _psi_table(result, name, "scores"),
+            "characteristics": _characteristic_stability_table(validation.characteristic_stability.get(name, ()),
+                                                                name, decimals),
+        })
+    return {"overview": overview, "samples": samples, "watch": f"{checks.psi_watch:.2f}", "act": f"{checks.psi_act:.2f}"}
+
+
+def _psi_table(result, sample: str, label: str) -> _Table:
+    rows = [[bin_label + (f" {ADJUSTED_MARK}" if adjusted else ""), _count(expected), _percent(expected_share, 1),
+             _count(actual), _percent(actual_share, 1), _fixed(contribution, 4)]
+            for bin_label, expected, expected_share, actual, actual_share, contribution, adjusted in zip(
+                result.labels, result.expected_counts, result.expected_share, result.actual_counts,
+                result.actual_share, result.contributions, result.adjusted)]
+    rows.append(["all", _count(result.expected_counts.sum()), _percent(1.0, 1), _count(result.actual_counts.sum()),
+                 _percent(1.0, 1), _fixed(result.value, 4)])
+    caption = f"Score bands fixed on development against the {sample} sample; every application counts, whatever its outcome."
+    if result.adjusted.any():
+        caption += f" {ADJUSTED_MARK} empty in one sample: 0.5 added to both counts."
+    return _table([label, "development", "share", sample, "share", "PSI contribution"], rows, numeric=range(1, 6),
+                  row_css=[""] * (len(rows) - 1) + ["total"], caption=caption)
+
+
+def _characteristic_stability_table(items, sample: str, decimals: int) -> _Table:
+    rows = [[item.characteristic, _fixed(item.psi.value, 4), _status(item.psi.status),
+             _fixed(item.shift.expected_mean, 2), _fixed(item.shift.actual_mean, 2), _signed(item.shift.shift, 2),
+             _percent(item.missing_share_development, 1) if item.missing_share_development is not None else DASH,
+             _percent(item.missing_share_other, 1) if item.missing_share_other is not None else DASH]
+            for item in items]
+    return _table(["characteristic", "PSI", "status", "mean points, development", f"mean points, {sample}",
+                   "points shift", "missing, development", f"missing, {sample}"], rows, numeric=(1, 3, 4, 5, 6, 7),
+                  caption=f"Each model characteristic over its bins, development against the {sample} sample. "
+                          f"Points shift: how far this characteristic alone moves the mean score.")
+
+
+# --------------------------------------------------------------------------------------------
+# 10. Cut-offs
+
+
+def _cutoffs(validation) -> dict | None:
+    sample = "hold-out" if "hold-out" in validation.samples else DEVELOPMENT
+    checks = validation.samples.get(sample)
+    if checks is None:
+        return None
+    table = checks.cutoffs
+    chosen = _shown_cutoffs(table.cutoffs, table.approval_rate, checks.ks.score)
+    step = chosen["step"]
+    rows, css = [], []
+    for i in chosen["rows"]:
+        rows.append([_score(table.cutoffs[i], 2), _percent(table.approval_rate[i], 1),
+                     _percent(table.approved_bad_rate[i]), _count(table.goods_declined[i]),
+                     _count(table.bads_declined[i]), _percent(table.bads_declined_share[i], 1)])
+        css.append("marked" if i == chosen["ks_row"] else "")
+    shown = _table(["approve at or above", "approval rate", "bad rate among approved", "goods declined",
+                    "bads declined", "share of bads declined"], rows, numeric=range(0, 6), row_css=css,
+                   caption=f"Cut-offs on the {sample} sample, every {step:g} points"
+                           f"{' (every score)' if step == 1 else ''}; the marked row is the first cut-off above the "
+                           f"KS score {checks.ks.score:g}. Rates count goods and bads only.")
+    return {"sample": sample, "table": shown, "n_cutoffs": _count(len(table.cutoffs)), "n_shown": len(rows)}
+
+
+def _shown_cutoffs(cutoffs: np.ndarray, approval_rate: np.ndarray, ks_score: float) -> dict:
+    """Rows at round score steps across the cut-offs a lender would consider, plus the one after the KS score.
+
+    The step is the smallest of ``CUTOFF_STEPS`` that keeps the rows within ``CUTOFF_ROWS``.
+    """
+    finite = np.isfinite(cutoffs)
+    low_rate, high_rate = CUTOFF_SPAN
+    useful = np.flatnonzero(finite & (approval_rate >= low_rate) & (approval_rate <= high_rate))
+    if useful.size == 0:
+        useful = np.flatnonzero(finite)
+    low, high = cutoffs[useful[0]], cutoffs[useful[-1]]
+    ks_row = int(np.searchsorted(cutoffs, ks_score, side="right")) if finite.any() else 0
+    ks_row = min(ks_row, len(cutoffs) - 1)
+    for step in CUTOFF_STEPS:
+        grid = np.arange(math.ceil(low / step) * step, high + step / 2, step)
+        rows = np.unique(np.clip(np.searchsorted(cutoffs, grid, side="left"), 0, len(cutoffs) - 1))
+        if len(rows) < CUTOFF_ROWS:
+            break
+    rows = np.union1d(rows, [ks_row])
+    return {"rows": [int(i) for i in rows], "step": step, "ks_row": ks_row}
+
+
+# --------------------------------------------------------------------------------------------
+# 11. Cautions
+
+
+def _cautions(build) -> list[str]:
+    outcome = build.settings.outcome
+    limits = [
+        "The model describes past applicants who were approved and whose loans ran long enough to be called good "
+        "or bad. Applicants who were declined never had an outcome, and no reject inference was done, so scores "
+        "of applicants unlike past approvals are less certain than the figures here suggest.",
+        "Figures on the development sample are optimistic: the classing, the choice of characteristics and the "
+        "coefficients were all fitted to it. Judge the scorecard on the hold-out and out-of-time samples.",
+        "Stepwise selection makes the p-values of the final fit smaller than they would be for a model fixed in "
+        "advance; read them as a ranking, not as tests.",
+        f"'Bad' means the outcome column {outcome.column!r} holds {_values(outcome.bad) or 'the bad value'}; "
+        "another definition of bad, or another outcome window, gives another scorecard.",
+        "The past may not repeat: changes in the economy, the products, the channels or the lending policy can "
+        "move both who applies and how they repay. Re-check the scorecard on each new quarter "
+        "(scorewright monitor) and act on the stability and calibration checks.",
+        "Points show association, not cause. A characteristic that earns few points is a reason a score is low, "
+        "not a judgement of the person.",
+        "Check that no characteristic, and no close stand-in for one, is a ground the law forbids lending "
+        "decisions to rest on where the lender operates; the tool cannot know those rules.",
+        "Many p-values are shown (per band, per sample); some will be small by chance alone. They are not "
+        "adjusted for multiplicity.",
+        "Indeterminate and unknown outcomes are left out of the fit and of every figure that needs an outcome; "
+        "they count only in the stability checks.",
+    ]
+    if build.settings.ledger.weight_column:
+        limits.append("Counts are weighted; the tests treat the weighted counts as if they were numbers of "
+                      "applications.")
+    return limits
+
+
+# --------------------------------------------------------------------------------------------
+# 12. Reproducibility
+
+
+def _reproducibility(build, generated_by: str) -> dict:
+    import jinja2
+    import pandas
+
+    versions = [("scorewright", __version__), ("Python", platform.python_version()), ("NumPy", np.__version__),
+                ("pandas", pandas.__version__), ("Jinja2", jinja2.__version__)]
+    command = "scorewright build settings.toml --out REBUILD_FOLDER"
+    return {
+        "versions": versions,
+        "fingerprint": _fingerprint(build),
+        "settings": settings_to_toml(build.settings),
+        "command": command,
+        "generated_by": generated_by,
+    }
+
+
+# --------------------------------------------------------------------------------------------
+# Numbers as text
+
+
+def _count(value: float) -> str:
+    """A count with thousands separators; weighted counts keep one decimal."""
+    value = float(value)
+    if not math.isfinite(value):
+        return DASH
+    return f"{value:,.0f}" if abs(value - round(value)) < 1e-9 else f"{value:,.1f}"
+
+
+def _fixed(value: float, decimals: int) -> str:
+    value = float(value)
+    if not math.isfinite(value):
+        return DASH
+    text = f"{value:,.{decimals}f}"
+    return text[1:] if text.startswith("-") and text.strip("-0.,") == "" else text  # no "-0.00"
+
+
+def _signed(value: float, decimals: int) -> str:
+    text = _fixed(value, decimals)
+    return text if text.startswith("-") or text == DASH or text.strip("0.,") == "" else "+" + text
+
+
+def _percent(value: float, decimals: int = 2) -> str:
+    value = float(value)
+    return DASH if not math.isfinite(value) else f"{100 * value:.{decimals}f}%"
+
+
+def _p_value(value: float) -> str:
+    """Three significant digits, and '< 0.001' below that."""
+    value = float(value)
+    if not math.isfinite(value):
+        return DASH
+    return "< 0.001" if value < 0.001 else f"{value:#.3g}"
+
+
+def _interval(low: float, high: float, decimals: int) -> str:
+    return f"{_fixed(low, decimals)} to {_fixed(high, decimals)}"
+
+
+def _level(level: float) -> str:
+    return f"{100 * level:g}%"
+
+
+def _score(value: float, decimals: int) -> str:
+    value = float(value)
+    if not math.isfinite(value):
+        return DASH
+    return f"{value:.{decimals}f}" if decimals else f"{value:.0f}"
+
+
+def _span(low: float, high: float, decimals: int) -> str:
+    return f"{_score(low, decimals)}–{_score(high, decimals)}" if low != high else _score(low, decimals)
