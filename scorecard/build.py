@@ -6,7 +6,9 @@ This module only wires the stages together; each stage's arithmetic lives in its
 
 from __future__ import annotations
 
+import contextlib
 import os
+import time
 import warnings
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, replace
@@ -248,7 +250,8 @@ class Build:
 
 
 def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settings: Settings, *,
-                    progress: Callable[[Iterable], Iterable] = lambda items: items) -> Build:
+                    progress: Callable[[Iterable], Iterable] = lambda items: items,
+                    timings: dict[str, float] | None = None) -> Build:
     """Run the whole build: classing, selection, fit, points, histograms.
 
     Parameters
@@ -258,6 +261,8 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
     settings : Settings
     progress : callable
         Wraps the loop over characteristics (a progress bar in a terminal).
+    timings : dict, optional
+        Receives the seconds spent in each stage (for the benchmarks).
 
     Returns
     -------
@@ -275,33 +280,55 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
     >>> build = build_scorecard(frame, Settings().replace(outcome={"column": "outcome", "bad": ["bad"]}))  # doctest: +SKIP
     >>> build.scorecard.score(new_applications, reason_count=4)  # doctest: +SKIP
     """
-    ledger = data if isinstance(data, Ledger) else load_ledger(data, settings)
-    classed = class_ledger(ledger, settings, progress=progress)
+    clock = Stopwatch(timings)
+    with clock("intake"):
+        ledger = data if isinstance(data, Ledger) else load_ledger(data, settings)
+    with clock("classing"):
+        classed = class_ledger(ledger, settings, progress=progress)
     names = classed.names
-    fitting = (ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD))
-    goods = np.where(ledger.outcome == GOOD, ledger.weight, 0.0)
-    bads = np.where(ledger.outcome == BAD, ledger.weight, 0.0)
-    patterns = pattern_table(classed.codes[fitting], goods[fitting], bads[fitting], characteristics=names)
-    forced = [name for name in names if settings.characteristic(name).use == "always"]
-    selection = select_characteristics(
-        patterns, {c.name: c.evidence.woe for c in classed.characteristics},
-        {c.name: c.evidence.iv for c in classed.characteristics},
-        forced=forced, selection=settings.selection, fit=settings.fit,
-    )
-    table = _points(selection, classed, settings)
-    binnings = tuple(classed.get(name).binning for name in table.names)
-    scorecard = Scorecard(table, binnings, settings.ledger.id_column)
-    columns = [names.index(name) for name in table.names]
-    scores = score_codes(classed.codes[:, columns], table)
-    histograms = {
-        SAMPLE_NAMES[s]: score_histogram(scores[rows], ledger.outcome[rows] == GOOD, ledger.outcome[rows] == BAD,
-                                         ledger.weight[rows], sample=SAMPLE_NAMES[s])
-        for s in range(len(SAMPLE_NAMES)) if (rows := ledger.sample == s).any()
-    }
+    with clock("pattern table"):
+        fitting = (ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD))
+        goods = np.where(ledger.outcome == GOOD, ledger.weight, 0.0)
+        bads = np.where(ledger.outcome == BAD, ledger.weight, 0.0)
+        patterns = pattern_table(classed.codes[fitting], goods[fitting], bads[fitting], characteristics=names)
+    with clock("selection and fit"):
+        forced = [name for name in names if settings.characteristic(name).use == "always"]
+        selection = select_characteristics(
+            patterns, {c.name: c.evidence.woe for c in classed.characteristics},
+            {c.name: c.evidence.iv for c in classed.characteristics},
+            forced=forced, selection=settings.selection, fit=settings.fit,
+        )
+    with clock("points and scoring"):
+        table = _points(selection, classed, settings)
+        binnings = tuple(classed.get(name).binning for name in table.names)
+        scorecard = Scorecard(table, binnings, settings.ledger.id_column)
+        columns = [names.index(name) for name in table.names]
+        scores = score_codes(classed.codes[:, columns], table)
+        histograms = {
+            SAMPLE_NAMES[s]: score_histogram(scores[rows], ledger.outcome[rows] == GOOD, ledger.outcome[rows] == BAD,
+                                             ledger.weight[rows], sample=SAMPLE_NAMES[s])
+            for s in range(len(SAMPLE_NAMES)) if (rows := ledger.sample == s).any()
+        }
     resolved = _resolved_settings(settings, classed)
     notes = (*ledger.notes, *classed.notes)
     return Build(resolved, ledger.source, ledger.fingerprint, ledger.sample_summary(), classed.characteristics,
                  selection, scorecard, histograms, notes)
+
+
+class Stopwatch:
+    """Adds the seconds spent in named stages to a dict (or does nothing without one)."""
+
+    def __init__(self, timings: dict[str, float] | None):
+        self.timings = timings
+
+    @contextlib.contextmanager
+    def __call__(self, stage: str):
+        started = time.perf_counter()
+        try:
+            yield
+        finally:
+            if self.timings is not None:
+                self.timings[stage] = self.timings.get(stage, 0.0) + time.perf_counter() - started
 
 
 def load_ledger(data: pd.DataFrame | str | os.PathLike[str], settings: Settings, *, require_outcome: bool = True) -> Ledger:

@@ -92,6 +92,7 @@ class BuildOptions:
     out: Path | None = None
     force: bool = False
     reports: bool = True
+    timings: bool = False
 
 
 @dataclass(frozen=True)
@@ -231,9 +232,11 @@ def _add_build(commands) -> None:
     parser.add_argument("--out", type=Path, metavar="DIR", help="output folder (default: NAME-build beside the settings file or ledger)")
     parser.add_argument("--force", action="store_true", help="write into the output folder even if it exists")
     parser.add_argument("--no-reports", dest="reports", action="store_false", help="write model.json and settings.toml only")
+    parser.add_argument("--timings", action="store_true", help="print the seconds each stage took to stderr, as JSON (for benchmarks)")
     _add_common(parser)
     parser.set_defaults(
-        make_options=lambda a: BuildOptions(a.source, a.target, tuple(a.bad), tuple(a.good), tuple(a.indeterminate), a.out, a.force, a.reports),
+        make_options=lambda a: BuildOptions(a.source, a.target, tuple(a.bad), tuple(a.good), tuple(a.indeterminate), a.out,
+                                            a.force, a.reports, a.timings),
         run=_run_build,
     )
 

@@ -7,6 +7,7 @@ messages and exit codes. Heavy libraries are imported here, not in ``cli.py``, s
 
 from __future__ import annotations
 
+import json
 import os
 import tempfile
 from dataclasses import replace
@@ -14,7 +15,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .build import ClassedLedger, build_scorecard, class_ledger
+from .build import ClassedLedger, Stopwatch, build_scorecard, class_ledger
 from .classing import classing_settings_values
 from .cli import EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, DemoOptions, InitOptions, MonitorOptions, ScoreOptions, Streams
 from .errors import LedgerError, SettingsError
@@ -210,24 +211,31 @@ def iv_table(classed: ClassedLedger, left_out: dict[str, str] | None = None) -> 
 
 def run_build(options: BuildOptions, streams: Streams) -> int:
     """Build the scorecard and write the model file, the resolved settings and the reports."""
+    timings: dict[str, float] = {}
+    clock = Stopwatch(timings)
     settings, ledger_path = _build_settings(options)
     out = options.out or ledger_path.parent / f"{options.source.stem}-build"
     check_output_folder(out, options.force)
-    frame = read_ledger(ledger_path)
+    with clock("read"):
+        frame = read_ledger(ledger_path)
     streams.note(f"read {len(frame):,} rows and {frame.shape[1]} columns from {ledger_path.name}")
-    ledger = prepare_ledger(frame, settings, source=ledger_path.name, fingerprint=fingerprint_of(ledger_path, len(frame)))
-    build = build_scorecard(ledger, settings, progress=lambda items: streams.progress(items, "classing"))
+    with clock("intake"):
+        ledger = prepare_ledger(frame, settings, source=ledger_path.name, fingerprint=fingerprint_of(ledger_path, len(frame)))
+    build = build_scorecard(ledger, settings, progress=lambda items: streams.progress(items, "classing"), timings=timings)
     resolved = replace(build.settings, ledger=replace(build.settings.ledger, path=os.path.relpath(ledger_path.resolve(), out.resolve())))
-    document = model_document(replace(build, settings=resolved))
-    summary = build_summary(build)
-    written = [
-        save_model(document, out / "model.json"),
-        write_settings(resolved, out / "settings.toml", header=(
-            "The settings this build used, every classing written out: 'scorewright build' on this file\n"
-            "reproduces the same model file."
-        )),
-        write_text_atomically(out / "summary.txt", summary + "\n"),
-    ]
+    with clock("model file"):
+        document = model_document(replace(build, settings=resolved))
+        summary = build_summary(build)
+        written = [
+            save_model(document, out / "model.json"),
+            write_settings(resolved, out / "settings.toml", header=(
+                "The settings this build used, every classing written out: 'scorewright build' on this file\n"
+                "reproduces the same model file."
+            )),
+            write_text_atomically(out / "summary.txt", summary + "\n"),
+        ]
+    if options.timings:
+        print(json.dumps({stage: round(seconds, 4) for stage, seconds in timings.items()}), file=streams.err)
     streams.say(summary)
     streams.say()
     streams.say("written: " + ", ".join(str(path) for path in written))
