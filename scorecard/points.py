@@ -219,11 +219,20 @@ def points_table(coefficients: Mapping[str, float], intercept: float, woe: Mappi
         exact = scale.factor * (beta * bin_woe + intercept / k) + scale.offset / k
         characteristics.append(CharacteristicPoints(
             name=name, labels=tuple(labels[name]), woe=bin_woe, coefficient=float(beta),
-            exact_points=_frozen(exact), points=_frozen(np.round(exact, decimals)),
+            exact_points=_frozen(exact), points=_frozen(round_half_away(exact, decimals)),
             reason_code=reason_codes.get(name) or f"R{position:02d}",
             reason_label=reason_labels.get(name) or default_reason_label(name),
         ))
     return PointsTable(scale, float(intercept), tuple(characteristics), int(decimals))
+
+
+def round_half_away(values: np.ndarray, decimals: int = 0) -> np.ndarray:
+    """Round halves away from zero (2.5 → 3, −2.5 → −3), as spreadsheets' ROUND does.
+
+    numpy rounds halves to even; the workbook recomputes points with ROUND, so the two must agree.
+    """
+    scale = 10.0**decimals
+    return np.sign(values) * np.floor(np.abs(values) * scale + 0.5) / scale
 
 
 def default_reason_label(name: str) -> str:

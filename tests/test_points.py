@@ -112,3 +112,11 @@ def test_scorecard_scores_a_frame_and_names_a_missing_column():
     assert scored["score"].tolist() == expected.tolist()
     with pytest.raises(LedgerError, match="column 'housing' of the scorecard is not in the ledger"):
         card.score(frame.drop(columns="housing"), source="new.csv")
+
+
+def test_points_round_halves_away_from_zero_like_a_spreadsheet():
+    # spreadsheets' ROUND takes 2.5 to 3 and -2.5 to -3 (numpy would give 2 and -2); the workbook
+    # recomputes points with ROUND, so the tool rounds the same way (common practice, no source)
+    from scorecard.points import round_half_away
+
+    np.testing.assert_array_equal(round_half_away(np.array([2.5, -2.5, 0.49, 3.5, 4.5])), [3, -3, 0, 4, 5])
