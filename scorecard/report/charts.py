@@ -33,8 +33,13 @@ MARGIN_LEFT, MARGIN_RIGHT, MARGIN_TOP, MARGIN_BOTTOM = 60, 20, 34, 46
 FONT_SIZE = 11
 CHARACTER_WIDTH = 0.58  # average glyph width of a sans-serif face, in ems: sizes label space
 BAR_HEIGHT = 22
+BAR_FIGURE_ROOM = 0.25  # share of the value span left beside the longest bar for its figure
 MAX_LABEL_CHARACTERS = 34
 TURNED_LABEL_CHARACTERS = 14
+TURNED_MARGIN_BOTTOM = 66
+RULE_DASH = "2 3"  # the vertical rule at a marked x
+DIAGONAL_DASH = "4 4"  # the chance line of a ROC chart
+SERIES_DASH = "6 4"  # a dashed series
 
 
 @dataclass(frozen=True)
@@ -114,7 +119,7 @@ def line_chart(series: Sequence[Series], *, x_label: str, y_label: str, title: s
     diagonal : bool
         Draw the dashed line from the lower-left to the upper-right corner (a chance ROC curve).
     vertical_at : float, optional
-        Draw a dotted vertical rule at this x, labelled ``vertical_label``.
+        Draw a dotted vertical rule at this x, named ``vertical_label`` in the legend.
     width, height : float
         Size of the viewBox.
 
@@ -133,12 +138,16 @@ def line_chart(series: Sequence[Series], *, x_label: str, y_label: str, title: s
              _axis_titles(frame, x_label, y_label)]
     if diagonal:
         parts.append(_line(frame.x(frame.x_range[0]), frame.y(frame.y_range[0]), frame.x(frame.x_range[1]),
-                           frame.y(frame.y_range[1]), colour=MUTED, dash="4 4"))
-    if vertical_at is not None:
-        parts.append(_vertical_rule(frame, vertical_at, vertical_label))
+                           frame.y(frame.y_range[1]), colour=MUTED, dash=DIAGONAL_DASH))
     colours = _colours(series)
     parts += [_polyline(frame, s, colour) for s, colour in zip(series, colours)]
-    parts.append(_legend(frame, [(s.name, colour, s.dashed) for s, colour in zip(series, colours)]))
+    legend = [(s.name, colour, SERIES_DASH if s.dashed else "") for s, colour in zip(series, colours)]
+    legend = legend if len(series) > 1 else []  # one line needs no key: the axis titles name it
+    if vertical_at is not None:
+        x = frame.x(vertical_at)
+        parts.append(_line(x, frame.top, x, frame.height - frame.bottom, colour=INK, dash=RULE_DASH))
+        legend.append((vertical_label, INK, RULE_DASH))
+    parts.append(_legend(frame, legend))
     return _svg(width, height, title, parts)
 
 
@@ -193,12 +202,11 @@ def woe_bars(labels: Sequence[str], woe: Sequence[float], *, title: str) -> str:
         The chart's accessible name (name the characteristic and the sample).
     """
     colours = [GOOD_COLOUR if value >= 0 else BAD_COLOUR for value in woe]
-    return bar_chart(labels, woe, value_label="weight of evidence (positive: fewer bads than average)",
-                     title=title, colours=colours)
+    return bar_chart(labels, woe, value_label="weight of evidence", title=title, colours=colours, width=500)
 
 
 def score_distribution(labels: Sequence[str], goods: Sequence[float], bads: Sequence[float], *,
-                       title: str, width: float = WIDTH, height: float = HEIGHT) -> str:
+                       title: str, width: float = 460, height: float = HEIGHT) -> str:
     """Return the share of all goods and of all bads in each score band, as paired columns.
 
     Parameters
@@ -213,7 +221,7 @@ def score_distribution(labels: Sequence[str], goods: Sequence[float], bads: Sequ
     goods, bads = np.asarray(goods, float), np.asarray(bads, float)
     shares = {"goods": goods / goods.sum(), "bads": bads / bads.sum()}
     return grouped_columns(labels, shares, colours=(GOOD_COLOUR, BAD_COLOUR), x_label="score band",
-                           y_label="share of all goods or all bads", title=title, percent=True,
+                           y_label="share of goods or of bads", title=title, percent=True,
                            width=width, height=height)
 
 
@@ -236,8 +244,7 @@ def grouped_columns(labels: Sequence[str], groups: Mapping[str, Sequence[float]]
     """
     values = np.array([np.asarray(v, float) for v in groups.values()])
     ticks = nice_ticks(0.0, float(values.max()) if values.size else 1.0)
-    frame = Frame(width, height, MARGIN_LEFT, MARGIN_RIGHT, MARGIN_TOP, MARGIN_BOTTOM, (0.0, float(len(labels))),
-                  (ticks[0], ticks[-1]))
+    frame = _category_frame(labels, width, height, (ticks[0], ticks[-1]))
     parts = [_horizontal_grid(frame, ticks, percent=percent), _category_axis(frame, labels),
              _axis_titles(frame, x_label, y_label)]
     slot = frame.x(1.0) - frame.x(0.0)
@@ -247,7 +254,7 @@ def grouped_columns(labels: Sequence[str], groups: Mapping[str, Sequence[float]]
             x = frame.x(position) + 0.1 * slot + number * column
             parts.append(_rect(x, frame.y(value), column - 1, frame.y(0.0) - frame.y(value), colours[number],
                                tooltip=f"{labels[position]}: {name} {_tick_text(value, 0.001, percent)}"))
-    parts.append(_legend(frame, [(name, colours[n], False) for n, name in enumerate(groups)], swatch="block"))
+    parts.append(_legend(frame, [(name, colours[n], "") for n, name in enumerate(groups)], swatch="block"))
     return _svg(width, height, title, parts)
 
 
@@ -271,8 +278,7 @@ def calibration_chart(labels: Sequence[str], observed: Sequence[float], lower: S
     """
     observed, lower, upper, predicted = (np.asarray(v, float) for v in (observed, lower, upper, predicted))
     ticks = nice_ticks(0.0, float(max(upper.max(), predicted.max(), observed.max())) if observed.size else 1.0)
-    frame = Frame(width, height, MARGIN_LEFT, MARGIN_RIGHT, MARGIN_TOP, MARGIN_BOTTOM, (0.0, float(len(labels))),
-                  (ticks[0], ticks[-1]))
+    frame = _category_frame(labels, width, height, (ticks[0], ticks[-1]))
     parts = [_horizontal_grid(frame, ticks, percent=True), _category_axis(frame, labels),
              _axis_titles(frame, "score band", "bad rate")]
     centres = np.arange(len(labels)) + 0.5
@@ -286,8 +292,8 @@ def calibration_chart(labels: Sequence[str], observed: Sequence[float], lower: S
             parts.append(_line(x - 4, frame.y(end), x + 4, frame.y(end), colour=BAD_COLOUR, width=1.5))
         parts.append(_dot(x, frame.y(rate), BAD_COLOUR, radius=3.5,
                           tooltip=f"{label}: observed {_tick_text(rate, 0.0001, True)}"))
-    parts.append(_legend(frame, [("observed bad rate with interval", BAD_COLOUR, False),
-                                 ("predicted PD (band mean)", MUTED, True)]))
+    parts.append(_legend(frame, [("observed bad rate with interval", BAD_COLOUR, ""),
+                                 ("predicted PD (band mean)", MUTED, SERIES_DASH)]))
     return _svg(width, height, title, parts)
 
 
@@ -372,8 +378,10 @@ def nice_ticks(low: float, high: float, *, count: int = 5) -> list[float]:
 def _bar_range(values: np.ndarray) -> tuple[float, float]:
     """The value range of a bar chart: zero, the bars, and room beside the longest for its figure."""
     low, high = _data_range(np.append(values, 0.0))
-    span = (high - low) or 1.0
-    return low - (0.18 * span if low < 0 else 0.0), high + (0.18 * span if high > 0 else 0.0)
+    if low == high:  # every bar is 0 (e.g. a characteristic of one bin): any span around 0 will do
+        return -1.0, 1.0
+    span = high - low
+    return low - (BAR_FIGURE_ROOM * span if low < 0 else 0.0), high + (BAR_FIGURE_ROOM * span if high > 0 else 0.0)
 
 
 def _data_range(values: np.ndarray) -> tuple[float, float]:
@@ -455,7 +463,7 @@ def _diamond(x: float, y: float, colour: str, size: float = 4.5) -> str:
 def _polyline(frame: Frame, series: Series, colour: str) -> str:
     points = " ".join(f"{_n(frame.x(x))},{_n(frame.y(y))}" for x, y in zip(series.x, series.y)
                       if math.isfinite(x) and math.isfinite(y))
-    dashes = ' stroke-dasharray="6 4"' if series.dashed else ""
+    dashes = f' stroke-dasharray="{SERIES_DASH}"' if series.dashed else ""
     line = (f'<polyline points="{points}" fill="none" stroke="{colour}" stroke-width="2" '
             f'stroke-linejoin="round"{dashes}/>')
     if series.markers:
@@ -492,11 +500,22 @@ def _vertical_grid(frame: Frame, ticks: Sequence[float], *, percent: bool) -> st
     return "".join(parts)
 
 
+def _category_frame(labels: Sequence[str], width: float, height: float, y_range: tuple[float, float]) -> Frame:
+    """The frame of a chart with one slot per label, with room below for turned labels when needed."""
+    slot = (width - MARGIN_LEFT - MARGIN_RIGHT) / max(len(labels), 1)
+    bottom = TURNED_MARGIN_BOTTOM if _turned(labels, slot) else MARGIN_BOTTOM
+    return Frame(width, height, MARGIN_LEFT, MARGIN_RIGHT, MARGIN_TOP, bottom, (0.0, float(len(labels))), y_range)
+
+
+def _turned(labels: Sequence[str], slot: float) -> bool:
+    longest = max((len(str(label)) for label in labels), default=0)
+    return longest * (FONT_SIZE - 1) * CHARACTER_WIDTH > slot - 4
+
+
 def _category_axis(frame: Frame, labels: Sequence[str]) -> str:
     """One label under the middle of each slot; turned when they would overlap."""
     slot = frame.x(1.0) - frame.x(0.0)
-    longest = max((len(str(label)) for label in labels), default=0)
-    turned = longest * (FONT_SIZE - 1) * CHARACTER_WIDTH > slot - 4
+    turned = _turned(labels, slot)
     bottom = frame.height - frame.bottom
     parts = []
     for position, label in enumerate(labels):
@@ -516,25 +535,18 @@ def _axis_titles(frame: Frame, x_label: str, y_label: str) -> str:
             + _text(14, middle_y, y_label, anchor="middle", colour=MUTED, rotate=-90))
 
 
-def _legend(frame: Frame, entries: Sequence[tuple[str, str, bool]], *, swatch: str = "line") -> str:
-    """Legend entries in a row above the plot area: (name, colour, dashed)."""
+def _legend(frame: Frame, entries: Sequence[tuple[str, str, str]], *, swatch: str = "line") -> str:
+    """Legend entries in a row above the plot area: (name, colour, dash pattern or blank)."""
     x, y = frame.left, frame.top - 14
     parts = []
-    for name, colour, dashed in entries:
+    for name, colour, dash in entries:
         if swatch == "block":
             parts.append(_rect(x, y - 8, 12, 10, colour))
         else:
-            parts.append(_line(x, y - 3, x + 18, y - 3, colour=colour, width=2, dash="6 4" if dashed else ""))
+            parts.append(_line(x, y - 3, x + 18, y - 3, colour=colour, width=2, dash=dash))
         parts.append(_text(x + 24, y + 1, name))
         x += 24 + len(name) * FONT_SIZE * CHARACTER_WIDTH + 18
     return "".join(parts)
-
-
-def _vertical_rule(frame: Frame, value: float, label: str) -> str:
-    x = frame.x(value)
-    rule = _line(x, frame.top, x, frame.height - frame.bottom, colour=INK, dash="2 3")
-    right_side = x < frame.left + 0.6 * (frame.width - frame.left - frame.right)
-    return rule + _text(x + 5 if right_side else x - 5, frame.top + 12, label, anchor="start" if right_side else "end")
 
 
 def _bar_row(frame: Frame, row: int, label: str, full: str, value: float, colour: str, *, percent: bool) -> str:

@@ -6,13 +6,12 @@ itself, so it opens offline in any browser. Every value is formatted here and es
 template (Jinja2 autoescaping), so a category label such as ``<b>`` shows as text.
 
 The page is made from count tables, score histograms and small results only, never from rows,
-so rendering takes the same time for a ledger of a thousand rows or of ten million.
+so its rendering time does not grow with the ledger's rows.
 """
 
 from __future__ import annotations
 
 import math
-import os
 import platform
 from collections.abc import Collection, Sequence
 from dataclasses import dataclass
@@ -22,6 +21,7 @@ import numpy as np
 from markupsafe import Markup
 
 from .. import __version__
+from ..checks import ACT_PSI, WATCH_PSI
 from ..settings import settings_to_toml, write_text_atomically
 from . import CAUTION
 from . import charts
@@ -42,9 +42,10 @@ SECTIONS = (
     ("reproducibility", "Reproducibility"),
 )
 DEVELOPMENT = "development"
-CUTOFF_ROWS = 21  # rows of the cut-off table the page shows; the workbook holds every cut-off
+CUTOFF_ROWS = 25  # most rows of the cut-off table the page shows; the workbook holds every cut-off
 CUTOFF_STEPS = (1, 2, 5, 10, 20, 25, 50, 100, 200, 500, 1000)  # score steps tried for the shown rows
 CUTOFF_SPAN = (0.02, 0.98)  # approval rates the shown rows cover: the cut-offs a lender would consider
+SCORE_MEANING_ROWS = 10  # most rows of the table of odds and PD per score
 DASH = "—"
 ADJUSTED_MARK = "†"
 
@@ -81,9 +82,10 @@ def render_report(build, validation, *, generated_by: str = "") -> str:
         "fit": _fit(build),
         "points": _points(build),
         "discrimination": _discrimination(build, validation),
-        "calibration": _calibration(validation),
+        "calibration": _calibration(validation, build.scorecard.table.decimals),
         "stability": _stability(build, validation),
-        "cutoffs": _cutoffs(validation),
+        "cutoffs": _cutoffs(validation, build.scorecard.table.decimals,
+                            every_level=build.settings.checks.cutoff_step == 0),
         "cautions": _cautions(build),
         "reproducibility": _reproducibility(build, generated_by),
     }
@@ -106,8 +108,13 @@ def write_report(build, validation, path) -> Path:
     Returns
     -------
     pathlib.Path
+
+    Raises
+    ------
+    OSError
+        The folder cannot be made or written to; any earlier report at ``path`` is left as it was.
     """
-    return write_text_atomically(Path(os.fspath(path)), render_report(build, validation))
+    return write_text_atomically(Path(path), render_report(build, validation))
 
 
 # --------------------------------------------------------------------------------------------
@@ -210,16 +217,16 @@ def _summary(build, validation) -> dict:
 def _purpose(build) -> str:
     report = build.settings.report
     table = build.scorecard.table
-    lender = f" of {report.lender}" if report.lender else ""
+    lender = f" for {report.lender}" if report.lender else ""
     return (
-        f"“{report.title}” is the application scorecard{lender}: a table of points that ranks new credit "
-        f"applications by how likely the loan is to be repaid as agreed. Each of {len(table.names)} "
-        f"characteristics of an application earns the points its answer falls into (section 6), and the "
-        f"points add up to a score from {_score(table.min_score, table.decimals)} to "
-        f"{_score(table.max_score, table.decimals)}; the higher the score, the lower the risk. It was fitted "
-        f"on past applications in {build.source} whose outcome is known. This report is the evidence behind "
-        f"it for a model reviewer: how the data were split, how each characteristic was grouped and chosen, "
-        f"how well the score separates good loans from bad ones, and how well its predicted default rates "
+        f"This report documents “{report.title}”, an application scorecard{lender}: a table of points that ranks "
+        f"new credit applications by how likely the loan is to be repaid as agreed. An application earns points "
+        f"on each of {len(table.names)} characteristics, according to the bin its answer falls into (section 6), "
+        f"and the points add up to a score from {_score(table.min_score, table.decimals)} to "
+        f"{_score(table.max_score, table.decimals)}: the higher the score, the lower the risk. The scorecard was "
+        f"fitted on past applications in the ledger {build.source} whose outcome is known. What follows is the evidence a "
+        f"model reviewer needs: how the data were split, how each characteristic was grouped and chosen, how "
+        f"well the score separates good loans from bad ones, and how well its predicted default rates "
         f"match what happened, on every sample."
     )
 
@@ -363,17 +370,25 @@ def _characteristics(build) -> dict:
         caption="Every characteristic classed, model ones first (in model order), then the others by IV. "
                 "Development sample.",
     )
-    views = [_characteristic_view(c, position, c.name in model, build) for position, c in enumerate(ordered)]
+    views = [_characteristic_view(c, position, "" if c.name in model else _why_left_out(c.name, build.selection.log))
+             for position, c in enumerate(ordered)]
     return {"overview": overview, "model": views[:len(model)], "others": views[len(model):],
             "leakage_iv": f"{build.settings.selection.leakage_iv:g}"}
 
 
-def _characteristic_view(classed, position: int, in_model: bool, build) -> dict:
+def _why_left_out(name: str, log) -> str:
+    """The last decision that kept a characteristic out of the model, in words."""
+    decisions = [d for d in log if d.characteristic == name and d.action in ("left out", "removed")]
+    if not decisions:
+        return "not chosen"
+    return f"{decisions[-1].action} at the {decisions[-1].step} step: {decisions[-1].reason}"
+
+
+def _characteristic_view(classed, position: int, why: str) -> dict:
     evidence = classed.evidence
     return {
         "name": classed.name,
         "anchor": _anchor(position),
-        "in_model": in_model,
         "iv": _fixed(evidence.iv, 4),
         "strength": evidence.strength,
         "origin": _origin(classed.origin),
@@ -382,9 +397,11 @@ def _characteristic_view(classed, position: int, in_model: bool, build) -> dict:
         "adjusted": bool(evidence.adjusted.any()),
         "chart": _chart(charts.woe_bars(evidence.labels, evidence.woe,
                                         title=f"WoE of {classed.name} by bin, {evidence.sample} sample"),
-                        f"WoE of each bin of {classed.name}, {evidence.sample} sample."),
+                        f"WoE of each bin of {classed.name}: bars to the right of 0 have fewer bads than average; "
+                        f"{evidence.sample} sample."),
         "notes": list(classed.notes),
         "sample": evidence.sample,
+        "why": why,
     }
 
 
@@ -401,8 +418,9 @@ def _evidence_table(evidence) -> _Table:
     n_goods, n_bads = evidence.goods.sum(), evidence.bads.sum()
     rows.append(["all", _count(n_goods), _count(n_bads), _percent(n_bads / total), _percent(1.0, 1), "",
                  _fixed(evidence.iv, 4)])
-    return _table(["bin", "goods", "bads", "bad rate", "share of rows", "WoE", "IV contribution"], rows,
-                  numeric=range(1, 7), row_css=[""] * (len(rows) - 1) + ["total"])
+    return _table(["bin", "goods", "bads", "bad rate", "share", "WoE", "IV contribution"], rows,
+                  numeric=range(1, 7), row_css=[""] * (len(rows) - 1) + ["total"],
+                  caption=f"{evidence.sample.capitalize()} sample. Share: the bin's part of all goods and bads.")
 
 
 def _origin(origin: str) -> str:
@@ -426,7 +444,7 @@ def _selection(build) -> dict:
     selection = build.selection
     rules = build.settings.selection
     log = _table(["step", "characteristic", "action", "reason", "value"],
-                 [[d.step, d.characteristic, d.action, d.reason, _figure(d.value)] for d in selection.log],
+                 [[d.step, d.characteristic, d.action, d.reason, _decision_value(d.value)] for d in selection.log],
                  numeric=(4,), caption="Every decision in the order it was taken; development sample.")
     settings_text = (
         f"Screen: IV below {rules.min_iv:g} leaves; IV above {rules.leakage_iv:g} is flagged for leakage. "
@@ -437,8 +455,8 @@ def _selection(build) -> dict:
     )
     vif = _table(["characteristic", "VIF"], [[name, _fixed(value, 2)] for name, value in selection.vif.items()],
                  numeric=(1,), caption="Variance inflation factors of the model's WoE columns, development sample.")
-    return {"rules": settings_text, "log": log, "correlations": _correlation_table(selection.correlations, rules.max_correlation),
-            "vif": vif, "threshold": f"{rules.max_correlation:g}"}
+    return {"rules": settings_text, "log": log, "vif": vif,
+            "correlations": _correlation_table(selection.correlations, rules.max_correlation)}
 
 
 def _correlation_table(correlations, threshold: float) -> _Table:
@@ -458,11 +476,12 @@ def _correlation_table(correlations, threshold: float) -> _Table:
         rows.append(cells)
     columns = ["characteristic"] + [str(j + 1) for j in range(len(names))]
     return _table(columns, rows, numeric=range(1, len(names) + 1), css="matrix",
-                  caption=f"Weighted correlations of the WoE columns of the candidates that passed the IV screen; "
-                          f"development sample. Highlighted: above {threshold:g} in absolute value.")
+                  caption=f"Weighted correlations of the WoE columns of the candidate characteristics; development "
+                          f"sample. Highlighted: above {threshold:g} in absolute value.")
 
 
-def _figure(value: float | None) -> str:
+def _decision_value(value: float | None) -> str:
+    """An IV, correlation, p-value, BIC or coefficient: tiny and huge ones in e-notation."""
     if value is None or not np.isfinite(value):
         return ""
     if value != 0 and (abs(value) < 0.001 or abs(value) >= 1e5):
@@ -476,13 +495,12 @@ def _figure(value: float | None) -> str:
 
 def _fit(build) -> dict:
     fit = build.selection.fit
-    rows, css = [], []
+    rows = []
     for position, (name, coefficient, error, z, p) in enumerate(
             zip(fit.names, fit.coefficients, fit.std_errors, fit.z_values, fit.p_values)):
         reversal = position > 0 and coefficient < 0
         rows.append([name, _Cell(_fixed(coefficient, 4), "flag" if reversal else ""), _fixed(error, 4),
                      _fixed(z, 2), _p_value(p)])
-        css.append("")
     coefficients = _table(["name", "coefficient", "standard error", "z", "p-value"], rows, numeric=range(1, 5),
                           caption="Logistic regression of the log-odds of good:bad on the WoE of each characteristic; "
                                   "development sample. Each coefficient should be positive.")
@@ -514,7 +532,7 @@ def _points(build) -> dict:
     points = _table(["characteristic", "bin", "points"], rows, numeric=(2,), row_css=css, css="points-table")
     k = len(table.names)
     scaling = [
-        ("Base score", _score(scale.base_score, 2)), ("Base odds (good:bad)", f"{scale.base_odds:g} : 1"),
+        ("Base score", f"{scale.base_score:g}"), ("Base odds (good:bad)", f"{scale.base_odds:g} : 1"),
         ("Points to double the odds (PDO)", f"{scale.pdo:g}"), ("Factor = PDO / ln 2", _fixed(scale.factor, 4)),
         ("Offset = base score − factor × ln(base odds)", _fixed(scale.offset, 4)),
         ("Intercept of the fit", _fixed(table.intercept, 4)), ("Characteristics (k)", str(k)),
@@ -525,22 +543,27 @@ def _points(build) -> dict:
         f"evidence, plus the intercept divided by {k}), plus the offset divided by {k}, rounded to {rounding}. "
         f"An application's score is the sum of the points of its bins. Before rounding, that sum equals the "
         f"offset plus the factor times the natural log of the predicted odds of good to bad, so the odds double "
-        f"every {scale.pdo:g} points, the score {_score(scale.base_score, 2)} stands for odds of "
+        f"every {scale.pdo:g} points, the score {scale.base_score:g} stands for odds of "
         f"{scale.base_odds:g} to 1, and the probability of default of a score is 1 / (1 + odds)."
     )
     return {"table": points, "scaling": scaling, "formula": formula, "meaning": _score_meaning(table)}
 
 
 def _score_meaning(table) -> _Table:
-    """Odds and PD at the base score and at whole PDO steps from it, within the score range."""
+    """Odds and PD at the base score and at steps of whole PDOs from it, within the score range."""
     scale = table.scaling
-    steps = range(math.ceil((table.min_score - scale.base_score) / abs(scale.pdo)),
-                   math.floor((table.max_score - scale.base_score) / abs(scale.pdo)) + 1)
-    scores = [scale.base_score + step * abs(scale.pdo) for step in steps]
-    rows = [[_score(score, 2), f"{math.exp(scale.log_odds_of_score(score)):,.2f} : 1",
-             _percent(float(scale.pd_of_score(score)))] for score in scores]
+    pdo = abs(scale.pdo)
+    low, high = (table.min_score - scale.base_score) / pdo, (table.max_score - scale.base_score) / pdo
+    stride = max(1, math.ceil((math.floor(high) - math.ceil(low) + 1) / SCORE_MEANING_ROWS))
+    scores = [scale.base_score + step * pdo for step in range(math.ceil(low), math.floor(high) + 1) if step % stride == 0]
+    rows = [[f"{score:g}", _odds(math.exp(scale.log_odds_of_score(score))), _percent(float(scale.pd_of_score(score)))]
+            for score in scores]
     return _table(["score", "odds good:bad", "probability of default"], rows, numeric=(0, 1, 2),
-                  caption="What a score stands for, at steps of one PDO.")
+                  caption=f"What a score stands for, every {stride * pdo:g} points from the base score.")
+
+
+def _odds(odds: float) -> str:
+    return f"{odds:,.1f} : 1" if odds >= 1 else f"1 : {1 / odds:,.1f}"
 
 
 # --------------------------------------------------------------------------------------------
@@ -577,7 +600,7 @@ def _gains_table(gains, labels: Sequence[str], sample: str) -> _Table:
                 labels, gains.count, gains.goods, gains.bads, gains.bad_rate, gains.cumulative_count_share,
                 gains.cumulative_bads_share, gains.cumulative_goods_share, gains.lift)]
     return _table(["scores", "applications", "goods", "bads", "bad rate", "cumulative applications",
-                   "cumulative bads", "cumulative goods", "lift"], rows, numeric=range(1, 9),
+                   "cumulative bads", "cumulative goods", "lift"], rows, numeric=range(0, 9),
                   caption=f"Gains by score band, lowest scores first; {sample} sample. Cumulative shares count "
                           f"from the lowest band; lift is the band's bad rate over the sample's "
                           f"({_percent(gains.overall_bad_rate)}).")
@@ -587,13 +610,13 @@ def _gains_table(gains, labels: Sequence[str], sample: str) -> _Table:
 # 8. Calibration
 
 
-def _calibration(validation) -> list[dict]:
-    return [_sample_calibration(name, checks) for name, checks in validation.samples.items()]
+def _calibration(validation, decimals: int) -> list[dict]:
+    return [_sample_calibration(name, checks, decimals) for name, checks in validation.samples.items()]
 
 
-def _sample_calibration(name: str, checks) -> dict:
+def _sample_calibration(name: str, checks, decimals: int) -> dict:
     table = checks.calibration
-    labels = [_span(low, high, 0) for low, high in zip(table.score_low, table.score_high)]
+    labels = [_span(low, high, decimals) for low, high in zip(table.score_low, table.score_high)]
     level = _level(table.level)
     chart = _chart(charts.calibration_chart(labels, table.observed_rate, table.jeffreys_lower, table.jeffreys_upper,
                                             table.mean_pd, title=f"Observed and predicted bad rate by band, {name} sample"),
@@ -608,7 +631,7 @@ def _sample_calibration(name: str, checks) -> dict:
     bands = _table(
         ["scores", "applications", "bads", "observed bad rate", "predicted PD", "expected bads",
          f"Jeffreys {level} interval", "Jeffreys p", "binomial p (more bads)", "binomial p (two-sided)"],
-        rows, numeric=range(1, 10),
+        rows, numeric=range(0, 10),
         caption=f"Observed against predicted defaults per score band; {name} sample. One-sided p-values are small "
                 f"when a band has more bads than predicted."
                 + (" Band counts were rounded to whole numbers for the binomial tests." if table.rounded_counts else ""))
@@ -620,16 +643,16 @@ def _calibration_figures(checks) -> list[_Figure]:
     large = checks.in_the_large
     figures = [
         _Figure("Hosmer–Lemeshow", _fixed(test.statistic, 2), f"df {test.df}, p-value {_p_value(test.p_value)}"),
-        _Figure("Calibration-in-the-large", f"{_percent(large.observed_rate)} observed",
-                f"{_percent(large.expected_rate)} predicted, z {_fixed(large.z, 2)}, p-value {_p_value(large.p_two_sided)}"),
+        _Figure("Overall bad rate, observed", _percent(large.observed_rate),
+                f"predicted {_percent(large.expected_rate)}, z {_fixed(large.z, 2)}, p-value {_p_value(large.p_two_sided)}"),
     ]
     line = checks.calibration_line
     if line is not None:
         figures += [
             _Figure("Calibration intercept", _fixed(line.intercept, 3),
-                    f"standard error {_fixed(line.intercept_std_error, 3)}, p-value (= 0) {_p_value(line.intercept_p_value)}"),
+                    f"standard error {_fixed(line.intercept_std_error, 3)}; p-value against 0: {_p_value(line.intercept_p_value)}"),
             _Figure("Calibration slope", _fixed(line.slope, 3),
-                    f"standard error {_fixed(line.slope_std_error, 3)}, p-value (= 1) {_p_value(line.slope_p_value)}"),
+                    f"standard error {_fixed(line.slope_std_error, 3)}; p-value against 1: {_p_value(line.slope_p_value)}"),
         ]
     figures.append(_Figure("Brier score", _fixed(checks.brier, 4), "mean squared error of the PD"))
     return figures
@@ -641,7 +664,6 @@ def _calibration_figures(checks) -> list[_Figure]:
 
 def _stability(build, validation) -> dict:
     checks = build.settings.checks
-    decimals = build.scorecard.table.decimals
     overview = _table(["sample", "score PSI", "status"],
                       [[name, _fixed(result.value, 4), _status(result.status)]
                        for name, result in validation.score_stability.items()],
@@ -651,10 +673,10 @@ def _stability(build, validation) -> dict:
         samples.append({
             "name": name,
             "bands": _psi_table(result, name, "scores"),
-            "characteristics": _characteristic_stability_table(validation.characteristic_stability.get(name, ()),
-                                                                name, decimals),
+            "characteristics": _characteristic_stability_table(validation.characteristic_stability.get(name, ()), name),
         })
-    return {"overview": overview, "samples": samples, "watch": f"{checks.psi_watch:.2f}", "act": f"{checks.psi_act:.2f}"}
+    return {"overview": overview, "samples": samples, "watch": f"{checks.psi_watch:.2f}", "act": f"{checks.psi_act:.2f}",
+            "defaults": (checks.psi_watch, checks.psi_act) == (WATCH_PSI, ACT_PSI)}
 
 
 def _psi_table(result, sample: str, label: str) -> _Table:
@@ -672,7 +694,7 @@ def _psi_table(result, sample: str, label: str) -> _Table:
                   row_css=[""] * (len(rows) - 1) + ["total"], caption=caption)
 
 
-def _characteristic_stability_table(items, sample: str, decimals: int) -> _Table:
+def _characteristic_stability_table(items, sample: str) -> _Table:
     rows = [[item.characteristic, _fixed(item.psi.value, 4), _status(item.psi.status),
              _fixed(item.shift.expected_mean, 2), _fixed(item.shift.actual_mean, 2), _signed(item.shift.shift, 2),
              _percent(item.missing_share_development, 1) if item.missing_share_development is not None else DASH,
@@ -688,48 +710,74 @@ def _characteristic_stability_table(items, sample: str, decimals: int) -> _Table
 # 10. Cut-offs
 
 
-def _cutoffs(validation) -> dict | None:
+def _cutoffs(validation, decimals: int, *, every_level: bool) -> dict | None:
     sample = "hold-out" if "hold-out" in validation.samples else DEVELOPMENT
     checks = validation.samples.get(sample)
     if checks is None:
         return None
     table = checks.cutoffs
-    chosen = _shown_cutoffs(table.cutoffs, table.approval_rate, checks.ks.score)
-    step = chosen["step"]
+    shown, step = _shown_cutoffs(table.cutoffs, table.approval_rate, checks.ks.score, every_level=every_level)
     rows, css = [], []
-    for i in chosen["rows"]:
-        rows.append([_score(table.cutoffs[i], 2), _percent(table.approval_rate[i], 1),
-                     _percent(table.approved_bad_rate[i]), _count(table.goods_declined[i]),
-                     _count(table.bads_declined[i]), _percent(table.bads_declined_share[i], 1)])
-        css.append("marked" if i == chosen["ks_row"] else "")
-    shown = _table(["approve at or above", "approval rate", "bad rate among approved", "goods declined",
-                    "bads declined", "share of bads declined"], rows, numeric=range(0, 6), row_css=css,
-                   caption=f"Cut-offs on the {sample} sample, every {step:g} points"
-                           f"{' (every score)' if step == 1 else ''}; the marked row is the first cut-off above the "
-                           f"KS score {checks.ks.score:g}. Rates count goods and bads only.")
-    return {"sample": sample, "table": shown, "n_cutoffs": _count(len(table.cutoffs)), "n_shown": len(rows)}
+    for score, i, marked in shown:
+        rows.append([_score(score, decimals), _percent(table.approval_rate[i], 1), _percent(table.approved_bad_rate[i]),
+                     _count(table.goods_declined[i]), _count(table.bads_declined[i]),
+                     _percent(table.bads_declined_share[i], 1)])
+        css.append("marked" if marked else "")
+    caption = (f"Cut-offs on the {sample} sample, every {step:g} points where between "
+               f"{_percent(CUTOFF_SPAN[0], 0)} and {_percent(CUTOFF_SPAN[1], 0)} of applications are approved. "
+               f"The marked row is the first cut-off above the KS score {_score(checks.ks.score, decimals)}. "
+               f"Rates count goods and bads only.")
+    shown_table = _table(["approve at or above", "approval rate", "bad rate among approved", "goods declined",
+                          "bads declined", "share of bads declined"], rows, numeric=range(0, 6), row_css=css,
+                         caption=caption)
+    trade_off = _chart(
+        charts.line_chart([_trade_off(name, c.cutoffs) for name, c in validation.samples.items()],
+                          x_label="approval rate", y_label="bad rate among approved", x_range=(0.0, 1.0),
+                          x_percent=True, y_percent=True, width=460, height=300,
+                          title="Bad rate among approved against approval rate, " + ", ".join(validation.samples) + " samples"),
+        f"Bad rate among the approved against the share approved, as the cut-off moves, from "
+        f"{_percent(CUTOFF_SPAN[0], 0)} approved; each sample.")
+    return {"sample": sample, "table": shown_table, "n_cutoffs": _count(len(table.cutoffs)), "n_shown": len(rows),
+            "trade_off": trade_off}
 
 
-def _shown_cutoffs(cutoffs: np.ndarray, approval_rate: np.ndarray, ks_score: float) -> dict:
-    """Rows at round score steps across the cut-offs a lender would consider, plus the one after the KS score.
+def _trade_off(name: str, table) -> charts.Series:
+    # Below the lowest approval rate worth considering, a handful of applications make the bad rate jump about.
+    keep = table.approval_rate >= CUTOFF_SPAN[0]
+    return charts.Series(name, tuple(table.approval_rate[keep]), tuple(table.approved_bad_rate[keep]))
 
-    The step is the smallest of ``CUTOFF_STEPS`` that keeps the rows within ``CUTOFF_ROWS``.
+
+def _shown_cutoffs(cutoffs: np.ndarray, approval_rate: np.ndarray, ks_score: float, *, every_level: bool):
+    """Round scores, a fixed step apart, across the cut-offs a lender would consider, plus the KS cut-off.
+
+    The step is the smallest of ``CUTOFF_STEPS`` that keeps the rows to ``CUTOFF_ROWS``. Each round
+    score takes the row of the first cut-off at or above it. When the table has a cut-off at every
+    score level, approving from the round score approves the same applications, so the round score
+    is shown; otherwise the table's own cut-off is.
+
+    Returns
+    -------
+    list of (score shown, row of the table, whether it is the KS cut-off), and the step.
     """
-    finite = np.isfinite(cutoffs)
     low_rate, high_rate = CUTOFF_SPAN
-    useful = np.flatnonzero(finite & (approval_rate >= low_rate) & (approval_rate <= high_rate))
+    useful = np.flatnonzero((approval_rate >= low_rate) & (approval_rate <= high_rate))
     if useful.size == 0:
-        useful = np.flatnonzero(finite)
-    low, high = cutoffs[useful[0]], cutoffs[useful[-1]]
-    ks_row = int(np.searchsorted(cutoffs, ks_score, side="right")) if finite.any() else 0
-    ks_row = min(ks_row, len(cutoffs) - 1)
+        useful = np.arange(len(cutoffs))
+    low, high = float(cutoffs[useful[0]]), float(cutoffs[useful[-1]])
     for step in CUTOFF_STEPS:
         grid = np.arange(math.ceil(low / step) * step, high + step / 2, step)
-        rows = np.unique(np.clip(np.searchsorted(cutoffs, grid, side="left"), 0, len(cutoffs) - 1))
-        if len(rows) < CUTOFF_ROWS:
+        if len(grid) <= CUTOFF_ROWS:
             break
-    rows = np.union1d(rows, [ks_row])
-    return {"rows": [int(i) for i in rows], "step": step, "ks_row": ks_row}
+    rows = np.searchsorted(cutoffs, grid, side="left")
+    shown = {int(row): float(score if every_level else cutoffs[row]) for score, row in zip(grid, rows)
+             if row < len(cutoffs)}
+    shown = [(score, row, False) for row, score in shown.items()]
+    ks_row = int(np.searchsorted(cutoffs, ks_score, side="right"))
+    if ks_row < len(cutoffs):
+        ks_cutoff = float(cutoffs[ks_row])
+        shown = [item for item in shown if item[0] != ks_cutoff] + [(ks_cutoff, ks_row, True)]
+        shown.sort(key=lambda item: item[0])
+    return shown, step
 
 
 # --------------------------------------------------------------------------------------------
