@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import json
 import os
+import shlex
 import tempfile
 from dataclasses import replace
 from pathlib import Path
@@ -182,7 +183,7 @@ def _proposals(ledger, classed: ClassedLedger, settings: Settings):
     for name, why in ledger.left_out.items():
         if name in roles:
             continue
-        characteristics[name] = CharacteristicSettings(use="never")
+        characteristics[name] = CharacteristicSettings(use="never", note=why.split(";")[0])
         comments[name] = f"left out: {why}"
     return characteristics, comments
 
@@ -234,12 +235,30 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
             )),
             write_text_atomically(out / "summary.txt", summary + "\n"),
         ]
+    if options.reports:
+        written += _write_build_reports(replace(build, settings=resolved), out, clock, options)
     if options.timings:
         print(json.dumps({stage: round(seconds, 4) for stage, seconds in timings.items()}), file=streams.err)
     streams.say(summary)
     streams.say()
     streams.say("written: " + ", ".join(str(path) for path in written))
     return EXIT_OK
+
+
+def _write_build_reports(build, out: Path, clock, options: BuildOptions) -> list[Path]:
+    """Run every validation check and write the HTML report and the workbook."""
+    from .report.html import write_report
+    from .report.workbook import write_workbook
+    from .validation import validate_build
+
+    with clock("checks"):
+        validation = validate_build(build)
+    command = "scorewright build " + " ".join(shlex.quote(str(a)) for a in (options.source, "--out", out))
+    with clock("report"):
+        report = write_report(build, validation, out / "report.html", generated_by=command)
+    with clock("workbook"):
+        book = write_workbook(build, validation, out / "workbook.xlsx")
+    return [report, book]
 
 
 def _build_settings(options: BuildOptions) -> tuple[Settings, Path]:

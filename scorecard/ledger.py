@@ -432,7 +432,7 @@ def _choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[
         spec = settings.characteristic(name)
         series = frame[column]
         if spec.use == "never":
-            left_out[name] = "use = never in the settings"
+            left_out[name] = "use = never in the settings" + (f" ({spec.note})" if spec.note else "")
             continue
         reason = unusable_reason(series)
         if reason:

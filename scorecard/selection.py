@@ -94,11 +94,11 @@ def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[fl
     candidates = [name for name in patterns.characteristics]
     for name in forced:
         log.append(Decision("forced", name, "forced in", "use = always in the settings"))
-    candidates = _screen(candidates, iv, forced, selection, log)
-    candidates = _decorrelate(candidates, iv, forced, design, selection, log)
+    screened = _screen(candidates, iv, forced, selection, log)
+    candidates = _decorrelate(screened, iv, forced, design, selection, log)
     chosen = _stepwise(candidates, forced, design, selection, log)
     chosen, result = _remove_reversals(chosen, forced, design, log)
-    correlations = design.correlation(candidates)
+    correlations = design.correlation(screened)  # before decorrelation, so the pairs left out show
     return SelectionResult(tuple(chosen), result, tuple(log), correlations, variance_inflation(design.correlation(chosen)))
 
 

@@ -128,6 +128,7 @@ class CharacteristicSettings:
     specials: tuple[str | int, ...] = _key((), "per special value, 'own' or the number of the group it joins")
     unseen: str | int = _key("worst", "where levels never seen at build time go: 'worst' (lowest WoE) or a group number")
     label: str = _key("", "plain-language reason text for this characteristic (blank: made from its name)")
+    note: str = _key("", "the analyst's reason for a decision about this characteristic; the reports show it")
     reason_code: str = _key("", "stable code of this characteristic's reason (blank: R01, R02, ... in ledger order)")
 
 

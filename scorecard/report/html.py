@@ -92,7 +92,7 @@ def render_report(build, validation, *, generated_by: str = "") -> str:
     return environment().get_template("report.html").render(**context)
 
 
-def write_report(build, validation, path) -> Path:
+def write_report(build, validation, path, *, generated_by: str = "") -> Path:
     """Write the build report to ``path`` atomically and return the path.
 
     The page is written under a temporary name in the same folder and then renamed into place
@@ -104,6 +104,8 @@ def write_report(build, validation, path) -> Path:
     validation : scorecard.validation.Validation
     path : path-like
         Where the report goes, e.g. ``run1/report.html``; its folder is made if missing.
+    generated_by : str
+        The command that made the report, shown under reproducibility.
 
     Returns
     -------
@@ -114,7 +116,7 @@ def write_report(build, validation, path) -> Path:
     OSError
         The folder cannot be made or written to; any earlier report at ``path`` is left as it was.
     """
-    return write_text_atomically(Path(path), render_report(build, validation))
+    return write_text_atomically(Path(path), render_report(build, validation, generated_by=generated_by))
 
 
 # --------------------------------------------------------------------------------------------
