@@ -138,7 +138,7 @@ class SelectionSettings:
 
     min_iv: float = _key(0.02, "characteristics with a lower information value are screened out", lambda v: v >= 0, "a number >= 0")
     leakage_iv: float = _key(
-        0.5, "characteristics with a higher information value are left out as suspected leakage unless use = always",
+        0.5, "characteristics with a higher information value are flagged for a leakage check (set use = never to drop one)",
         lambda v: v > 0, "a positive number",
     )
     max_correlation: float = _key(
