@@ -416,8 +416,12 @@ def monitor_summary(result, *, model: Path) -> str:
         f"overall status: {result.status}",
     ]
     ranked = sorted(overall.statuses, key=lambda s: -STATUSES.index(s.status))
-    rows = [(s.status, s.check, f"{s.figure} {s.value:.3g}", s.thresholds) for s in ranked]
-    lines += ["  " + line for line in _aligned(rows)]
+    raised = [s for s in ranked if s.status != "ok"]
+    rows = [(s.status, s.check, f"{s.figure} {s.value:.3g}", s.thresholds) for s in raised]
+    lines += ["  " + line for line in _aligned(rows)] if rows else []
+    calm = [s.check for s in ranked if s.status == "ok"]
+    if calm:
+        lines.append(f"  ok on the other {len(calm)} checks: {', '.join(calm[:4])}{', ...' if len(calm) > 4 else ''}")
     if overall.outcomes is None:
         lines += ["", "stability only: no row has a known outcome, so discrimination and calibration are not checked"]
     if result.quarters:
