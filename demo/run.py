@@ -16,7 +16,7 @@ from pathlib import Path
 
 from scorecard.demo import generator
 from scorecard.errors import ScorecardError
-from scorecard.settings import edit_settings
+from scorecard.settings import toml_value
 
 BUILD_QUARTERS = 6  # 2024Q1 to 2025Q2: the history the scorecard is built on
 OUT_OF_TIME_FROM = "2025-01-01"  # the last two of those quarters are kept out of time
@@ -36,7 +36,7 @@ def run_demo(out: Path, *, rows: int, seed: int, streams) -> int:
         ("Propose a classing of every characteristic and write the settings file",
          ["init", str(history), "--target", "outcome", "--bad", "bad", "--good", "good", "--indeterminate", "indeterminate",
           "--out-of-time-from", OUT_OF_TIME_FROM, "--special", *SPECIAL, "--out", str(settings), "--force"]),
-        ("The analyst's decisions", None),
+        ("The analyst's decisions, recorded in the settings file", "decisions"),
         ("Build the scorecard: selection, fit, points, checks, reports",
          ["build", str(settings), "--out", str(out / "build"), "--force"]),
         ("Score the next applications, with the reasons behind each score",
@@ -46,9 +46,8 @@ def run_demo(out: Path, *, rows: int, seed: int, streams) -> int:
     ]
     for number, (title, argv) in enumerate(steps, start=2):
         streams.say(f"\n== step {number} of {len(steps) + 1}: {title}")
-        if argv is None:
-            _apply_decisions(settings, streams)
-            continue
+        if argv == "decisions":
+            argv = _decisions(settings, streams)
         streams.say("$ scorewright " + " ".join(shlex.quote(a) for a in argv))
         code = main(argv, stdout=streams.out, stderr=streams.err)
         if code not in (0, 1):
@@ -81,9 +80,10 @@ def _write_ledgers(data: Path, *, rows: int, seed: int, streams):
     return history, applications, recent
 
 
-def _apply_decisions(settings: Path, streams) -> None:
+def _decisions(settings: Path, streams) -> list[str]:
+    """Say each of the analyst's decisions and why; return the 'scorewright set' arguments that make them."""
     text = resources.files("scorecard.demo").joinpath("analyst.toml").read_text(encoding="utf-8")
     decisions = tomllib.loads(text)["decision"]
     for decision in decisions:
-        streams.say(f"  set {decision['key']} = {decision['value']!r}: {decision['why']}")
-    edit_settings(settings, {d["key"]: d["value"] for d in decisions})
+        streams.say(f"  {decision['key']} = {decision['value']!r}: {decision['why']}")
+    return ["set", str(settings), *(f"{d['key']}={toml_value(d['value'])}" for d in decisions)]

@@ -20,7 +20,13 @@ _PUBLIC = {
     "optimal_grouping": "classing", "binning_from_settings": "classing",
     "BinCounts": "counting", "count_bins": "counting", "PatternTable": "counting", "pattern_table": "counting",
     "EvidenceTable": "evidence", "evidence_table": "evidence", "information_value": "evidence", "woe_values": "evidence",
-    "class_ledger": "build", "ClassedLedger": "build",
+    "class_ledger": "build", "ClassedLedger": "build", "build_scorecard": "build", "Build": "build",
+    # fit, points, checks, deliverables
+    "fit_logistic": "logistic", "FitResult": "logistic", "select_characteristics": "selection",
+    "SelectionResult": "selection", "scaling": "points", "points_table": "points", "PointsTable": "points",
+    "Scorecard": "points", "ScoreHistogram": "points", "validate_build": "validation", "Validation": "validation",
+    "load_model": "modelfile", "save_model": "modelfile", "model_document": "modelfile", "SavedModel": "modelfile",
+    "monitor_ledger": "monitor", "MonitorResult": "monitor",
     # errors
     "ScorecardError": "errors", "LedgerError": "errors", "SettingsError": "errors", "ClassingError": "errors",
     "FitError": "errors", "ModelFileError": "errors", "ScorecardWarning": "errors",

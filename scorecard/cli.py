@@ -127,6 +127,14 @@ class DemoOptions:
     force: bool = False
 
 
+@dataclass(frozen=True)
+class SetOptions:
+    """Options of ``scorewright set``."""
+
+    settings: Path
+    assignments: tuple[str, ...]
+
+
 # --------------------------------------------------------------------------------------------
 # The parser
 
@@ -147,6 +155,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"scorewright {_version()}")
     commands = parser.add_subparsers(dest="command", metavar="COMMAND")
     _add_init(commands)
+    _add_set(commands)
     _add_build(commands)
     _add_score(commands)
     _add_monitor(commands)
@@ -208,6 +217,32 @@ def _run_init(options: InitOptions, streams: Streams) -> int:
     from .commands import run_init
 
     return run_init(options, streams)
+
+
+def _add_set(commands) -> None:
+    parser = commands.add_parser(
+        "set", help="change keys of a settings file from the command line, keeping its comments",
+        description=(
+            "Set one or more keys of a settings file, as you would by editing it: comments and layout "
+            "are kept, and the result is checked before it is written. Values are written as in the file "
+            "(numbers, true/false, \"text\", [lists]); a bare word is taken as text."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_examples(
+            "scorewright set scorecard.toml characteristics.collections_status.use=never",
+            "scorewright set scorecard.toml samples.holdout_fraction=0.25 'characteristics.age.cuts=[25, 35, 50]'",
+        ),
+    )
+    parser.add_argument("settings", type=Path, help="the settings file to change")
+    parser.add_argument("assignments", nargs="+", metavar="KEY=VALUE", help="dotted key and its new value")
+    _add_common(parser)
+    parser.set_defaults(make_options=lambda a: SetOptions(a.settings, tuple(a.assignments)), run=_run_set)
+
+
+def _run_set(options: SetOptions, streams: Streams) -> int:
+    from .commands import run_set
+
+    return run_set(options, streams)
 
 
 def _add_build(commands) -> None:

@@ -11,6 +11,7 @@ import json
 import os
 import shlex
 import tempfile
+import tomllib
 from dataclasses import replace
 from pathlib import Path
 
@@ -18,7 +19,9 @@ import numpy as np
 
 from .build import ClassedLedger, Stopwatch, build_scorecard, class_ledger
 from .classing import classing_settings_values
-from .cli import EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, DemoOptions, InitOptions, MonitorOptions, ScoreOptions, Streams
+from .cli import (
+    EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, DemoOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions, Streams,
+)
 from .errors import LedgerError, SettingsError
 from .ledger import (
     NUMERIC, closest_names, default_outcome_mapping, detect_kind, fingerprint_of, looks_like_identifier_or_date,
@@ -27,7 +30,7 @@ from .ledger import (
 from .modelfile import load_model, model_document, save_model
 from .monitor import STATUSES, monitor_ledger
 from .settings import (
-    CharacteristicSettings, Settings, read_settings, settings_from_mapping, settings_to_mapping, write_settings,
+    CharacteristicSettings, Settings, edit_settings, read_settings, settings_from_mapping, settings_to_mapping, write_settings,
     write_text_atomically,
 )
 
@@ -442,3 +445,30 @@ def run_demo(options: DemoOptions, streams: Streams) -> int:
         raise SettingsError(f"--rows {options.rows}: the demo needs at least 8000 applications (1000 a quarter).")
     check_output_folder(options.out, options.force)
     return run(options.out, rows=options.rows, seed=options.seed, streams=streams)
+
+
+# --------------------------------------------------------------------------------------------
+# set
+
+
+def run_set(options: SetOptions, streams: Streams) -> int:
+    """Set keys of a settings file, keeping its comments; the result is validated before writing."""
+    if not options.settings.exists():
+        raise SettingsError(f"{options.settings}: settings file not found. Create one with 'scorewright init LEDGER --target COLUMN'.")
+    changes = dict(parse_assignment(text) for text in options.assignments)
+    edit_settings(options.settings, changes)
+    for key, value in changes.items():
+        streams.say(f"{options.settings}: {key} = {value!r}")
+    return EXIT_OK
+
+
+def parse_assignment(text: str) -> tuple[str, object]:
+    """Split 'key=value' and read the value as a TOML value (a bare word is text)."""
+    key, equals, value = text.partition("=")
+    if not equals or not key.strip() or "." not in key:
+        raise SettingsError(f"{text!r}: write KEY=VALUE with a dotted key, e.g. samples.holdout_fraction=0.25.")
+    try:
+        parsed = tomllib.loads(f"value = {value.strip()}")["value"]
+    except tomllib.TOMLDecodeError:
+        parsed = value.strip()
+    return key.strip(), parsed

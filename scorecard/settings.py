@@ -156,7 +156,10 @@ class SelectionSettings:
 class FitSettings:
     """The logistic fit."""
 
-    solver: str = _key("newton", "newton (Newton-Raphson) or gradient (gradient descent on standardised inputs)", _one_of("newton", "gradient", "lbfgs"), "newton, gradient or lbfgs")
+    solver: str = _key(
+        "newton", "newton (Newton-Raphson with step-halving), gradient (gradient descent on standardised inputs) or lbfgs",
+        _one_of("newton", "gradient", "lbfgs"), "newton, gradient or lbfgs",
+    )
     l2: float = _key(0.0, "ridge penalty on the coefficients (0: plain maximum likelihood)", lambda v: v >= 0, "a number >= 0")
     max_iterations: int = _key(100, "most iterations of the solver", lambda v: v >= 1, "a whole number >= 1")
 
@@ -504,7 +507,7 @@ def settings_to_toml(settings: Settings, *, comments: Mapping[str, str] | None =
         section = getattr(settings, name)
         lines += ["", f"[{name}]"]
         for spec in dataclasses.fields(cls):
-            lines.append(f"{spec.name} = {_toml_value(getattr(section, spec.name))}  # {spec.metadata['meaning']}")
+            lines.append(f"{spec.name} = {toml_value(getattr(section, spec.name))}  # {spec.metadata['meaning']}")
     for name, char in settings.characteristics.items():
         lines += ["", f"[characteristics.{_toml_key(name)}]"]
         if name in comments:
@@ -514,11 +517,12 @@ def settings_to_toml(settings: Settings, *, comments: Mapping[str, str] | None =
             value = getattr(char, spec.name)
             if value is None or (value == getattr(defaults, spec.name) and spec.name not in ("kind", "use")):
                 continue
-            lines.append(f"{spec.name} = {_toml_value(value)}")
+            lines.append(f"{spec.name} = {toml_value(value)}")
     return "\n".join(lines).lstrip("\n") + "\n"
 
 
-def _toml_value(value: Any) -> str:
+def toml_value(value: Any) -> str:
+    """Return a value as TOML text: "text", 12, 0.5, true, [1, 2]."""
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, int):
@@ -528,7 +532,7 @@ def _toml_value(value: Any) -> str:
     if isinstance(value, str):
         return _toml_string(value)
     if isinstance(value, (tuple, list)):
-        return "[" + ", ".join(_toml_value(v) for v in value) + "]"
+        return "[" + ", ".join(toml_value(v) for v in value) + "]"
     raise TypeError(f"cannot write {value!r} to TOML")  # our own invariant
 
 
@@ -580,9 +584,9 @@ def settings_reference() -> list[tuple[str, str, str]]:
     rows = []
     for name, cls in SECTIONS.items():
         for spec in dataclasses.fields(cls):
-            rows.append((f"{name}.{spec.name}", _toml_value(spec.default), spec.metadata["meaning"]))
+            rows.append((f"{name}.{spec.name}", toml_value(spec.default), spec.metadata["meaning"]))
     for spec in dataclasses.fields(CharacteristicSettings):
-        default = "(none)" if spec.default is None else _toml_value(spec.default)
+        default = "(none)" if spec.default is None else toml_value(spec.default)
         rows.append((f"characteristics.NAME.{spec.name}", default, spec.metadata["meaning"]))
     return rows
 
@@ -615,7 +619,7 @@ def edit_settings(path: str | os.PathLike[str], changes: Mapping[str, Any]) -> P
     lines = path.read_text(encoding="utf-8").splitlines()
     for dotted, value in changes.items():
         section, _, key = dotted.rpartition(".")
-        lines = _set_line(lines, section, key, _toml_value(value))
+        lines = _set_line(lines, section, key, toml_value(value))
     text = "\n".join(lines) + "\n"
     try:
         document = tomllib.loads(text)

@@ -351,3 +351,36 @@ def test_init_on_credit_data_proposes_monotone_classings(credit_csv, tmp_path):
         assert len(woe) >= 2, name  # every numeric column of these data splits (counted from the proposal)
         steps = np.diff(woe)
         assert (steps > 0).all() or (steps < 0).all(), (name, woe)
+
+
+# ---------------------------------------------------------------------------------------------
+# set
+
+
+def test_set_changes_keys_and_keeps_comments(ledger_csv, tmp_path):
+    settings = tmp_path / "scorecard.toml"
+    assert run("init", ledger_csv, "--target", "outcome", "--bad", "bad", "--out", settings)[0] == 0
+    code, out, err = run("set", settings, "samples.holdout_fraction=0.25", "characteristics.home.use=never",
+                         'characteristics.home.note="recorded after the decision"', "characteristics.months_at_address.cuts=[12, 48]")
+    assert code == 0, err
+    loaded = read_settings(settings)
+    assert loaded.samples.holdout_fraction == 0.25
+    assert loaded.characteristic("home").use == "never"
+    assert loaded.characteristic("home").note == "recorded after the decision"
+    assert loaded.characteristic("months_at_address").cuts == (12.0, 48.0)
+    assert "# share of the in-time rows kept back" in settings.read_text()
+    assert "# IV " in settings.read_text()
+
+
+@pytest.mark.parametrize(("assignment", "message"), [
+    ("samples.holdout_fraction=2", r"samples\.holdout_fraction = 2 is not possible"),
+    ("samples.holdout=0.2", r"unknown key in \[samples\] 'holdout'\. Did you mean 'holdout_fraction'\?"),
+    ("holdout_fraction", r"write KEY=VALUE with a dotted key"),
+])
+def test_set_refuses_what_the_file_would_refuse(ledger_csv, tmp_path, assignment, message):
+    settings = tmp_path / "scorecard.toml"
+    run("init", ledger_csv, "--target", "outcome", "--bad", "bad", "--out", settings)
+    before = settings.read_bytes()
+    code, _, err = run("set", settings, assignment)
+    assert code == 2 and re.search(message, err), err
+    assert settings.read_bytes() == before
