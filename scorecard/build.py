@@ -10,7 +10,7 @@ import contextlib
 import os
 import time
 import warnings
-from collections.abc import Callable, Iterable, Mapping
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, replace
 from pathlib import Path
 
@@ -25,7 +25,9 @@ from .classing import (
 from .counting import BinCounts, count_bins, pattern_table
 from .errors import ScorecardWarning
 from .evidence import EvidenceTable, evidence_table
-from .ledger import BAD, DEVELOPMENT, GOOD, SAMPLE_NAMES, Fingerprint, Ledger, fingerprint_of, prepare_ledger, read_ledger
+from .ledger import (
+    BAD, DEVELOPMENT, GOOD, SAMPLE_NAMES, Characteristic, Fingerprint, Ledger, fingerprint_of, prepare_ledger, read_ledger,
+)
 from .points import PointsTable, Scorecard, ScoreHistogram, points_table, scaling, score_codes, score_histogram
 from .selection import SelectionResult, select_characteristics
 from .settings import Settings
@@ -87,26 +89,86 @@ def class_ledger(ledger: Ledger, settings: Settings, *,
     Returns
     -------
     ClassedLedger
-        Development WoE per characteristic; notes of every repair and broken constraint.
+        Development WoE per characteristic, the bin code of every row, and notes of every repair
+        and broken constraint.
     """
-    fitting = ledger.sample == DEVELOPMENT
-    fitting &= (ledger.outcome == GOOD) | (ledger.outcome == BAD)
+    fitting = (ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD))
     sample_rows = _fine_sample(np.flatnonzero(fitting), settings)
+    return class_batches(
+        lambda names: iter([(0, ledger.frame)]), ledger.characteristics, ledger.outcome, ledger.weight, ledger.sample,
+        settings, fine_rows=ledger.frame.iloc[sample_rows], fine_weights=ledger.weight[sample_rows],
+        keep_codes=True, progress=progress,
+    )
+
+
+Batches = Callable[[Sequence[str]], Iterator[tuple[int, pd.DataFrame]]]
+UNSEEN_LABEL = "(not in any group)"
+
+
+def class_batches(batches: Batches, characteristics: Sequence[Characteristic], outcome: np.ndarray, weight: np.ndarray,
+                  sample: np.ndarray, settings: Settings, *, fine_rows: pd.DataFrame, fine_weights: np.ndarray,
+                  keep_codes: bool, progress: Callable[[Iterable], Iterable] = lambda items: items) -> ClassedLedger:
+    """Class every characteristic in passes over batches of rows; only count tables are kept.
+
+    Parameters
+    ----------
+    batches : callable
+        ``batches(columns)`` returns a fresh iterator of ``(first row, frame)``: one pass over the
+        ledger reading those columns. In memory it yields the whole frame once.
+    characteristics : sequence of Characteristic
+    outcome, weight, sample : numpy.ndarray
+        Per row of the whole ledger.
+    settings : Settings
+    fine_rows, fine_weights : pandas.DataFrame, numpy.ndarray
+        The development rows fine cut points are taken from, and their weights.
+    keep_codes : bool
+        Keep every row's bin codes (in memory); a streamed build does not.
+    progress : callable
+        Wraps the loop over characteristics within a batch.
+
+    Returns
+    -------
+    ClassedLedger
+
+    Notes
+    -----
+    Pass 1 (only for characteristics without a fixed classing) counts fine bins; coarse classing
+    follows from those counts. Pass 2 codes every characteristic and counts its bins, with a bin
+    of its own for values the binning does not know; the settings' classing is then completed
+    from the counts alone: empty missing and special-value bins go, and unknown values join the
+    fallback bin.
+    """
+    fitting = (sample == DEVELOPMENT) & ((outcome == GOOD) | (outcome == BAD))
+    proposed = [c for c in characteristics if not _is_fixed(settings, c.name)]
+    fine = {c.name: _fine_binning(fine_rows[c.name], fine_weights, c, settings) for c in proposed}
+    binnings, coarse_notes = {}, {}
+    if fine:
+        fine_counts, _, _ = _count_pass(batches, fine, outcome, weight, sample, fitting, keep_codes=False, progress=progress)
+        for name in fine:
+            binnings[name], coarse_notes[name] = _coarse(fine[name], fine_counts[name], settings)
+    binnings.update({c.name: _provisional(c, settings) for c in characteristics if c.name not in fine})
+    binnings = {c.name: binnings[c.name] for c in characteristics}
+    counts, codes, stray = _count_pass(batches, binnings, outcome, weight, sample, fitting, keep_codes=keep_codes,
+                                       progress=progress)
     classed, columns, notes = [], [], []
-    for char in progress(ledger.characteristics):
-        values = ledger.frame[char.name]
-        spec = settings.characteristic(char.name)
-        if spec.cuts is not None or spec.groups is not None:
-            result, codes = _fixed_classing(values, char, ledger, fitting, settings)
-        else:
-            result, codes = _proposed_classing(values, char, ledger, fitting, sample_rows, settings)
+    for char in characteristics:
+        origin = "settings" if char.name not in fine else "proposed"
+        result, mapping = _finish(binnings[char.name], counts[char.name], stray.get(char.name, {}), origin, settings,
+                                  notes=coarse_notes.get(char.name, ()))
         classed.append(result)
-        columns.append(codes)
         notes.extend(result.notes)
-    codes = np.column_stack(columns) if columns else np.zeros((ledger.n_rows, 0), dtype=np.uint8)
+        if keep_codes:
+            columns.append(mapping.astype(codes[char.name].dtype)[codes[char.name]])
+    n_rows = len(outcome)
+    matrix = np.column_stack(columns) if columns else np.zeros((n_rows if keep_codes else 0, 0), dtype=np.uint8)
     for note in notes:
-        warnings.warn(note, ScorecardWarning, stacklevel=2)
-    return ClassedLedger(tuple(classed), codes, tuple(notes))
+        warnings.warn(note, ScorecardWarning, stacklevel=3)
+    return ClassedLedger(tuple(classed), matrix, tuple(notes))
+
+
+def _is_fixed(settings: Settings, name: str) -> bool:
+    spec = settings.characteristic(name)
+    return spec.cuts is not None or spec.groups is not None
 
 
 def _fine_sample(rows: np.ndarray, settings: Settings) -> np.ndarray:
@@ -118,67 +180,125 @@ def _fine_sample(rows: np.ndarray, settings: Settings) -> np.ndarray:
     return np.sort(rng.choice(rows, size=limit, replace=False))
 
 
-def _proposed_classing(values, char, ledger: Ledger, fitting, sample_rows, settings: Settings):
+def _fine_binning(values, weights, char: Characteristic, settings: Settings) -> Binning:
     classing = settings.classing
-    spec = settings.characteristic(char.name)
-    fine = fine_classing(
-        values.iloc[sample_rows], ledger.weight[sample_rows], name=char.name, kind=char.kind,
-        special_values=char.special_values, max_bins=classing.max_fine_bins, rare_level_share=classing.rare_level_share,
-    )
-    fine_codes = code_rows(values, fine)
-    fine_counts = count_bins(fine_codes, ledger.outcome, ledger.weight, ledger.sample, characteristic=char.name, labels=fine.labels)
-    trend = spec.trend or classing.trend
+    return fine_classing(values, weights, name=char.name, kind=char.kind, special_values=char.special_values,
+                         max_bins=classing.max_fine_bins, rare_level_share=classing.rare_level_share)
+
+
+def _coarse(fine: Binning, counts: BinCounts, settings: Settings) -> tuple[Binning, tuple[str, ...]]:
+    """The optimal grouping of a fine binning, from its development counts (the unknown bin left aside)."""
+    classing = settings.classing
+    spec = settings.characteristic(fine.characteristic)
+    known = slice(0, fine.n_bins)
     coarse = coarse_classing(
-        fine, fine_counts.goods(), fine_counts.bads(), n_goods=fine_counts.n_goods(), n_bads=fine_counts.n_bads(),
+        fine, counts.goods()[known], counts.bads()[known], n_goods=counts.n_goods()[known], n_bads=counts.n_bads()[known],
         min_group_share=classing.min_group_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
-        max_groups=classing.max_groups, min_special_share=classing.min_special_share, trend=trend,
+        max_groups=classing.max_groups, min_special_share=classing.min_special_share, trend=spec.trend or classing.trend,
     )
     binning = coarse.binning
     if spec.unseen != "worst":
         binning = resolve_fallback(binning, [], [], spec.unseen)
-    codes = code_rows(values, binning)
-    counts = count_bins(codes, ledger.outcome, ledger.weight, ledger.sample, characteristic=char.name, labels=binning.labels)
-    return _classed(binning, counts, "proposed", coarse.notes, settings), codes
+    return binning, coarse.notes
 
 
-def _fixed_classing(values, char, ledger: Ledger, fitting, settings: Settings):
+def _provisional(char: Characteristic, settings: Settings) -> Binning:
+    """The settings' classing with own bins for every special value and for missing values."""
     spec = settings.characteristic(char.name)
-    notes = []
-    development = values[fitting]
-    if char.kind == NUMERIC:
-        x = development.to_numpy(dtype=float, na_value=np.nan)
-        present = [v for v in char.special_values if np.any(x == v)]
-        has_missing = bool(np.isnan(x).any())
-    else:
-        present, has_missing = [], bool(development.isna().any())
-    binning = binning_from_settings(
+    return binning_from_settings(
         char.name, char.kind, cuts=spec.cuts, groups=spec.groups, special_values=char.special_values,
-        specials=spec.specials, missing=spec.missing, present_specials=present, has_missing=has_missing,
+        specials=spec.specials, missing=spec.missing, present_specials=char.special_values, has_missing=True,
         trend=spec.trend or settings.classing.trend,
     )
-    stray = unseen_levels(development, binning)
-    codes = code_rows(values, binning, unseen_code=binning.n_bins)
-    labels = (*binning.labels, "(not in any group)")
-    provisional = count_bins(codes, ledger.outcome, ledger.weight, ledger.sample, characteristic=char.name, labels=labels)
-    goods, bads = provisional.goods()[:-1], provisional.bads()[:-1]
-    binning = resolve_fallback(binning, goods, bads, spec.unseen)
-    if stray:
+
+
+def _count_pass(batches: Batches, binnings: Mapping[str, Binning], outcome, weight, sample, fitting, *,
+                keep_codes: bool, progress):
+    """One pass: code every row of each characteristic and count its bins (plus a bin for unknown values)."""
+    counts: dict[str, BinCounts] = {}
+    codes: dict[str, list[np.ndarray]] = {name: [] for name in binnings}
+    stray: dict[str, dict[str, int]] = {}
+    for start, frame in batches(list(binnings)):
+        rows = slice(start, start + len(frame))
+        for name in progress(list(binnings)):
+            binning = binnings[name]
+            column = code_rows(frame[name], binning, unseen_code=binning.n_bins)
+            batch = count_bins(column, outcome[rows], weight[rows], sample[rows], characteristic=name,
+                               labels=(*binning.labels, UNSEEN_LABEL))
+            counts[name] = counts[name] + batch if name in counts else batch
+            if keep_codes:
+                codes[name].append(column)
+            if binning.kind != NUMERIC:
+                for level, n in unseen_levels(frame[name][fitting[rows]], binning).items():
+                    stray.setdefault(name, {})[level] = stray.get(name, {}).get(level, 0) + n
+    joined = {name: np.concatenate(parts) if len(parts) != 1 else parts[0] for name, parts in codes.items() if parts}
+    return counts, joined, stray
+
+
+def _finish(binning: Binning, counts: BinCounts, stray: Mapping[str, int], origin: str, settings: Settings, *,
+            notes: Sequence[str] = ()):
+    """Complete a binning from its counts; return the classed characteristic and the code mapping."""
+    spec = settings.characteristic(binning.characteristic)
+    notes = list(notes)
+    if origin == "settings":
+        final = _without_empty_bins(binning, counts)
+        final = resolve_fallback(final, *_dev_counts(counts, binning, final), spec.unseen)
+    else:
+        final = binning
+    mapping = _code_mapping(binning, final)
+    final_counts = counts.regroup(mapping, final.labels)
+    if stray and origin == "settings":
         shown = ", ".join(f"{level!r} ({n} rows)" for level, n in list(stray.items())[:5])
         notes.append(
-            f"{char.name!r}: levels {shown} are in no group of the settings; they go to group "
-            f"{binning.fallback_bin + 1} ({binning.labels[binning.fallback_bin]}). Add them to a group to decide yourself."
+            f"{binning.characteristic!r}: levels {shown} are in no group of the settings; they go to group "
+            f"{final.fallback_bin + 1} ({final.labels[final.fallback_bin]}). Add them to a group to decide yourself."
         )
-    codes = code_rows(values, binning)
-    counts = count_bins(codes, ledger.outcome, ledger.weight, ledger.sample, characteristic=char.name, labels=binning.labels)
-    classing = settings.classing
-    trend = spec.trend or classing.trend
-    broken = check_constraints(
-        binning, counts.goods(), counts.bads(), n_goods=counts.n_goods(), n_bads=counts.n_bads(),
-        min_group_share=classing.min_group_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
-        max_groups=classing.max_groups, trend=trend,
+    if origin == "settings":
+        classing = settings.classing
+        broken = check_constraints(
+            final, final_counts.goods(), final_counts.bads(), n_goods=final_counts.n_goods(), n_bads=final_counts.n_bads(),
+            min_group_share=classing.min_group_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
+            max_groups=classing.max_groups, trend=spec.trend or classing.trend,
+        )
+        notes += [f"classing fixed in the settings breaks a constraint: {problem}." for problem in broken]
+    return _classed(final, final_counts, origin, tuple(notes), settings), mapping
+
+
+def _without_empty_bins(binning: Binning, counts: BinCounts) -> Binning:
+    """Drop own bins of special values and of missing values that no development good or bad fell in."""
+    rows = counts.n_goods() + counts.n_bads()
+    n_chain = binning.n_chain
+    present = [v for v, b in zip(binning.special_values, binning.special_bins) if b >= n_chain and rows[b] > 0]
+    has_missing = binning.missing_bin >= n_chain and rows[binning.missing_bin] > 0
+    spec_missing = binning.missing_bin + 1 if 0 <= binning.missing_bin < n_chain else "own"
+    specials = ["own" if b >= n_chain or b < 0 else b + 1 for b in binning.special_bins]
+    return binning_from_settings(
+        binning.characteristic, binning.kind, cuts=binning.cuts if binning.kind == NUMERIC else None,
+        groups=binning.groups if binning.kind != NUMERIC else None, special_values=binning.special_values,
+        specials=specials, missing=spec_missing, present_specials=present,
+        has_missing=has_missing or binning.missing_bin < n_chain, trend=binning.trend,
     )
-    notes += [f"classing fixed in the settings breaks a constraint: {problem}." for problem in broken]
-    return _classed(binning, counts, "settings", tuple(notes), settings), codes
+
+
+def _dev_counts(counts: BinCounts, provisional: Binning, final: Binning):
+    """Development goods and bads of the final bins, leaving out values nothing is known about yet."""
+    mapping = _code_mapping(provisional, final, fallback=final.n_bins)
+    merged = counts.regroup(mapping, (*final.labels, UNSEEN_LABEL))
+    return merged.goods()[: final.n_bins], merged.bads()[: final.n_bins]
+
+
+def _code_mapping(provisional: Binning, final: Binning, *, fallback: int | None = None) -> np.ndarray:
+    """Where each provisional bin (and the unknown-value bin after them) goes among the final bins."""
+    fallback = final.fallback_bin if fallback is None else fallback
+    mapping = np.full(provisional.n_bins + 1, fallback, dtype=np.int64)
+    mapping[: provisional.n_chain] = np.arange(provisional.n_chain)
+    for value, old in zip(provisional.special_values, provisional.special_bins):
+        if old >= provisional.n_chain:
+            new = final.special_bins[final.special_values.index(value)]
+            mapping[old] = new if new >= 0 else fallback
+    if provisional.missing_bin >= provisional.n_chain:
+        mapping[provisional.missing_bin] = final.missing_bin if final.missing_bin >= 0 else fallback
+    return mapping
 
 
 def _classed(binning: Binning, counts: BinCounts, origin: str, notes, settings: Settings) -> ClassedCharacteristic:

@@ -58,6 +58,15 @@ class BinCounts:
         """Add the counts of two batches of the same characteristic."""
         return BinCounts(self.characteristic, self.labels, self.weighted + other.weighted, self.rows + other.rows)
 
+    def regroup(self, mapping: np.ndarray, labels: Sequence[str]) -> BinCounts:
+        """Return the counts with bin ``i`` added into bin ``mapping[i]`` of a new set of bins."""
+        merge = np.zeros((len(mapping), len(labels)))
+        merge[np.arange(len(mapping)), mapping] = 1.0  # each old bin goes wholly into one new bin
+        weighted, rows = self.weighted @ merge, self.rows @ merge
+        weighted.setflags(write=False)
+        rows.setflags(write=False)
+        return BinCounts(self.characteristic, tuple(labels), weighted, rows)
+
 
 def count_bins(codes: np.ndarray, outcome: np.ndarray, weight: np.ndarray, sample: np.ndarray, *,
                characteristic: str, labels: Sequence[str]) -> BinCounts:

@@ -5,13 +5,14 @@ row carries a weighted count of goods and one of bads. A row of individual data 
 weight in one of the two; a row of a pattern table carries the sums over the applications that
 share its pattern. Both give the same log-likelihood, so both give the same estimates.
 
-Before it iterates, the fitter checks the two conditions under which no finite, unique
-maximum-likelihood estimate exists — linearly dependent characteristics and separation of goods
-from bads — and names the characteristics involved instead of returning numbers that mean nothing.
+The fitter checks the two conditions under which no finite, unique maximum-likelihood estimate
+exists — linearly dependent characteristics and separation of goods from bads — and names the
+characteristics involved instead of returning numbers that mean nothing.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import warnings
 from dataclasses import dataclass
 
@@ -45,6 +46,9 @@ _SEPARATION_SLACK = 1e-6
 # A column whose weighted standard deviation is below this share of its largest value is constant
 # but for rounding in the mean.
 _CONSTANT_SPREAD = 1e-10
+# A fitted probability within this of 0 or 1 on a row with only goods or only bads is taken as a
+# sign of separation, to be confirmed or refuted by linear programming.
+_FIRM_PROBABILITY = 1e-10
 # Null-space directions give a column a share of at least this much when it truly takes part.
 _NULL_SPACE_SHARE = 1e-8
 
@@ -146,6 +150,7 @@ def fit_logistic(
     tolerance: float = 1e-10,
     gradient_tolerance: float = 1e-11,
     standardise: bool = True,
+    start=None,
 ) -> FitResult:
     """Fit the log-odds of good:bad by maximum likelihood on weighted rows or a pattern table.
 
@@ -170,15 +175,20 @@ def fit_logistic(
         Most steps to take: 100 for Newton, 100 000 for gradient descent and 10 000 for L-BFGS-B
         by default.
     tolerance : float
-        The fit has converged when a step lowers the cost by at most this much (per unit weight)...
+        The fit has converged when the last step lowered the cost (the penalised negative
+        log-likelihood per unit weight) by at most this much, and
     gradient_tolerance : float
-        ... and the largest element of the gradient of the cost with respect to the coefficients of
-        the standardised characteristics is at most this.
+        the largest element of the gradient of the cost with respect to the coefficients of the
+        standardised characteristics is at most this.
     standardise : bool
         Gradient descent and L-BFGS-B work on characteristics centred and scaled by their weighted
         mean and standard deviation (scaled only, without an intercept), and map the coefficients
-        back. Without it they work on the raw scale and need far more steps when the scales differ.
-        Newton's method does not depend on the scale and ignores this.
+        back. Without it they work on the raw scale and need far more steps when the scales
+        differ. Newton's steps do not depend on the scale; it always works on the standardised
+        characteristics, which only keeps its linear algebra well conditioned.
+    start : array_like, optional
+        Coefficients to start from, in the order of the result's names (for example the estimates
+        of a neighbouring model). By default the intercept-only estimate ``ln(goods / bads)``.
 
     Returns
     -------
@@ -206,7 +216,10 @@ def fit_logistic(
     and the information ``I = X' diag((goods + bads)·p(1 − p)) X``; halving the step while the
     log-likelihood does not improve makes the cost fall at every step (McCullagh and Nelder,
     *Generalized Linear Models*, 2nd ed., 1989, section 4.4, from memory). Standard errors are the
-    square roots of the diagonal of ``I⁻¹`` at the estimate, for every solver.
+    square roots of the diagonal of ``I⁻¹`` at the estimate, for every solver. The cost trace
+    starts from the cost at ``start`` and subtracts each step's decrease,
+    computed from the change in each row's linear predictor so that it stays exact where the
+    cost itself no longer resolves it.
 
     With ``l2 > 0`` the covariance is the inverse of the penalised information
     ``I + l2·diag(0, 1, …, 1)``: the curvature of the penalised log-likelihood, i.e. the normal
@@ -226,7 +239,11 @@ def fit_logistic(
     programming algorithms for detecting separated data in binary logistic regression models*,
     DPhil thesis, University of Oxford, 2007); its definition and the proof that the estimate is
     then infinite are Albert and Anderson (*On the existence of maximum likelihood estimates in
-    logistic regression models*, Biometrika 71, 1984, 1–10).
+    logistic regression models*, Biometrika 71, 1984, 1–10). The descent solvers run that check
+    before they start. Newton's method runs it only when its own estimate cannot prove overlap: at
+    a converged estimate whose residuals keep their signs (every row with only goods fitted
+    below 1 − 1e-10, every row with only bads above 1e-10), no separating direction can exist, so
+    the common case costs no linear program.
     """
     features, names = _checked_features(features, names)
     goods, bads = _checked_counts(goods, bads, features.shape[0])
@@ -235,23 +252,20 @@ def fit_logistic(
     if not intercept and not names:
         raise FitError("there is nothing to fit: no characteristics and no intercept. Pass intercept=True or some features.")
     all_names = ((INTERCEPT_NAME,) if intercept else ()) + names
+    start = None if start is None else _checked_start(start, all_names)
     problem = _problem(_design(features, intercept), goods, bads, l2=l2, intercept=intercept)
-    if l2 == 0:
-        patterns = _patterns(problem)
-        _raise_if_dependent(patterns, all_names, intercept=intercept)
-        _raise_if_separated(patterns, all_names, intercept=intercept)
-    scaling = _scaling(problem)
-    standard = _rescaled(problem, scaling)
-    # Newton's steps do not depend on the scale, but centred columns keep its linear algebra well
-    # conditioned, so it always works on the standardised problem.
-    on_standard = standardise or solver == "newton"
-    working_scaling = _identity_scaling(problem) if on_standard else scaling
-    rule = _StoppingRule(max_iterations, tolerance, gradient_tolerance, working_scaling)
-    path = _SOLVE[solver](standard if on_standard else problem, rule)
-    if not path.converged:
-        warnings.warn(_not_converged_message(solver, path), ScorecardWarning, stacklevel=2)
-    theta = path.coefficients if on_standard else scaling.to_standard(path.coefficients)
-    return _result(standard, scaling, theta, path, all_names, solver=solver, l2=l2)
+    checks = l2 == 0  # with a penalty the estimate exists and is unique whatever the data
+    if checks:
+        _raise_if_dependent(problem, all_names)
+    if checks and solver != "newton":
+        # Descent methods would crawl along a separating direction until max_iterations.
+        _raise_if_separated(_patterns(problem), all_names, intercept=intercept)
+    rule = _StoppingRule(max_iterations, tolerance, gradient_tolerance, _identity_scaling(problem))
+    result = _fit(problem, all_names, rule, solver=solver, l2=float(l2), start=start, standardise=standardise,
+                  checks=checks)
+    if not result.converged:
+        warnings.warn(_not_converged_message(result), ScorecardWarning, stacklevel=2)
+    return result
 
 
 def log_likelihood(beta, design, goods, bads, *, l2: float = 0.0, intercept: bool = True) -> float:
@@ -350,7 +364,7 @@ class _Problem:
         return float(self.goods.sum() + self.bads.sum())
 
     @property
-    def start(self) -> np.ndarray:
+    def intercept_only(self) -> np.ndarray:
         """The intercept-only estimate, ln(total goods / total bads), when there is an intercept."""
         beta = np.zeros(self.design.shape[1])
         if self.intercept:
@@ -384,12 +398,13 @@ def _cost_change(problem: _Problem, beta: np.ndarray, candidate: np.ndarray) -> 
 
 def _softplus_change(eta: np.ndarray, shift: np.ndarray) -> np.ndarray:
     """ln(1 + e^(η+δ)) − ln(1 + e^η), as ln(1 + expit(η)·(e^δ − 1)) where δ is small."""
-    small = np.abs(shift) <= 1
     # The identity keeps full relative precision for small δ; for large δ the plain difference
-    # loses nothing, and clipping keeps e^δ from overflowing in the branch that is not used.
-    precise = np.log1p(special.expit(eta) * np.expm1(np.where(small, shift, 0.0)))
-    plain = np.logaddexp(0.0, eta + shift) - np.logaddexp(0.0, eta)
-    return np.where(small, precise, plain)
+    # loses nothing, and clipping keeps e^δ from overflowing on the rows it is not used for.
+    change = np.log1p(special.expit(eta) * np.expm1(np.clip(shift, -1.0, 1.0)))
+    large = np.abs(shift) > 1
+    if large.any():
+        change[large] = np.logaddexp(0.0, eta[large] + shift[large]) - np.logaddexp(0.0, eta[large])
+    return change
 
 
 def _cost_gradient(problem: _Problem, beta: np.ndarray) -> np.ndarray:
@@ -447,19 +462,17 @@ class _Scaling:
             standard[1:] -= gradient_original[0] * self.centre[1:] / self.scale[1:]
         return standard
 
-    def gradient_to_original(self, gradient_standard: np.ndarray) -> np.ndarray:
-        """(T')⁻¹·g: the gradient with respect to b from the gradient with respect to θ."""
-        original = gradient_standard * self.scale
-        if self.intercept:
-            original[1:] += gradient_standard[0] * self.centre[1:]
-        return original
-
 
 def _scaling(problem: _Problem) -> _Scaling:
-    """Weighted mean and standard deviation per column (root mean square without an intercept)."""
+    """Weighted mean and standard deviation per column (root mean square without an intercept).
+
+    With a penalty the variance gains 4·l2 / total weight: the penalty's curvature measured in the
+    units of the logistic curvature's bound 1/4, so no standardised coefficient is far stiffer
+    than the others.
+    """
     weights = problem.weights / problem.total_weight
     centre = weights @ problem.design if problem.intercept else np.zeros(problem.design.shape[1])
-    spread = np.sqrt(weights @ (problem.design - centre) ** 2)
+    spread = np.sqrt(weights @ (problem.design - centre) ** 2 + 4 * problem.ridge / problem.total_weight)
     # A constant column (up to rounding) has nothing to scale; it only gets here with l2 > 0.
     size = np.max(np.abs(problem.design), axis=0)
     scale = np.where(spread > _CONSTANT_SPREAD * size, spread, 1.0)
@@ -482,11 +495,37 @@ def _rescaled(problem: _Problem, scaling: _Scaling) -> _Problem:
 
 
 # ---------------------------------------------------------------------------------------------
-# Solvers. Each returns a _Path with the estimate in original units.
+# Solvers. Each returns a _Path with the estimate in the coordinates it worked in.
 #
 # Steps are judged by _cost_change, which evaluates cost(new) − cost(old) to the rounding of the
 # change rather than of the cost: near the optimum a step lowers the cost by far less than one
 # rounding unit of the cost itself, and comparing two costs would then accept or refuse it at random.
+
+
+def _fit(problem: _Problem, names: tuple[str, ...], rule: _StoppingRule, *, solver: str, l2: float, start,
+         standardise: bool, checks: bool) -> FitResult:
+    """Run the solver in standardised (or, for descents without standardise, raw) coordinates."""
+    scaling = _scaling(problem)
+    standard = _rescaled(problem, scaling)
+    # Newton's steps do not depend on the scale, but centred columns keep its linear algebra well
+    # conditioned, so it always works on the standardised problem.
+    on_standard = standardise or solver == "newton"
+    start = problem.intercept_only if start is None else start
+    if on_standard:
+        working, working_start = standard, scaling.to_standard(start)
+    else:
+        working, working_start, rule = problem, start, dataclasses.replace(rule, scaling=scaling)
+    try:
+        path = _SOLVE[solver](working, rule, working_start)
+        theta = path.coefficients if on_standard else scaling.to_standard(path.coefficients)
+        result = _result(standard, scaling, theta, path, names, solver=solver, l2=l2)
+    except _SingularInformation as singular:
+        if checks:
+            _raise_if_separated(_patterns(problem), names, intercept=problem.intercept)
+        raise FitError(_numerically_singular_message(singular, names, intercept=problem.intercept)) from None
+    if checks and solver == "newton" and not (path.converged and _overlap_proved(standard, theta)):
+        _raise_if_separated(_patterns(problem), names, intercept=problem.intercept)
+    return result
 
 
 @dataclass(frozen=True, eq=False)
@@ -510,9 +549,9 @@ class _Path:
     cost_trace: tuple[float, ...]
 
 
-def _newton(problem: _Problem, rule: _StoppingRule) -> _Path:
-    """Newton–Raphson with step-halving, from the intercept-only estimate."""
-    beta = problem.start
+def _newton(problem: _Problem, rule: _StoppingRule, start: np.ndarray) -> _Path:
+    """Newton–Raphson with step-halving."""
+    beta = start
     trace, decrease = [_cost(problem, beta)], np.inf
     cost_gradient = _cost_gradient(problem, beta)
     while not rule.met(decrease, cost_gradient) and len(trace) <= rule.max_iterations:
@@ -538,12 +577,12 @@ def _halved_step(problem: _Problem, beta: np.ndarray, step: np.ndarray):
     return None
 
 
-def _gradient_descent(problem: _Problem, rule: _StoppingRule) -> _Path:
+def _gradient_descent(problem: _Problem, rule: _StoppingRule, start: np.ndarray) -> _Path:
     """Batch gradient descent from the step 1/L, trying doubled steps under Armijo's rule."""
     hessian_bound = (problem.design * problem.weights[:, None]).T @ problem.design / 4
     lipschitz = (linalg.eigvalsh(hessian_bound)[-1] + problem.ridge.max()) / problem.total_weight
     safe_step = 1.0 / lipschitz
-    theta, step = problem.start, safe_step
+    theta, step = start, safe_step
     trace, decrease = [_cost(problem, theta)], np.inf
     cost_gradient = _cost_gradient(problem, theta)
     while not rule.met(decrease, cost_gradient) and len(trace) <= rule.max_iterations:
@@ -565,18 +604,19 @@ def _armijo_step(problem: _Problem, theta: np.ndarray, cost_gradient: np.ndarray
         step = max(step / 2, safe_step)
 
 
-def _lbfgs(problem: _Problem, rule: _StoppingRule) -> _Path:
+def _lbfgs(problem: _Problem, rule: _StoppingRule, start: np.ndarray) -> _Path:
     """scipy's L-BFGS-B with the analytic gradient, restarted from where its line search stalls.
 
     Each run minimises the change in cost from its own starting point, which near the optimum is
     known far more precisely than the cost; a run that stalls on rounding is restarted from there.
     """
-    theta, trace, iterations, decrease = problem.start, [_cost(problem, problem.start)], 0, np.inf
+    theta, trace, iterations, decrease = start, [_cost(problem, start)], 0, np.inf
     while iterations < rule.max_iterations:
         reference, reference_cost = theta, trace[-1]
         result = optimize.minimize(
-            lambda point: (_cost_change(problem, reference, point), _cost_gradient(problem, point)),
+            _change_and_gradient,
             reference,
+            args=(problem, reference),
             jac=True,
             method="L-BFGS-B",
             callback=lambda intermediate_result: trace.append(reference_cost + float(intermediate_result.fun)),
@@ -590,6 +630,10 @@ def _lbfgs(problem: _Problem, rule: _StoppingRule) -> _Path:
     return _Path(theta, iterations, rule.met(decrease, _cost_gradient(problem, theta)), tuple(trace))
 
 
+def _change_and_gradient(point: np.ndarray, problem: _Problem, reference: np.ndarray):
+    return _cost_change(problem, reference, point), _cost_gradient(problem, point)
+
+
 _SOLVE = {"newton": _newton, "gradient": _gradient_descent, "lbfgs": _lbfgs}
 
 
@@ -600,9 +644,18 @@ def _solve_symmetric(matrix: np.ndarray, right: np.ndarray, problem: _Problem, b
     try:
         factor = linalg.cho_factor(scaled)
     except linalg.LinAlgError:
-        raise FitError(_numerically_singular_message(problem, beta)) from None
+        raise _SingularInformation(scaled, problem, beta) from None
     row_scale = diagonal[:, None] if right.ndim == 2 else diagonal
     return linalg.cho_solve(factor, right / row_scale) / row_scale
+
+
+class _SingularInformation(Exception):
+    """The information matrix cannot be factored at these coefficients; fit_logistic names the columns."""
+
+    def __init__(self, information: np.ndarray, problem: _Problem, beta: np.ndarray):
+        super().__init__("singular information matrix")
+        self.information, self.problem, self.beta = information, problem, beta
+
 
 # ---------------------------------------------------------------------------------------------
 # The result.
@@ -637,15 +690,20 @@ def _result(standard: _Problem, scaling: _Scaling, theta: np.ndarray, path: _Pat
         converged=path.converged,
         cost_trace=path.cost_trace,
         solver=solver,
-        l2=float(l2),
+        l2=l2,
     )
 
 
-def _not_converged_message(solver: str, path: _Path) -> str:
+def _not_converged_message(result: FitResult) -> str:
+    todo = (
+        "Raise max_iterations; if that does not help, look for characteristics that nearly "
+        "separate goods from bads."
+        if result.solver == "newton"
+        else "Raise max_iterations, or use solver='newton'."
+    )
     return (
-        f"the {solver} solver stopped after {path.iterations} iterations before the change in cost "
-        f"and the gradient were within tolerance; the estimates may be inaccurate. Raise "
-        f"max_iterations, or use solver='newton'."
+        f"the {result.solver} solver stopped after {result.iterations} iterations before the change "
+        f"in cost and the gradient were within tolerance, so the estimates may be inaccurate. {todo}"
     )
 
 
@@ -677,6 +735,16 @@ def _checked_features(features, names) -> tuple[np.ndarray, tuple[str, ...]]:
             f"bins of their own before fitting."
         )
     return array, names
+
+
+def _checked_start(start, names: tuple[str, ...]) -> np.ndarray:
+    array = np.array(start, dtype=float)
+    if array.shape != (len(names),) or not np.all(np.isfinite(array)):
+        raise FitError(
+            f"start = {start!r}: give {len(names)} finite numbers, one per coefficient in the order "
+            f"{', '.join(map(repr, names))}."
+        )
+    return array
 
 
 def _check_names(names: tuple[str, ...], n_columns: int) -> None:
@@ -727,17 +795,56 @@ def _checked_options(solver, l2, max_iterations, tolerance, gradient_tolerance) 
 
 
 # ---------------------------------------------------------------------------------------------
+# The pattern table both checks work on: distinct rows of the design, with goods and bads summed.
+
+
+@dataclass(frozen=True, eq=False)
+class _Patterns:
+    design: np.ndarray  # distinct rows of the design among rows that carry weight
+    goods: np.ndarray
+    bads: np.ndarray
+    n_rows: np.ndarray  # rows of the input behind each pattern
+
+
+def _patterns(problem: _Problem) -> _Patterns:
+    carries_weight = problem.weights > 0
+    design, inverse = _distinct_rows(problem.design[carries_weight])
+    return _Patterns(
+        design=design,
+        goods=np.bincount(inverse, weights=problem.goods[carries_weight], minlength=design.shape[0]),
+        bads=np.bincount(inverse, weights=problem.bads[carries_weight], minlength=design.shape[0]),
+        n_rows=np.bincount(inverse, minlength=design.shape[0]),
+    )
+
+
+def _distinct_rows(design: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Distinct rows, and for each row the index of its own, by one integer key per row if it fits."""
+    codes, sizes = [], []
+    for column in design.T:  # a loop over the few columns; each is coded in one vectorised call
+        values, code = np.unique(column, return_inverse=True)
+        codes.append(code.ravel())
+        sizes.append(values.size)
+    if np.sum(np.log2(np.maximum(sizes, 1))) < 62:
+        _, first, inverse = np.unique(np.ravel_multi_index(codes, sizes), return_index=True, return_inverse=True)
+        return design[first], inverse.ravel()
+    # Keys would overflow: the rows are mostly distinct anyway, and the slower sort does.
+    patterns, inverse = np.unique(design, axis=0, return_inverse=True)
+    return patterns, inverse.ravel()
+
+
+# ---------------------------------------------------------------------------------------------
 # Linear dependence of the characteristics.
 
 
-def _raise_if_dependent(patterns: _Patterns, names: tuple[str, ...], *, intercept: bool) -> None:
+def _raise_if_dependent(problem: _Problem, names: tuple[str, ...]) -> None:
     """Raise FitError naming the columns that take part in an exact linear dependence."""
-    null_space = _null_space(patterns.design)
+    design = problem.design[problem.weights > 0]
+    null_space = _null_space(design)
     if null_space.shape[0] == 0:
         return
     share = np.sum(null_space**2, axis=0)
     involved = np.flatnonzero(share > _NULL_SPACE_SHARE)
-    raise FitError(_dependence_message(patterns.design, null_space, involved, names, intercept))
+    raise FitError(_dependence_message(design, null_space, involved, names, problem.intercept))
 
 
 def _null_space(design: np.ndarray) -> np.ndarray:
@@ -745,8 +852,9 @@ def _null_space(design: np.ndarray) -> np.ndarray:
     norms = np.linalg.norm(design, axis=0)
     unit = design / np.where(norms > 0, norms, 1.0)
     # Zero rows added up to a square matrix change no null space but give every column a singular value.
-    padding = np.zeros((max(0, unit.shape[1] - unit.shape[0]), unit.shape[1]))
-    _, singular, right = np.linalg.svd(np.vstack([unit, padding]), full_matrices=False)
+    if unit.shape[0] < unit.shape[1]:
+        unit = np.vstack([unit, np.zeros((unit.shape[1] - unit.shape[0], unit.shape[1]))])
+    _, singular, right = np.linalg.svd(unit, full_matrices=False)
     # The rank tolerance of numpy.linalg.matrix_rank.
     threshold = singular.max(initial=0.0) * max(unit.shape) * np.finfo(float).eps
     return right[singular <= threshold]
@@ -780,14 +888,13 @@ def _dependence_message(design, null_space, involved, names, intercept) -> str:
 
 
 def _combination(vector, design, names, intercept) -> str:
+    """Write a null-space vector in the units of the columns, e.g. "'a' - 0.5·'b' = 0"."""
     norms = np.linalg.norm(design, axis=0)
     weights = vector / np.where(norms > 0, norms, 1.0)
-    weights = weights / weights[np.argmax(np.abs(weights))]
-    terms = [
-        f"{'-' if weights[j] < 0 else '+'} {_times(abs(weights[j]))}{names[j]!r}"
-        for j in range(weights.size)
-        if not (intercept and j == 0) and abs(weights[j]) > _NULL_SPACE_SHARE
-    ]
+    weights = weights / np.abs(weights).max()
+    shown = [j for j in np.flatnonzero(np.abs(weights) > _NULL_SPACE_SHARE) if not (intercept and j == 0)]
+    weights = weights * np.sign(weights[shown[0]])  # the first term shown is positive
+    terms = [f"{'-' if weights[j] < 0 else '+'} {_times(abs(weights[j]))}{names[j]!r}" for j in shown]
     constant = -weights[0] if intercept else 0.0
     return f"{' '.join(terms).removeprefix('+ ')} = {constant:.4g}"
 
@@ -805,12 +912,29 @@ def _quoted(names) -> str:
 # Separation of goods from bads.
 
 
-@dataclass(frozen=True, eq=False)
-class _Patterns:
-    design: np.ndarray  # distinct rows of the design among rows that carry weight
-    goods: np.ndarray
-    bads: np.ndarray
-    n_rows: np.ndarray  # rows of the input behind each pattern
+def _overlap_proved(problem: _Problem, beta: np.ndarray) -> bool:
+    """Whether the fitted residuals prove that goods and bads overlap, so none can be separated.
+
+    At the maximum the residuals ``r_i = goods_i·(1 − p_i) − bads_i·p_i`` satisfy ``X'r = 0`` and
+    are positive on rows with only goods and negative on rows with only bads; by Stiemke's theorem
+    of the alternative no separating direction can then exist (Albert and Anderson, 1984, from
+    memory). The computed residuals leave a small gradient ``e = X'r``; moving them by
+    ``c = ΛX(X'ΛX)⁻¹e`` with ``Λ_i = |r_i|`` removes it, and keeps every sign when
+    ``|x_i·(X'ΛX)⁻¹e| < 1`` on the one-sided rows. Half of that bound is asked for.
+    """
+    carries_weight = problem.weights > 0
+    design, goods, bads = problem.design[carries_weight], problem.goods[carries_weight], problem.bads[carries_weight]
+    eta = design @ beta
+    residual = goods * special.expit(-eta) - bads * special.expit(eta)
+    one_sided = (goods == 0) | (bads == 0)
+    if np.any(np.abs(residual[one_sided]) < _FIRM_PROBABILITY * (goods + bads)[one_sided]):
+        return False
+    spread = np.where(one_sided, np.abs(residual), (goods + bads) * special.expit(eta) * special.expit(-eta))
+    try:
+        direction = _solve_symmetric((design * spread[:, None]).T @ design, design.T @ residual, problem, beta)
+    except _SingularInformation:
+        return False
+    return bool(np.max(np.abs(design[one_sided] @ direction), initial=0.0) < 0.5)
 
 
 def _raise_if_separated(patterns: _Patterns, names: tuple[str, ...], *, intercept: bool) -> None:
@@ -821,18 +945,6 @@ def _raise_if_separated(patterns: _Patterns, names: tuple[str, ...], *, intercep
     determined = _determined_patterns(patterns, columns)
     characteristics = [names[j] for j in columns if not (intercept and j == 0)]
     raise FitError(_separation_message(characteristics, patterns, determined))
-
-
-def _patterns(problem: _Problem) -> _Patterns:
-    carries_weight = problem.weights > 0
-    design, inverse = np.unique(problem.design[carries_weight], axis=0, return_inverse=True)
-    inverse = inverse.ravel()
-    return _Patterns(
-        design=design,
-        goods=np.bincount(inverse, weights=problem.goods[carries_weight], minlength=design.shape[0]),
-        bads=np.bincount(inverse, weights=problem.bads[carries_weight], minlength=design.shape[0]),
-        n_rows=np.bincount(inverse, minlength=design.shape[0]),
-    )
 
 
 def _separated(patterns: _Patterns, columns: np.ndarray) -> bool:
@@ -942,7 +1054,7 @@ def _separation_message(characteristics: list[str], patterns: _Patterns, determi
     else:
         where = (
             f"on {n_determined} of the {n_rows} rows that carry weight (weight {weight:.6g}) {rule} tells "
-            f"goods from bads without error, e.g. a bin with goods but no bads"
+            f"goods from bads without error, e.g. a bin with only goods or only bads"
         )
     return (
         f"{subject} goods from bads {how}: {where}, so the coefficients grow without bound and "
@@ -950,13 +1062,22 @@ def _separation_message(characteristics: list[str], patterns: _Patterns, determi
     )
 
 
-def _numerically_singular_message(problem: _Problem, beta: np.ndarray) -> str:
-    eta = problem.design @ beta
-    curvature = special.expit(eta) * special.expit(-eta)
-    extreme = (problem.weights > 0) & (curvature < 1e-10)
+def _numerically_singular_message(singular: _SingularInformation, names: tuple[str, ...], *, intercept: bool) -> str:
+    """Name the columns of the direction in which the (Jacobi-scaled) information is flattest."""
+    _, vectors = np.linalg.eigh(singular.information)
+    flattest = np.abs(vectors[:, 0]) / np.abs(vectors[:, 0]).max()
+    involved = [names[j] for j in np.flatnonzero(flattest > 0.1) if not (intercept and j == 0)]
+    eta = singular.problem.design @ singular.beta
+    n_extreme = int(np.sum((singular.problem.weights > 0) & (special.expit(eta) * special.expit(-eta) < 1e-10)))
+    which = f"; the characteristics most involved are {_quoted(involved)}" if involved else ""
+    separation = (
+        f", or they nearly separate goods from bads: {n_extreme} rows that carry weight have fitted "
+        f"probabilities within 1e-10 of 0 or 1"
+        if n_extreme
+        else ""
+    )
     return (
-        f"the information matrix became numerically singular during the fit: {int(extreme.sum())} rows "
-        f"that carry weight have fitted probabilities within 1e-10 of 0 or 1, so some characteristics "
-        f"are nearly dependent or nearly separate goods from bads. Group bins more coarsely, drop "
-        f"characteristics, or fit with a small l2 penalty."
+        f"the information matrix is numerically singular, so the coefficients cannot be told apart"
+        f"{which}. They are nearly linearly dependent{separation}. Drop or merge characteristics, "
+        f"group bins more coarsely, or fit with a small l2 penalty."
     )
