@@ -49,6 +49,8 @@ _CONSTANT_SPREAD = 1e-10
 # A fitted probability within this of 0 or 1 on a row with only goods or only bads is taken as a
 # sign of separation, to be confirmed or refuted by linear programming.
 _FIRM_PROBABILITY = 1e-10
+# Columns whose Gram matrix has an eigenvalue ratio above this are full rank beyond doubt.
+_CLEARLY_FULL_RANK = 1e-10
 # Null-space directions give a column a share of at least this much when it truly takes part.
 _NULL_SPACE_SHARE = 1e-8
 
@@ -851,6 +853,8 @@ def _null_space(design: np.ndarray) -> np.ndarray:
     """Orthonormal rows spanning {v : design·v = 0}, found by SVD of the unit-norm columns."""
     norms = np.linalg.norm(design, axis=0)
     unit = design / np.where(norms > 0, norms, 1.0)
+    if _clearly_full_rank(unit):
+        return np.zeros((0, design.shape[1]))
     # Zero rows added up to a square matrix change no null space but give every column a singular value.
     if unit.shape[0] < unit.shape[1]:
         unit = np.vstack([unit, np.zeros((unit.shape[1] - unit.shape[0], unit.shape[1]))])
@@ -858,6 +862,20 @@ def _null_space(design: np.ndarray) -> np.ndarray:
     # The rank tolerance of numpy.linalg.matrix_rank.
     threshold = singular.max(initial=0.0) * max(unit.shape) * np.finfo(float).eps
     return right[singular <= threshold]
+
+
+def _clearly_full_rank(unit: np.ndarray) -> bool:
+    """Whether the unit-norm columns are far from any dependence, judged from their small Gram matrix.
+
+    The Gram matrix costs one pass over the rows and a p×p eigen-decomposition, against an SVD of
+    the whole design; its smallest eigenvalue is the squared smallest singular value. Only when
+    that is not clearly away from zero does the exact SVD decide.
+    """
+    if unit.shape[0] < unit.shape[1] or unit.shape[1] == 0:
+        return False
+    eigenvalues = np.linalg.eigvalsh(unit.T @ unit)
+    # a singular value ratio above 1e-5 (eigenvalue ratio 1e-10) is far above the SVD's rank tolerance
+    return bool(eigenvalues[0] > _CLEARLY_FULL_RANK * eigenvalues[-1])
 
 
 def _dependence_message(design, null_space, involved, names, intercept) -> str:

@@ -119,7 +119,7 @@ class _WoeDesign:
     def fit(self, names: Sequence[str]) -> FitResult:
         settings = self.fit_settings
         return fit_logistic(self.matrix(names), self.patterns.goods, self.patterns.bads, names=list(names),
-                            solver=settings.solver, l2=settings.l2, max_iterations=settings.max_iterations)
+                            solver=settings.solver, l2=settings.l2, max_iterations=settings.max_iterations or None)
 
     def correlation(self, names: Sequence[str]) -> pd.DataFrame:
         return pd.DataFrame(weighted_correlation(self.matrix(names), self.weights), index=list(names), columns=list(names))

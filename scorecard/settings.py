@@ -161,7 +161,10 @@ class FitSettings:
         _one_of("newton", "gradient", "lbfgs"), "newton, gradient or lbfgs",
     )
     l2: float = _key(0.0, "ridge penalty on the coefficients (0: plain maximum likelihood)", lambda v: v >= 0, "a number >= 0")
-    max_iterations: int = _key(100, "most iterations of the solver", lambda v: v >= 1, "a whole number >= 1")
+    max_iterations: int = _key(
+        0, "most iterations of the solver (0: its own default, 100 for newton, 100000 for gradient, 10000 for lbfgs)",
+        lambda v: v >= 0, "a whole number >= 0",
+    )
 
 
 @dataclass(frozen=True)

@@ -121,64 +121,97 @@ def write_report(build, validation, path, *, generated_by: str = "") -> Path:
 
 # --------------------------------------------------------------------------------------------
 # What the template draws: tables, figures and charts, every value already text
+# (public: the monitoring report draws with them too)
 
 
 @dataclass(frozen=True)
-class _Cell:
+class Cell:
+    """One table cell: its text (or safe markup) and its CSS classes."""
+
     text: str
     css: str = ""
 
 
 @dataclass(frozen=True)
-class _Row:
-    cells: tuple[_Cell, ...]
+class Row:
+    """One table row of cells, with the row's CSS classes."""
+
+    cells: tuple[Cell, ...]
     css: str = ""
 
 
 @dataclass(frozen=True)
-class _Table:
-    head: tuple[_Cell, ...]
-    rows: tuple[_Row, ...]
+class Table:
+    """A table as the templates' ``data_table`` macro draws it (see ``text_table``)."""
+
+    head: tuple[Cell, ...]
+    rows: tuple[Row, ...]
     caption: str = ""
     css: str = ""
 
 
 @dataclass(frozen=True)
-class _Figure:
+class Figure:
+    """A headline figure: a label, the value as text and a line of detail."""
+
     label: str
     value: str
     detail: str = ""
 
 
 @dataclass(frozen=True)
-class _Chart:
+class Chart:
+    """An SVG chart with its caption."""
+
     svg: Markup
     caption: str
 
 
-def _table(columns: Sequence[str], rows, *, numeric: Collection[int] = (), caption: str = "",
-           row_css: Sequence[str] | None = None, css: str = "") -> _Table:
-    """A table of text cells; columns listed in ``numeric`` are right-aligned."""
+def text_table(columns: Sequence[str], rows, *, numeric: Collection[int] = (), caption: str = "",
+               row_css: Sequence[str] | None = None, css: str = "") -> Table:
+    """Return a table of text cells; columns listed in ``numeric`` are right-aligned.
+
+    Parameters
+    ----------
+    columns : sequence of str
+        The header of each column.
+    rows : sequence of sequences
+        Cell texts (or ``Cell`` values, to add CSS classes), one sequence per row.
+    numeric : collection of int
+        Positions of the columns to right-align.
+    caption : str
+        Shown under the table.
+    row_css : sequence of str, optional
+        CSS classes of each row (e.g. 'total').
+    css : str
+        CSS classes of the table.
+
+    Returns
+    -------
+    Table
+    """
     def cell(value, column):
         number = "number" if column in numeric else ""
-        if isinstance(value, _Cell):
-            return _Cell(value.text, " ".join(filter(None, (number, value.css))))
-        return _Cell(value, number)
+        if isinstance(value, Cell):
+            return Cell(value.text, " ".join(filter(None, (number, value.css))))
+        return Cell(value, number)
 
     row_css = row_css or [""] * len(rows)
     head = tuple(cell(label, column) for column, label in enumerate(columns))
-    body = tuple(_Row(tuple(cell(value, column) for column, value in enumerate(row)), style)
+    body = tuple(Row(tuple(cell(value, column) for column, value in enumerate(row)), style)
                  for row, style in zip(rows, row_css))
-    return _Table(head, body, caption, css)
+    return Table(head, body, caption, css)
 
 
-def _chart(svg: str, caption: str) -> _Chart:
+def captioned_chart(svg: str, caption: str) -> Chart:
+    """Return an SVG chart from ``scorecard.report.charts`` with its caption."""
     # The chart helpers escape every text they draw, so their output is safe markup.
-    return _Chart(Markup(svg), caption)
+    return Chart(Markup(svg), caption)
 
 
-def _status(word: str) -> _Cell:
-    return _Cell(Markup('<span class="status {0}">{0}</span>').format(word))
+def status_cell(word: str) -> Cell:
+    """Return a cell that shows a status word (ok, watch or act) in its colour."""
+    return Cell(Markup('<span class="status {0}">{0}</span>').format(word))
 
 
 # --------------------------------------------------------------------------------------------
@@ -187,7 +220,7 @@ def _status(word: str) -> _Cell:
 
 def _subtitle(build) -> str:
     lender = build.settings.report.lender
-    made = f"built from {build.source} ({_count(build.fingerprint.n_rows)} rows)"
+    made = f"built from {build.source} ({count_text(build.fingerprint.n_rows)} rows)"
     return f"{lender} · {made}" if lender else made[0].upper() + made[1:]
 
 
@@ -196,15 +229,15 @@ def _summary(build, validation) -> dict:
     honest = _honest_sample(validation)
     checks = validation.samples[honest]
     figures = [
-        _Figure("Characteristics in the model", f"{len(table.names)} of {len(build.characteristics)}",
-                "classed characteristics"),
-        _Figure("Score range", f"{_score(table.min_score, table.decimals)} to {_score(table.max_score, table.decimals)}",
-                "lowest and highest possible"),
-        _Figure(f"AUC, {honest} sample", _fixed(checks.auc.auc, 4),
-                f"{_level(checks.auc.level)} interval {_interval(checks.auc.lower, checks.auc.upper, 4)}"),
-        _Figure(f"Gini, {honest} sample", _fixed(checks.auc.gini, 4), "2 × AUC − 1"),
-        _Figure(f"KS, {honest} sample", _fixed(checks.ks.statistic, 4),
-                f"widest at score {_score(checks.ks.score, table.decimals)}"),
+        Figure("Characteristics in the model", f"{len(table.names)} of {len(build.characteristics)}",
+               "classed characteristics"),
+        Figure("Score range", f"{_score(table.min_score, table.decimals)} to {_score(table.max_score, table.decimals)}",
+               "lowest and highest possible"),
+        Figure(f"AUC, {honest} sample", fixed_text(checks.auc.auc, 4),
+               f"{level_text(checks.auc.level)} interval {interval_text(checks.auc.lower, checks.auc.upper, 4)}"),
+        Figure(f"Gini, {honest} sample", fixed_text(checks.auc.gini, 4), "2 × AUC − 1"),
+        Figure(f"KS, {honest} sample", fixed_text(checks.ks.statistic, 4),
+               f"widest at score {_score(checks.ks.score, table.decimals)}"),
     ]
     return {
         "purpose": _purpose(build),
@@ -235,7 +268,7 @@ def _purpose(build) -> str:
 
 def _fingerprint(build) -> list[tuple[str, str]]:
     fingerprint = build.fingerprint
-    return [("Ledger", build.source), ("Rows", _count(fingerprint.n_rows)),
+    return [("Ledger", build.source), ("Rows", count_text(fingerprint.n_rows)),
             (f"SHA-256 of the {fingerprint.of}", fingerprint.sha256)]
 
 
@@ -247,18 +280,18 @@ def _honest_sample(validation) -> str:
     return DEVELOPMENT
 
 
-def _headline_table(validation, decimals: int) -> _Table:
+def _headline_table(validation, decimals: int) -> Table:
     rows = []
     for name, checks in validation.samples.items():
         area = checks.auc
-        rows.append([name, _count(checks.goods), _count(checks.bads), _percent(checks.bad_rate), _fixed(area.auc, 4),
-                     _interval(area.lower, area.upper, 4), _fixed(area.gini, 4),
-                     _interval(area.gini_lower, area.gini_upper, 4), _fixed(checks.ks.statistic, 4),
+        rows.append([name, count_text(checks.goods), count_text(checks.bads), percent_text(checks.bad_rate), fixed_text(area.auc, 4),
+                     interval_text(area.lower, area.upper, 4), fixed_text(area.gini, 4),
+                     interval_text(area.gini_lower, area.gini_upper, 4), fixed_text(checks.ks.statistic, 4),
                      _score(checks.ks.score, decimals)])
-    level = _level(next(iter(validation.samples.values())).auc.level) if validation.samples else "95%"
-    return _table(["sample", "goods", "bads", "bad rate", "AUC", f"AUC {level} interval", "Gini",
-                   f"Gini {level} interval", "KS", "KS at score"], rows, numeric=range(1, 10),
-                  caption=f"Headline figures per sample (AUC interval: DeLong, {level}).")
+    level = level_text(next(iter(validation.samples.values())).auc.level) if validation.samples else "95%"
+    return text_table(["sample", "goods", "bads", "bad rate", "AUC", f"AUC {level} interval", "Gini",
+                       f"Gini {level} interval", "KS", "KS at score"], rows, numeric=range(1, 10),
+                      caption=f"Headline figures per sample (AUC interval: DeLong, {level}).")
 
 
 def _attention(build, validation) -> list[str]:
@@ -293,12 +326,12 @@ def _attention(build, validation) -> list[str]:
                               f"{item.psi.status} (section 9).")
     for sample, result in validation.samples.items():
         if result.hosmer_lemeshow.p_value < checks.p_watch:
-            found.append(f"Hosmer–Lemeshow p-value on the {sample} sample is {_p_value(result.hosmer_lemeshow.p_value)}, "
+            found.append(f"Hosmer–Lemeshow p-value on the {sample} sample is {p_value_text(result.hosmer_lemeshow.p_value)}, "
                          f"below {checks.p_watch:g} (section 8).")
         if result.in_the_large.p_excess < checks.p_watch:
-            found.append(f"More bads than predicted on the {sample} sample: {_percent(result.in_the_large.observed_rate)} "
-                         f"observed against {_percent(result.in_the_large.expected_rate)} predicted, one-sided "
-                         f"p-value {_p_value(result.in_the_large.p_excess)} (section 8).")
+            found.append(f"More bads than predicted on the {sample} sample: {percent_text(result.in_the_large.observed_rate)} "
+                         f"observed against {percent_text(result.in_the_large.expected_rate)} predicted, one-sided "
+                         f"p-value {p_value_text(result.in_the_large.p_excess)} (section 8).")
     return found
 
 
@@ -310,7 +343,7 @@ def _data(build) -> dict:
     settings = build.settings
     samples = settings.samples
     drawn = [
-        f"Hold-out: {_percent(samples.holdout_fraction, 0)} of the in-time rows of each outcome, drawn at random "
+        f"Hold-out: {percent_text(samples.holdout_fraction, 0)} of the in-time rows of each outcome, drawn at random "
         f"with seed {samples.seed}, so development and hold-out have the same bad rate to within one row.",
     ]
     if samples.out_of_time_from:
@@ -331,23 +364,23 @@ def _data(build) -> dict:
             "notes": list(build.notes)}
 
 
-def _sample_table(build, *, brief: bool) -> _Table:
+def _sample_table(build, *, brief: bool) -> Table:
     frame = build.samples[build.samples["rows"] > 0]
     if brief:
         columns = ["sample", "rows", "goods", "bads", "bad rate"]
-        rows = [[name, _count(r["rows"]), _count(r["good"]), _count(r["bad"]), _percent(r["bad rate"])]
+        rows = [[name, count_text(r["rows"]), count_text(r["good"]), count_text(r["bad"]), percent_text(r["bad rate"])]
                 for name, r in frame.iterrows()]
-        return _table(columns, rows, numeric=range(1, 5))
+        return text_table(columns, rows, numeric=range(1, 5))
     columns = ["sample", "rows", "goods", "bads", "indeterminate", "unknown", "bad rate"]
-    rows = [[name, _count(r["rows"]), _count(r["good"]), _count(r["bad"]), _count(r["indeterminate"]),
-             _count(r["unknown"]), _percent(r["bad rate"])] for name, r in frame.iterrows()]
+    rows = [[name, count_text(r["rows"]), count_text(r["good"]), count_text(r["bad"]), count_text(r["indeterminate"]),
+             count_text(r["unknown"]), percent_text(r["bad rate"])] for name, r in frame.iterrows()]
     totals = frame.sum(numeric_only=True)
     decided = totals["good"] + totals["bad"]
-    rows.append(["all", _count(totals["rows"]), _count(totals["good"]), _count(totals["bad"]),
-                 _count(totals["indeterminate"]), _count(totals["unknown"]),
-                 _percent(totals["bad"] / decided if decided else math.nan)])
-    return _table(columns, rows, numeric=range(1, 7), row_css=[""] * (len(rows) - 1) + ["total"],
-                  caption="Bad rate: bads over goods and bads; indeterminate and unknown outcomes are not in it.")
+    rows.append(["all", count_text(totals["rows"]), count_text(totals["good"]), count_text(totals["bad"]),
+                 count_text(totals["indeterminate"]), count_text(totals["unknown"]),
+                 percent_text(totals["bad"] / decided if decided else math.nan)])
+    return text_table(columns, rows, numeric=range(1, 7), row_css=[""] * (len(rows) - 1) + ["total"],
+                      caption="Bad rate: bads over goods and bads; indeterminate and unknown outcomes are not in it.")
 
 
 def _values(values: Sequence[str]) -> str:
@@ -362,10 +395,10 @@ def _characteristics(build) -> dict:
     model = build.scorecard.table.names
     others = sorted((c for c in build.characteristics if c.name not in model), key=lambda c: -c.evidence.iv)
     ordered = [build.characteristic(name) for name in model] + others
-    overview = _table(
+    overview = text_table(
         ["characteristic", "in the model", "IV", "strength", "bins", "classing", "leakage flag"],
-        [[_Cell(Markup('<a href="#{}">{}</a>').format(_anchor(position), c.name)),
-          "yes" if c.name in model else "no", _fixed(c.evidence.iv, 4), c.evidence.strength,
+        [[Cell(Markup('<a href="#{}">{}</a>').format(_anchor(position), c.name)),
+          "yes" if c.name in model else "no", fixed_text(c.evidence.iv, 4), c.evidence.strength,
           str(c.binning.n_bins), _origin(c.origin), _flag("IV above threshold") if c.evidence.leakage_flag else ""]
          for position, c in enumerate(ordered)],
         numeric=(2, 4),
@@ -391,38 +424,38 @@ def _characteristic_view(classed, position: int, why: str) -> dict:
     return {
         "name": classed.name,
         "anchor": _anchor(position),
-        "iv": _fixed(evidence.iv, 4),
+        "iv": fixed_text(evidence.iv, 4),
         "strength": evidence.strength,
         "origin": _origin(classed.origin),
         "leakage": evidence.leakage_flag,
         "table": _evidence_table(evidence),
         "adjusted": bool(evidence.adjusted.any()),
-        "chart": _chart(charts.woe_bars(evidence.labels, evidence.woe,
-                                        title=f"WoE of {classed.name} by bin, {evidence.sample} sample"),
-                        f"WoE of each bin of {classed.name}: bars to the right of 0 have fewer bads than average; "
-                        f"{evidence.sample} sample."),
+        "chart": captioned_chart(charts.woe_bars(evidence.labels, evidence.woe,
+                                                 title=f"WoE of {classed.name} by bin, {evidence.sample} sample"),
+                                 f"WoE of each bin of {classed.name}: bars to the right of 0 have fewer bads than average; "
+                                 f"{evidence.sample} sample."),
         "notes": list(classed.notes),
         "sample": evidence.sample,
         "why": why,
     }
 
 
-def _evidence_table(evidence) -> _Table:
+def _evidence_table(evidence) -> Table:
     rows_per_bin = evidence.goods + evidence.bads
     total = rows_per_bin.sum()
     rows = []
     for label, goods, bads, rate, count, woe, iv, adjusted in zip(
             evidence.labels, evidence.goods, evidence.bads, evidence.bad_rate, rows_per_bin, evidence.woe,
             evidence.iv_contributions, evidence.adjusted):
-        woe_text = _fixed(woe, 4) + (f" {ADJUSTED_MARK}" if adjusted else "")
-        rows.append([label, _count(goods), _count(bads), _percent(rate), _percent(count / total, 1),
-                     _Cell(woe_text, "adjusted" if adjusted else ""), _fixed(iv, 4)])
+        woe_text = fixed_text(woe, 4) + (f" {ADJUSTED_MARK}" if adjusted else "")
+        rows.append([label, count_text(goods), count_text(bads), percent_text(rate), percent_text(count / total, 1),
+                     Cell(woe_text, "adjusted" if adjusted else ""), fixed_text(iv, 4)])
     n_goods, n_bads = evidence.goods.sum(), evidence.bads.sum()
-    rows.append(["all", _count(n_goods), _count(n_bads), _percent(n_bads / total), _percent(1.0, 1), "",
-                 _fixed(evidence.iv, 4)])
-    return _table(["bin", "goods", "bads", "bad rate", "share", "WoE", "IV contribution"], rows,
-                  numeric=range(1, 7), row_css=[""] * (len(rows) - 1) + ["total"],
-                  caption=f"{evidence.sample.capitalize()} sample. Share: the bin's part of all goods and bads.")
+    rows.append(["all", count_text(n_goods), count_text(n_bads), percent_text(n_bads / total), percent_text(1.0, 1), "",
+                 fixed_text(evidence.iv, 4)])
+    return text_table(["bin", "goods", "bads", "bad rate", "share", "WoE", "IV contribution"], rows,
+                      numeric=range(1, 7), row_css=[""] * (len(rows) - 1) + ["total"],
+                      caption=f"{evidence.sample.capitalize()} sample. Share: the bin's part of all goods and bads.")
 
 
 def _origin(origin: str) -> str:
@@ -434,8 +467,8 @@ def _anchor(position: int) -> str:
     return f"characteristic-{position + 1}"
 
 
-def _flag(text: str) -> _Cell:
-    return _Cell(text, "flag")
+def _flag(text: str) -> Cell:
+    return Cell(text, "flag")
 
 
 # --------------------------------------------------------------------------------------------
@@ -445,9 +478,9 @@ def _flag(text: str) -> _Cell:
 def _selection(build) -> dict:
     selection = build.selection
     rules = build.settings.selection
-    log = _table(["step", "characteristic", "action", "reason", "value"],
-                 [[d.step, d.characteristic, d.action, d.reason, _decision_value(d.value)] for d in selection.log],
-                 numeric=(4,), caption="Every decision in the order it was taken; development sample.")
+    log = text_table(["step", "characteristic", "action", "reason", "value"],
+                     [[d.step, d.characteristic, d.action, d.reason, _decision_value(d.value)] for d in selection.log],
+                     numeric=(4,), caption="Every decision in the order it was taken; development sample.")
     settings_text = (
         f"Screen: IV below {rules.min_iv:g} leaves; IV above {rules.leakage_iv:g} is flagged for leakage. "
         f"Of two WoE columns correlated above {rules.max_correlation:g}, the one with the lower IV leaves. "
@@ -455,13 +488,13 @@ def _selection(build) -> dict:
         + (f" (enter below {rules.p_enter:g}, leave above {rules.p_remove:g})" if rules.criterion == "p_value" else "")
         + ". A characteristic whose coefficient comes out negative is removed and the model refitted."
     )
-    vif = _table(["characteristic", "VIF"], [[name, _fixed(value, 2)] for name, value in selection.vif.items()],
-                 numeric=(1,), caption="Variance inflation factors of the model's WoE columns, development sample.")
+    vif = text_table(["characteristic", "VIF"], [[name, fixed_text(value, 2)] for name, value in selection.vif.items()],
+                     numeric=(1,), caption="Variance inflation factors of the model's WoE columns, development sample.")
     return {"rules": settings_text, "log": log, "vif": vif,
             "correlations": _correlation_table(selection.correlations, rules.max_correlation)}
 
 
-def _correlation_table(correlations, threshold: float) -> _Table:
+def _correlation_table(correlations, threshold: float) -> Table:
     """The lower triangle of the candidates' WoE correlations, columns numbered to stay narrow."""
     names = list(correlations.index)
     values = correlations.to_numpy()
@@ -472,13 +505,13 @@ def _correlation_table(correlations, threshold: float) -> _Table:
             if j > i:
                 cells.append("")
             elif j == i:
-                cells.append(_Cell("1", "diagonal"))
+                cells.append(Cell("1", "diagonal"))
             else:
-                cells.append(_Cell(_fixed(values[i, j], 2), "high" if abs(values[i, j]) > threshold else ""))
+                cells.append(Cell(fixed_text(values[i, j], 2), "high" if abs(values[i, j]) > threshold else ""))
         rows.append(cells)
     columns = ["characteristic"] + [str(j + 1) for j in range(len(names))]
-    return _table(columns, rows, numeric=range(1, len(names) + 1), css="matrix",
-                  caption=f"Weighted correlations of the WoE columns of the candidate characteristics; development "
+    return text_table(columns, rows, numeric=range(1, len(names) + 1), css="matrix",
+                      caption=f"Weighted correlations of the WoE columns of the candidate characteristics; development "
                           f"sample. Highlighted: above {threshold:g} in absolute value.")
 
 
@@ -501,21 +534,21 @@ def _fit(build) -> dict:
     for position, (name, coefficient, error, z, p) in enumerate(
             zip(fit.names, fit.coefficients, fit.std_errors, fit.z_values, fit.p_values)):
         reversal = position > 0 and coefficient < 0
-        rows.append([name, _Cell(_fixed(coefficient, 4), "flag" if reversal else ""), _fixed(error, 4),
-                     _fixed(z, 2), _p_value(p)])
-    coefficients = _table(["name", "coefficient", "standard error", "z", "p-value"], rows, numeric=range(1, 5),
-                          caption="Logistic regression of the log-odds of good:bad on the WoE of each characteristic; "
+        rows.append([name, Cell(fixed_text(coefficient, 4), "flag" if reversal else ""), fixed_text(error, 4),
+                     fixed_text(z, 2), p_value_text(p)])
+    coefficients = text_table(["name", "coefficient", "standard error", "z", "p-value"], rows, numeric=range(1, 5),
+                              caption="Logistic regression of the log-odds of good:bad on the WoE of each characteristic; "
                                   "development sample. Each coefficient should be positive.")
     figures = [
-        _Figure("Log-likelihood", _fixed(fit.log_likelihood, 2)),
-        _Figure("AIC", _fixed(fit.aic, 2)),
-        _Figure("BIC", _fixed(fit.bic, 2)),
-        _Figure("Observations", _count(fit.n_observations), "goods and bads, development"),
-        _Figure("Iterations", str(fit.iterations), f"solver: {fit.solver}"),
-        _Figure("Converged", "yes" if fit.converged else "no", f"ridge penalty {fit.l2:g}"),
+        Figure("Log-likelihood", fixed_text(fit.log_likelihood, 2)),
+        Figure("AIC", fixed_text(fit.aic, 2)),
+        Figure("BIC", fixed_text(fit.bic, 2)),
+        Figure("Observations", count_text(fit.n_observations), "goods and bads, development"),
+        Figure("Iterations", str(fit.iterations), f"solver: {fit.solver}"),
+        Figure("Converged", "yes" if fit.converged else "no", f"ridge penalty {fit.l2:g}"),
     ]
-    trace = _chart(charts.cost_trace_chart(fit.cost_trace, title="Cost per iteration of the fit, development sample"),
-                   "Mean negative log-likelihood at the start and after each iteration; development sample.")
+    trace = captioned_chart(charts.cost_trace_chart(fit.cost_trace, title="Cost per iteration of the fit, development sample"),
+                            "Mean negative log-likelihood at the start and after each iteration; development sample.")
     return {"coefficients": coefficients, "figures": figures, "trace": trace}
 
 
@@ -531,13 +564,13 @@ def _points(build) -> dict:
         for number, (label, points) in enumerate(zip(characteristic.labels, characteristic.points)):
             rows.append([characteristic.name if number == 0 else "", label, _score(points, table.decimals)])
             css.append("group-start" if number == 0 else "")
-    points = _table(["characteristic", "bin", "points"], rows, numeric=(2,), row_css=css, css="points-table")
+    points = text_table(["characteristic", "bin", "points"], rows, numeric=(2,), row_css=css, css="points-table")
     k = len(table.names)
     scaling = [
         ("Base score", f"{scale.base_score:g}"), ("Base odds (good:bad)", f"{scale.base_odds:g} : 1"),
-        ("Points to double the odds (PDO)", f"{scale.pdo:g}"), ("Factor = PDO / ln 2", _fixed(scale.factor, 4)),
-        ("Offset = base score − factor × ln(base odds)", _fixed(scale.offset, 4)),
-        ("Intercept of the fit", _fixed(table.intercept, 4)), ("Characteristics (k)", str(k)),
+        ("Points to double the odds (PDO)", f"{scale.pdo:g}"), ("Factor = PDO / ln 2", fixed_text(scale.factor, 4)),
+        ("Offset = base score − factor × ln(base odds)", fixed_text(scale.offset, 4)),
+        ("Intercept of the fit", fixed_text(table.intercept, 4)), ("Characteristics (k)", str(k)),
     ]
     rounding = "whole points" if table.decimals == 0 else f"{table.decimals} decimals"
     formula = (
@@ -551,17 +584,17 @@ def _points(build) -> dict:
     return {"table": points, "scaling": scaling, "formula": formula, "meaning": _score_meaning(table)}
 
 
-def _score_meaning(table) -> _Table:
+def _score_meaning(table) -> Table:
     """Odds and PD at the base score and at steps of whole PDOs from it, within the score range."""
     scale = table.scaling
     pdo = abs(scale.pdo)
     low, high = (table.min_score - scale.base_score) / pdo, (table.max_score - scale.base_score) / pdo
     stride = max(1, math.ceil((math.floor(high) - math.ceil(low) + 1) / SCORE_MEANING_ROWS))
     scores = [scale.base_score + step * pdo for step in range(math.ceil(low), math.floor(high) + 1) if step % stride == 0]
-    rows = [[f"{score:g}", _odds(math.exp(scale.log_odds_of_score(score))), _percent(float(scale.pd_of_score(score)))]
+    rows = [[f"{score:g}", _odds(math.exp(scale.log_odds_of_score(score))), percent_text(float(scale.pd_of_score(score)))]
             for score in scores]
-    return _table(["score", "odds good:bad", "probability of default"], rows, numeric=(0, 1, 2),
-                  caption=f"What a score stands for, every {stride * pdo:g} points from the base score.")
+    return text_table(["score", "odds good:bad", "probability of default"], rows, numeric=(0, 1, 2),
+                      caption=f"What a score stands for, every {stride * pdo:g} points from the base score.")
 
 
 def _odds(odds: float) -> str:
@@ -574,7 +607,7 @@ def _odds(odds: float) -> str:
 
 def _discrimination(build, validation) -> dict:
     decimals = build.scorecard.table.decimals
-    roc = _chart(
+    roc = captioned_chart(
         charts.roc_chart({name: (c.roc.goods_declined, c.roc.bads_declined) for name, c in validation.samples.items()},
                          title="ROC curves, " + ", ".join(validation.samples) + " samples"),
         "ROC curve of each sample: share of bads against share of goods declined as the cut-off rises. "
@@ -582,30 +615,30 @@ def _discrimination(build, validation) -> dict:
     per_sample = []
     for name, checks in validation.samples.items():
         cutoffs = checks.roc.cutoffs[1:]  # the first point declines nothing
-        ks = _chart(charts.ks_chart(cutoffs, checks.roc.goods_declined[1:], checks.roc.bads_declined[1:],
-                                    ks_score=checks.ks.score, ks=checks.ks.statistic,
-                                    title=f"Cumulative goods and bads by score, {name} sample"),
-                    f"Share of all goods and of all bads scored at or below each score; {name} sample.")
+        ks = captioned_chart(charts.ks_chart(cutoffs, checks.roc.goods_declined[1:], checks.roc.bads_declined[1:],
+                                             ks_score=checks.ks.score, ks=checks.ks.statistic,
+                                             title=f"Cumulative goods and bads by score, {name} sample"),
+                             f"Share of all goods and of all bads scored at or below each score; {name} sample.")
         gains = checks.gains
-        labels = [_span(low, high, decimals) for low, high in zip(gains.score_low, gains.score_high)]
-        distribution = _chart(charts.score_distribution(labels, gains.goods, gains.bads,
-                                                        title=f"Goods and bads by score band, {name} sample"),
-                              f"Share of all goods and of all bads in each score band; {name} sample.")
+        labels = [span_text(low, high, decimals) for low, high in zip(gains.score_low, gains.score_high)]
+        distribution = captioned_chart(charts.score_distribution(labels, gains.goods, gains.bads,
+                                                                 title=f"Goods and bads by score band, {name} sample"),
+                                       f"Share of all goods and of all bads in each score band; {name} sample.")
         per_sample.append({"name": name, "ks": ks, "distribution": distribution, "gains": _gains_table(gains, labels, name)})
     return {"headline": _headline_table(validation, decimals), "roc": roc, "samples": per_sample}
 
 
-def _gains_table(gains, labels: Sequence[str], sample: str) -> _Table:
-    rows = [[label, _count(count), _count(goods), _count(bads), _percent(rate), _percent(share, 1),
-             _percent(bads_share, 1), _percent(goods_share, 1), _fixed(lift, 2)]
+def _gains_table(gains, labels: Sequence[str], sample: str) -> Table:
+    rows = [[label, count_text(count), count_text(goods), count_text(bads), percent_text(rate), percent_text(share, 1),
+             percent_text(bads_share, 1), percent_text(goods_share, 1), fixed_text(lift, 2)]
             for label, count, goods, bads, rate, share, bads_share, goods_share, lift in zip(
                 labels, gains.count, gains.goods, gains.bads, gains.bad_rate, gains.cumulative_count_share,
                 gains.cumulative_bads_share, gains.cumulative_goods_share, gains.lift)]
-    return _table(["scores", "applications", "goods", "bads", "bad rate", "cumulative applications",
-                   "cumulative bads", "cumulative goods", "lift"], rows, numeric=range(0, 9),
-                  caption=f"Gains by score band, lowest scores first; {sample} sample. Cumulative shares count "
+    return text_table(["scores", "applications", "goods", "bads", "bad rate", "cumulative applications",
+                       "cumulative bads", "cumulative goods", "lift"], rows, numeric=range(0, 9),
+                      caption=f"Gains by score band, lowest scores first; {sample} sample. Cumulative shares count "
                           f"from the lowest band; lift is the band's bad rate over the sample's "
-                          f"({_percent(gains.overall_bad_rate)}).")
+                          f"({percent_text(gains.overall_bad_rate)}).")
 
 
 # --------------------------------------------------------------------------------------------
@@ -618,45 +651,46 @@ def _calibration(validation, decimals: int) -> list[dict]:
 
 def _sample_calibration(name: str, checks, decimals: int) -> dict:
     table = checks.calibration
-    labels = [_span(low, high, decimals) for low, high in zip(table.score_low, table.score_high)]
-    level = _level(table.level)
-    chart = _chart(charts.calibration_chart(labels, table.observed_rate, table.jeffreys_lower, table.jeffreys_upper,
-                                            table.mean_pd, title=f"Observed and predicted bad rate by band, {name} sample"),
-                   f"Observed bad rate per score band with its Jeffreys {level} interval, and the band's mean "
-                   f"predicted PD; {name} sample.")
-    rows = [[label, _count(count), _count(bads), _percent(observed), _percent(predicted), _fixed(expected, 1),
-             _interval(100 * low, 100 * high, 2) + "%", _p_value(jeffreys), _p_value(excess), _p_value(two_sided)]
+    labels = [span_text(low, high, decimals) for low, high in zip(table.score_low, table.score_high)]
+    level = level_text(table.level)
+    chart = captioned_chart(charts.calibration_chart(labels, table.observed_rate, table.jeffreys_lower, table.jeffreys_upper,
+                                                     table.mean_pd, title=f"Observed and predicted bad rate by band, {name} sample"),
+                            f"Observed bad rate per score band with its Jeffreys {level} interval, and the band's mean "
+                            f"predicted PD; {name} sample.")
+    rows = [[label, count_text(count), count_text(bads), percent_text(observed), percent_text(predicted), fixed_text(expected, 1),
+             interval_text(100 * low, 100 * high, 2) + "%", p_value_text(jeffreys), p_value_text(excess), p_value_text(two_sided)]
             for label, count, bads, observed, predicted, expected, low, high, jeffreys, excess, two_sided in zip(
                 labels, table.count, table.bads, table.observed_rate, table.mean_pd, table.expected_bads,
                 table.jeffreys_lower, table.jeffreys_upper, table.jeffreys_p, table.binomial_p_excess,
                 table.binomial_p_two_sided)]
-    bands = _table(
+    bands = text_table(
         ["scores", "applications", "bads", "observed bad rate", "predicted PD", "expected bads",
          f"Jeffreys {level} interval", "Jeffreys p", "binomial p (more bads)", "binomial p (two-sided)"],
         rows, numeric=range(0, 10),
         caption=f"Observed against predicted defaults per score band; {name} sample. One-sided p-values are small "
                 f"when a band has more bads than predicted."
                 + (" Band counts were rounded to whole numbers for the binomial tests." if table.rounded_counts else ""))
-    return {"name": name, "chart": chart, "bands": bands, "figures": _calibration_figures(checks), "notes": list(checks.notes)}
+    return {"name": name, "chart": chart, "bands": bands, "figures": calibration_figures(checks), "notes": list(checks.notes)}
 
 
-def _calibration_figures(checks) -> list[_Figure]:
+def calibration_figures(checks) -> list[Figure]:
+    """Return the Hosmer–Lemeshow, calibration-in-the-large, intercept, slope and Brier figures of a sample."""
     test = checks.hosmer_lemeshow
     large = checks.in_the_large
     figures = [
-        _Figure("Hosmer–Lemeshow", _fixed(test.statistic, 2), f"df {test.df}, p-value {_p_value(test.p_value)}"),
-        _Figure("Overall bad rate, observed", _percent(large.observed_rate),
-                f"predicted {_percent(large.expected_rate)}, z {_fixed(large.z, 2)}, p-value {_p_value(large.p_two_sided)}"),
+        Figure("Hosmer–Lemeshow", fixed_text(test.statistic, 2), f"df {test.df}, p-value {p_value_text(test.p_value)}"),
+        Figure("Overall bad rate, observed", percent_text(large.observed_rate),
+               f"predicted {percent_text(large.expected_rate)}, z {fixed_text(large.z, 2)}, p-value {p_value_text(large.p_two_sided)}"),
     ]
     line = checks.calibration_line
     if line is not None:
         figures += [
-            _Figure("Calibration intercept", _fixed(line.intercept, 3),
-                    f"standard error {_fixed(line.intercept_std_error, 3)}; p-value against 0: {_p_value(line.intercept_p_value)}"),
-            _Figure("Calibration slope", _fixed(line.slope, 3),
-                    f"standard error {_fixed(line.slope_std_error, 3)}; p-value against 1: {_p_value(line.slope_p_value)}"),
+            Figure("Calibration intercept", fixed_text(line.intercept, 3),
+                   f"standard error {fixed_text(line.intercept_std_error, 3)}; p-value against 0: {p_value_text(line.intercept_p_value)}"),
+            Figure("Calibration slope", fixed_text(line.slope, 3),
+                   f"standard error {fixed_text(line.slope_std_error, 3)}; p-value against 1: {p_value_text(line.slope_p_value)}"),
         ]
-    figures.append(_Figure("Brier score", _fixed(checks.brier, 4), "mean squared error of the PD"))
+    figures.append(Figure("Brier score", fixed_text(checks.brier, 4), "mean squared error of the PD"))
     return figures
 
 
@@ -666,45 +700,46 @@ def _calibration_figures(checks) -> list[_Figure]:
 
 def _stability(build, validation) -> dict:
     checks = build.settings.checks
-    overview = _table(["sample", "score PSI", "status"],
-                      [[name, _fixed(result.value, 4), _status(result.status)]
-                       for name, result in validation.score_stability.items()],
-                      numeric=(1,), caption="Score PSI of each sample against development, over the development bands.")
+    overview = text_table(["sample", "score PSI", "status"],
+                          [[name, fixed_text(result.value, 4), status_cell(result.status)]
+                           for name, result in validation.score_stability.items()],
+                          numeric=(1,), caption="Score PSI of each sample against development, over the development bands.")
     samples = []
     for name, result in validation.score_stability.items():
         samples.append({
             "name": name,
-            "bands": _psi_table(result, name, "scores"),
+            "bands": psi_table(result, name, "scores"),
             "characteristics": _characteristic_stability_table(validation.characteristic_stability.get(name, ()), name),
         })
     return {"overview": overview, "samples": samples, "watch": f"{checks.psi_watch:.2f}", "act": f"{checks.psi_act:.2f}",
             "defaults": (checks.psi_watch, checks.psi_act) == (WATCH_PSI, ACT_PSI)}
 
 
-def _psi_table(result, sample: str, label: str) -> _Table:
-    rows = [[bin_label + (f" {ADJUSTED_MARK}" if adjusted else ""), _count(expected), _percent(expected_share, 1),
-             _count(actual), _percent(actual_share, 1), _fixed(contribution, 4)]
+def psi_table(result, sample: str, label: str) -> Table:
+    """Return a PSI's bins: counts and shares on development and on ``sample``, and each contribution."""
+    rows = [[bin_label + (f" {ADJUSTED_MARK}" if adjusted else ""), count_text(expected), percent_text(expected_share, 1),
+             count_text(actual), percent_text(actual_share, 1), fixed_text(contribution, 4)]
             for bin_label, expected, expected_share, actual, actual_share, contribution, adjusted in zip(
                 result.labels, result.expected_counts, result.expected_share, result.actual_counts,
                 result.actual_share, result.contributions, result.adjusted)]
-    rows.append(["all", _count(result.expected_counts.sum()), _percent(1.0, 1), _count(result.actual_counts.sum()),
-                 _percent(1.0, 1), _fixed(result.value, 4)])
+    rows.append(["all", count_text(result.expected_counts.sum()), percent_text(1.0, 1), count_text(result.actual_counts.sum()),
+                 percent_text(1.0, 1), fixed_text(result.value, 4)])
     caption = f"Score bands fixed on development against the {sample} sample; every application counts, whatever its outcome."
     if result.adjusted.any():
         caption += f" {ADJUSTED_MARK} empty in one sample: 0.5 added to both counts."
-    return _table([label, "development", "share", sample, "share", "PSI contribution"], rows, numeric=range(1, 6),
-                  row_css=[""] * (len(rows) - 1) + ["total"], caption=caption)
+    return text_table([label, "development", "share", sample, "share", "PSI contribution"], rows, numeric=range(1, 6),
+                      row_css=[""] * (len(rows) - 1) + ["total"], caption=caption)
 
 
-def _characteristic_stability_table(items, sample: str) -> _Table:
-    rows = [[item.characteristic, _fixed(item.psi.value, 4), _status(item.psi.status),
-             _fixed(item.shift.expected_mean, 2), _fixed(item.shift.actual_mean, 2), _signed(item.shift.shift, 2),
-             _percent(item.missing_share_development, 1) if item.missing_share_development is not None else DASH,
-             _percent(item.missing_share_other, 1) if item.missing_share_other is not None else DASH]
+def _characteristic_stability_table(items, sample: str) -> Table:
+    rows = [[item.characteristic, fixed_text(item.psi.value, 4), status_cell(item.psi.status),
+             fixed_text(item.shift.expected_mean, 2), fixed_text(item.shift.actual_mean, 2), signed_text(item.shift.shift, 2),
+             percent_text(item.missing_share_development, 1) if item.missing_share_development is not None else DASH,
+             percent_text(item.missing_share_other, 1) if item.missing_share_other is not None else DASH]
             for item in items]
-    return _table(["characteristic", "PSI", "status", "mean points, development", f"mean points, {sample}",
-                   "points shift", "missing, development", f"missing, {sample}"], rows, numeric=(1, 3, 4, 5, 6, 7),
-                  caption=f"Each model characteristic over its bins, development against the {sample} sample. "
+    return text_table(["characteristic", "PSI", "status", "mean points, development", f"mean points, {sample}",
+                       "points shift", "missing, development", f"missing, {sample}"], rows, numeric=(1, 3, 4, 5, 6, 7),
+                      caption=f"Each model characteristic over its bins, development against the {sample} sample. "
                           f"Points shift: how far this characteristic alone moves the mean score.")
 
 
@@ -721,25 +756,25 @@ def _cutoffs(validation, decimals: int, *, every_level: bool) -> dict | None:
     shown, step = _shown_cutoffs(table.cutoffs, table.approval_rate, checks.ks.score, every_level=every_level)
     rows, css = [], []
     for score, i, marked in shown:
-        rows.append([_score(score, decimals), _percent(table.approval_rate[i], 1), _percent(table.approved_bad_rate[i]),
-                     _count(table.goods_declined[i]), _count(table.bads_declined[i]),
-                     _percent(table.bads_declined_share[i], 1)])
+        rows.append([_score(score, decimals), percent_text(table.approval_rate[i], 1), percent_text(table.approved_bad_rate[i]),
+                     count_text(table.goods_declined[i]), count_text(table.bads_declined[i]),
+                     percent_text(table.bads_declined_share[i], 1)])
         css.append("marked" if marked else "")
     caption = (f"Cut-offs on the {sample} sample, every {step:g} points where between "
-               f"{_percent(CUTOFF_SPAN[0], 0)} and {_percent(CUTOFF_SPAN[1], 0)} of applications are approved. "
+               f"{percent_text(CUTOFF_SPAN[0], 0)} and {percent_text(CUTOFF_SPAN[1], 0)} of applications are approved. "
                f"The marked row is the first cut-off above the KS score {_score(checks.ks.score, decimals)}. "
                f"Rates count goods and bads only.")
-    shown_table = _table(["approve at or above", "approval rate", "bad rate among approved", "goods declined",
-                          "bads declined", "share of bads declined"], rows, numeric=range(0, 6), row_css=css,
-                         caption=caption)
-    trade_off = _chart(
+    shown_table = text_table(["approve at or above", "approval rate", "bad rate among approved", "goods declined",
+                              "bads declined", "share of bads declined"], rows, numeric=range(0, 6), row_css=css,
+                             caption=caption)
+    trade_off = captioned_chart(
         charts.line_chart([_trade_off(name, c.cutoffs) for name, c in validation.samples.items()],
                           x_label="approval rate", y_label="bad rate among approved", x_range=(0.0, 1.0),
                           x_percent=True, y_percent=True, width=460, height=300,
                           title="Bad rate among approved against approval rate, " + ", ".join(validation.samples) + " samples"),
         f"Bad rate among the approved against the share approved, as the cut-off moves, from "
-        f"{_percent(CUTOFF_SPAN[0], 0)} approved; each sample.")
-    return {"sample": sample, "table": shown_table, "n_cutoffs": _count(len(table.cutoffs)), "n_shown": len(rows),
+        f"{percent_text(CUTOFF_SPAN[0], 0)} approved; each sample.")
+    return {"sample": sample, "table": shown_table, "n_cutoffs": count_text(len(table.cutoffs)), "n_shown": len(rows),
             "trade_off": trade_off}
 
 
@@ -840,15 +875,16 @@ def _reproducibility(build, generated_by: str) -> dict:
 # Numbers as text
 
 
-def _count(value: float) -> str:
-    """A count with thousands separators; weighted counts keep one decimal."""
+def count_text(value: float) -> str:
+    """Return a count with thousands separators; weighted counts keep one decimal."""
     value = float(value)
     if not math.isfinite(value):
         return DASH
     return f"{value:,.0f}" if abs(value - round(value)) < 1e-9 else f"{value:,.1f}"
 
 
-def _fixed(value: float, decimals: int) -> str:
+def fixed_text(value: float, decimals: int) -> str:
+    """Return a number with fixed decimals and thousands separators ('—' when not finite)."""
     value = float(value)
     if not math.isfinite(value):
         return DASH
@@ -856,29 +892,33 @@ def _fixed(value: float, decimals: int) -> str:
     return text[1:] if text.startswith("-") and text.strip("-0.,") == "" else text  # no "-0.00"
 
 
-def _signed(value: float, decimals: int) -> str:
-    text = _fixed(value, decimals)
+def signed_text(value: float, decimals: int) -> str:
+    """Return ``fixed_text`` with a '+' before a positive number."""
+    text = fixed_text(value, decimals)
     return text if text.startswith("-") or text == DASH or text.strip("0.,") == "" else "+" + text
 
 
-def _percent(value: float, decimals: int = 2) -> str:
+def percent_text(value: float, decimals: int = 2) -> str:
+    """Return a share as a percentage."""
     value = float(value)
     return DASH if not math.isfinite(value) else f"{100 * value:.{decimals}f}%"
 
 
-def _p_value(value: float) -> str:
-    """Three significant digits, and '< 0.001' below that."""
+def p_value_text(value: float) -> str:
+    """Return a p-value: three significant digits, and '< 0.001' below that."""
     value = float(value)
     if not math.isfinite(value):
         return DASH
     return "< 0.001" if value < 0.001 else f"{value:#.3g}"
 
 
-def _interval(low: float, high: float, decimals: int) -> str:
-    return f"{_fixed(low, decimals)} to {_fixed(high, decimals)}"
+def interval_text(low: float, high: float, decimals: int) -> str:
+    """Return an interval as 'low to high'."""
+    return f"{fixed_text(low, decimals)} to {fixed_text(high, decimals)}"
 
 
-def _level(level: float) -> str:
+def level_text(level: float) -> str:
+    """Return a confidence level as a percentage, e.g. '95%'."""
     return f"{100 * level:g}%"
 
 
@@ -889,5 +929,6 @@ def _score(value: float, decimals: int) -> str:
     return f"{value:.{decimals}f}" if decimals else f"{value:.0f}"
 
 
-def _span(low: float, high: float, decimals: int) -> str:
+def span_text(low: float, high: float, decimals: int) -> str:
+    """Return a score range as 'low–high' (one score when they are equal)."""
     return f"{_score(low, decimals)}–{_score(high, decimals)}" if low != high else _score(low, decimals)

@@ -111,8 +111,29 @@ def write_workbook(build, validation, path: str | os.PathLike[str]) -> Path:
     pathlib.Path
         ``path``.
     """
+    return save_workbook(workbook(build, validation), path)
+
+
+def save_workbook(book: Workbook, path: str | os.PathLike[str]) -> Path:
+    """Save a workbook to ``path`` under a temporary name in the same folder, then rename it into place.
+
+    Parameters
+    ----------
+    book : openpyxl.Workbook
+    path : path-like
+        The ``.xlsx`` file to write; its folder is made if needed.
+
+    Returns
+    -------
+    pathlib.Path
+        ``path``.
+
+    Raises
+    ------
+    OSError
+        The folder cannot be made or written to; any earlier file at ``path`` is left as it was.
+    """
     path = Path(path)
-    book = workbook(build, validation)
     path.parent.mkdir(parents=True, exist_ok=True)
     handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
     os.close(handle)
@@ -385,7 +406,7 @@ def _dressed(chart, title, x_title, y_title, width, height):
     return chart
 
 
-def _as_points(series: Series, colour: str) -> None:
+def as_points(series: Series, colour: str) -> None:
     """Draw a scatter series as filled dots without a line."""
     series.marker.symbol = "circle"
     series.marker.size = 7
@@ -864,7 +885,7 @@ def _calibration_sheet(sheet: Worksheet, validation, counts_format: str) -> None
     chart = scatter_chart("Observed against predicted bad rate per score band", "predicted (mean PD)",
                           "observed bad rate", series)
     for drawn, colour in zip(chart.series[:-1], SAMPLE_COLOURS):
-        _as_points(drawn, colour)
+        as_points(drawn, colour)
     sheet.add_chart(chart, f"A{summary.last_row + 3}")
     freeze_header(sheet)
     fit_widths(sheet)
