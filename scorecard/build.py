@@ -171,6 +171,15 @@ def _is_fixed(settings: Settings, name: str) -> bool:
     return spec.cuts is not None or spec.groups is not None
 
 
+def selection_rows(rows: np.ndarray, settings: Settings) -> np.ndarray:
+    """Development rows the choice of characteristics runs on: all, or a seeded sample of a large ledger."""
+    limit = settings.selection.sample_rows
+    if not limit or len(rows) <= limit:
+        return rows
+    rng = np.random.default_rng(settings.samples.seed + 2)
+    return np.sort(rng.choice(rows, size=limit, replace=False))
+
+
 def _fine_sample(rows: np.ndarray, settings: Settings) -> np.ndarray:
     """Rows the fine cut points are taken from: all, or a seeded sample when the ledger is large."""
     limit = settings.classing.fine_sample_rows
@@ -407,16 +416,19 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
         classed = class_ledger(ledger, settings, progress=progress)
     names = classed.names
     with clock("pattern table"):
-        fitting = (ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD))
+        fitting = np.flatnonzero((ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD)))
         goods = np.where(ledger.outcome == GOOD, ledger.weight, 0.0)
         bads = np.where(ledger.outcome == BAD, ledger.weight, 0.0)
         patterns = pattern_table(classed.codes[fitting], goods[fitting], bads[fitting], characteristics=names)
+        chosen_rows = selection_rows(fitting, settings)
+        choice = patterns if len(chosen_rows) == len(fitting) else pattern_table(
+            classed.codes[chosen_rows], goods[chosen_rows], bads[chosen_rows], characteristics=names)
     with clock("selection and fit"):
         forced = [name for name in names if settings.characteristic(name).use == "always"]
         selection = select_characteristics(
-            patterns, {c.name: c.evidence.woe for c in classed.characteristics},
+            choice, {c.name: c.evidence.woe for c in classed.characteristics},
             {c.name: c.evidence.iv for c in classed.characteristics},
-            forced=forced, selection=settings.selection, fit=settings.fit,
+            forced=forced, selection=settings.selection, fit=settings.fit, final_patterns=patterns,
         )
     with clock("points and scoring"):
         table = _points(selection, classed, settings)

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-from scipy import stats
+from scipy import special, stats
 
 from .counting import PatternTable
 from .errors import FitError
@@ -64,13 +64,17 @@ class SelectionResult:
 
 def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[float]], iv: Mapping[str, float], *,
                            forced: Sequence[str] = (), selection: SelectionSettings = SelectionSettings(),
-                           fit: FitSettings = FitSettings()) -> SelectionResult:
+                           fit: FitSettings = FitSettings(), final_patterns: PatternTable | None = None) -> SelectionResult:
     """Choose the model's characteristics and fit it.
 
     Parameters
     ----------
     patterns : PatternTable
-        Development patterns of every candidate characteristic's bin codes, with goods and bads.
+        Development patterns of every candidate characteristic's bin codes, with goods and bads;
+        the choice is made on these.
+    final_patterns : PatternTable, optional
+        The patterns the final model is fitted on, when the choice was made on a sample of the
+        development rows (default: ``patterns``).
     woe : mapping of str to sequence of float
         Development WoE of each bin, per candidate.
     iv : mapping of str to float
@@ -97,29 +101,58 @@ def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[fl
     screened = _screen(candidates, iv, forced, selection, log)
     candidates = _decorrelate(screened, iv, forced, design, selection, log)
     chosen = _stepwise(candidates, forced, design, selection, log)
-    chosen, result = _remove_reversals(chosen, forced, design, log)
+    final = design if final_patterns is None else _WoeDesign(final_patterns, woe, fit, start=design.last)
+    chosen, result = _remove_reversals(chosen, forced, final, log)
     correlations = design.correlation(screened)  # before decorrelation, so the pairs left out show
     return SelectionResult(tuple(chosen), result, tuple(log), correlations, variance_inflation(design.correlation(chosen)))
 
 
 class _WoeDesign:
-    """WoE-coded columns of the pattern table, and fits on subsets of them."""
+    """WoE-coded columns of the pattern table, and fits on subsets of them.
 
-    def __init__(self, patterns: PatternTable, woe: Mapping[str, Sequence[float]], fit: FitSettings):
+    A fit on a few characteristics runs on the pattern table of just those (their distinct bin
+    combinations, counts added), which has the same likelihood and is far smaller; each fit
+    starts from the coefficients of the last fit that shares characteristics with it.
+    """
+
+    def __init__(self, patterns: PatternTable, woe: Mapping[str, Sequence[float]], fit: FitSettings, *,
+                 start: Mapping[str, float] | None = None):
         self.patterns = patterns
-        self.columns = {name: np.asarray(woe[name], float)[patterns.column(name)] for name in patterns.characteristics}
+        self.woe = {name: np.asarray(woe[name], float) for name in patterns.characteristics}
         self.fit_settings = fit
         self.weights = patterns.goods + patterns.bads
+        self.last: dict[str, float] = dict(start or {})
+        self.fits: dict[tuple[str, ...], FitResult] = {}
+        self.position = {name: j for j, name in enumerate(patterns.characteristics)}
+        self._full: np.ndarray | None = None
 
-    def matrix(self, names: Sequence[str]) -> np.ndarray:
-        if not names:
-            return np.zeros((self.patterns.n_patterns, 0))
-        return np.column_stack([self.columns[name] for name in names])
+    @property
+    def full(self) -> np.ndarray:
+        """Every characteristic's WoE per pattern, column by column in memory (made once, when first needed)."""
+        if self._full is None:
+            self._full = self.matrix(self.patterns.characteristics, self.patterns)
+        return self._full
+
+    def matrix(self, names: Sequence[str], patterns: PatternTable | None = None) -> np.ndarray:
+        """WoE columns of ``names``; columns stored one after another, so each is written and read in one sweep."""
+        if patterns is None:
+            return self.full[:, [self.position[name] for name in names]]
+        matrix = np.empty((patterns.n_patterns, len(names)), order="F")
+        for j, name in enumerate(names):
+            np.take(self.woe[name], patterns.column(name), out=matrix[:, j])
+        return matrix
 
     def fit(self, names: Sequence[str]) -> FitResult:
-        settings = self.fit_settings
-        return fit_logistic(self.matrix(names), self.patterns.goods, self.patterns.bads, names=list(names),
-                            solver=settings.solver, l2=settings.l2, max_iterations=settings.max_iterations or None)
+        key = tuple(names)
+        if key not in self.fits:
+            settings = self.fit_settings
+            table = self.patterns.subset(names) if len(names) < len(self.patterns.characteristics) else self.patterns
+            start = [self.last.get("(intercept)", 0.0), *(self.last.get(name, 0.0) for name in names)] if self.last else None
+            result = fit_logistic(self.matrix(names, table), table.goods, table.bads, names=list(names), start=start,
+                                  solver=settings.solver, l2=settings.l2, max_iterations=settings.max_iterations or None)
+            self.last = dict(zip(result.names, result.coefficients))
+            self.fits[key] = result
+        return self.fits[key]
 
     def correlation(self, names: Sequence[str]) -> pd.DataFrame:
         return pd.DataFrame(weighted_correlation(self.matrix(names), self.weights), index=list(names), columns=list(names))
@@ -128,9 +161,10 @@ class _WoeDesign:
         if fit is None:  # intercept only: every pattern at the overall good rate
             share = self.patterns.goods.sum() / self.weights.sum()
             return np.full(self.patterns.n_patterns, share)
-        names = list(fit.names[1:])
-        log_odds = fit.coefficients[0] + self.matrix(names) @ fit.coefficients[1:]
-        return 1.0 / (1.0 + np.exp(-log_odds))
+        log_odds = np.full(self.patterns.n_patterns, fit.coefficients[0])
+        for name, coefficient in zip(fit.names[1:], fit.coefficients[1:]):
+            log_odds += (coefficient * self.woe[name])[self.patterns.column(name)]  # a look-up per bin, not per row
+        return special.expit(log_odds)
 
 
 def weighted_correlation(matrix: np.ndarray, weights: np.ndarray) -> np.ndarray:
@@ -157,6 +191,15 @@ def variance_inflation(correlation: pd.DataFrame) -> dict[str, float]:
 def score_test(design: _WoeDesign, fit: FitResult | None, candidates: Sequence[str]) -> np.ndarray:
     """Return the score (Rao) test p-value of adding each candidate to the fitted model.
 
+    See ``score_statistics``; on a large ledger many p-values are 0 in floating point, so choose
+    between candidates by the statistic.
+    """
+    return stats.chi2.sf(score_statistics(design, fit, candidates), df=1)
+
+
+def score_statistics(design: _WoeDesign, fit: FitResult | None, candidates: Sequence[str]) -> np.ndarray:
+    """Return the score (Rao) test statistic of adding each candidate to the fitted model.
+
     Notes
     -----
     U = z'(g − nπ), V = z'Wz − z'WX (X'WX)⁻¹ X'Wz with W = nπ(1 − π); U²/V is χ² with one
@@ -172,8 +215,7 @@ def score_test(design: _WoeDesign, fit: FitResult | None, candidates: Sequence[s
     cross = current.T @ (z * w[:, None])
     explained = np.einsum("ij,ij->j", cross, np.linalg.solve(information, cross))
     variance = np.einsum("ij,ij->j", z * w[:, None], z) - explained
-    statistic = np.divide((z.T @ residual) ** 2, variance, out=np.zeros(len(candidates)), where=variance > 1e-12)
-    return stats.chi2.sf(statistic, df=1)
+    return np.divide((z.T @ residual) ** 2, variance, out=np.zeros(len(candidates)), where=variance > 1e-12)
 
 
 def _screen(candidates, iv, forced, selection: SelectionSettings, log) -> list[str]:
@@ -230,8 +272,9 @@ def _stepwise(candidates, forced, design: _WoeDesign, selection: SelectionSettin
         outside = [name for name in candidates if name not in chosen and name not in removed]
         if not outside:
             break
-        p_values = score_test(design, fit, outside)
-        best = int(np.argmin(p_values))
+        statistics = score_statistics(design, fit, outside)
+        best = int(np.argmax(statistics))  # the largest statistic: p-values of 0 cannot be told apart
+        p_values = stats.chi2.sf(statistics, df=1)
         if p_values[best] >= selection.p_enter:
             break
         chosen.append(outside[best])
@@ -241,8 +284,11 @@ def _stepwise(candidates, forced, design: _WoeDesign, selection: SelectionSettin
 
 
 def _weakest(fit: FitResult, forced) -> tuple[str, float] | None:
-    options = [(name, float(p)) for name, p in zip(fit.names[1:], fit.p_values[1:]) if name not in forced]
-    return max(options, key=lambda o: o[1]) if options else None
+    """The characteristic with the smallest Wald |z| (largest p-value), and its p-value."""
+    options = [(name, float(p), abs(float(z))) for name, p, z in zip(fit.names[1:], fit.p_values[1:], fit.z_values[1:])
+               if name not in forced]
+    weakest = min(options, key=lambda o: o[2]) if options else None
+    return weakest[:2] if weakest else None
 
 
 def _stepwise_bic(candidates, forced, design: _WoeDesign, selection: SelectionSettings, log) -> list[str]:

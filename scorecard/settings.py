@@ -150,6 +150,10 @@ class SelectionSettings:
     p_enter: float = _key(0.05, "p-value below which a characteristic may enter", lambda v: 0 < v < 1, "a p-value in (0, 1)")
     p_remove: float = _key(0.10, "p-value above which a characteristic is removed", lambda v: 0 < v < 1, "a p-value in (0, 1)")
     max_characteristics: int = _key(0, "most characteristics in the model (0: no limit)", lambda v: v >= 0, "a whole number >= 0")
+    sample_rows: int = _key(
+        200_000, "the choice runs on a seeded sample of this many development rows when there are more; the final fit uses them all (0: always all)",
+        lambda v: v >= 0, "a whole number >= 0",
+    )
 
 
 @dataclass(frozen=True)
