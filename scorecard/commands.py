@@ -370,6 +370,9 @@ def write_table_atomically(frame, path: Path) -> Path:
 
 def run_monitor(options: MonitorOptions, streams: Streams) -> int:
     """Check a new ledger against a saved model's baseline; write the monitoring reports."""
+    from .report.monitor_html import write_monitor
+    from .report.monitor_workbook import write_monitor_workbook
+
     out = options.out or options.ledger.parent / f"{options.ledger.stem}-monitor"
     check_output_folder(out, options.force)
     saved = load_model(options.model)
@@ -383,7 +386,14 @@ def run_monitor(options: MonitorOptions, streams: Streams) -> int:
         if note not in ledger.left_out.values() and "left out:" not in note:
             streams.note(note)
     summary = monitor_summary(result, model=options.model)
-    written = [write_text_atomically(out / "monitor.txt", summary + "\n")]
+    command = "scorewright monitor " + " ".join(shlex.quote(str(a)) for a in (options.model, options.ledger, "--out", out))
+    written = [
+        write_text_atomically(out / "monitor.txt", summary + "\n"),
+        write_monitor(result, saved, out / "monitor.html", model_path=options.model,
+                      ledger_fingerprint=ledger.fingerprint, generated_by=command),
+        write_monitor_workbook(result, saved, out / "monitor.xlsx", model_path=options.model,
+                               ledger_fingerprint=ledger.fingerprint),
+    ]
     streams.say(summary)
     streams.say()
     streams.say("written: " + ", ".join(str(path) for path in written))

@@ -10,8 +10,6 @@ recalculates the saved book, and every formula cell must give the value the tool
 from __future__ import annotations
 
 import math
-import shutil
-import subprocess
 import time
 import warnings
 
@@ -29,12 +27,13 @@ from scorecard.report.workbook import (
 from scorecard.settings import CharacteristicSettings, Settings
 from scorecard.validation import validate_build
 
+import spreadsheet  # tests/spreadsheet.py: the LibreOffice recalculation
+
 # Two IEEE doubles computed by the same formula in two programs (LN, division, and
 # LibreOffice writing 15 significant digits to the file) agree to far better than this.
 RECALC_RTOL = 1e-9
 RECALC_ATOL = 1e-12  # a WoE or share of exactly 0 has no relative scale
 BUILD_SECONDS = 2.0  # the brief: well under a second or two for credit_data
-LIBREOFFICE_SECONDS = 240  # a cold start of LibreOffice in a fresh profile, with room to spare
 
 FORMULA_LIKE = ("=1+1", "@SUM(A1)", "-5")
 LEVELS = (*FORMULA_LIKE, "branch", "vip")
@@ -299,35 +298,6 @@ def test_demo_book_has_every_sample(demo):
 # reference: LibreOffice Calc recalculation
 
 
-def _libreoffice():
-    program = shutil.which("soffice") or shutil.which("libreoffice")
-    if program is None:
-        pytest.skip("LibreOffice (soffice) is not on PATH; `make system-deps` installs it")
-    return program
-
-
-# Recalculate every formula on loading an .xlsx file, whatever the file says about itself.
-RECALC_ALWAYS = """<?xml version="1.0" encoding="UTF-8"?>
-<oor:items xmlns:oor="http://openoffice.org/2001/registry" xmlns:xs="http://www.w3.org/2001/XMLSchema"
- xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">
-<item oor:path="/org.openoffice.Office.Calc/Formula/Load"><prop oor:name="OOXMLRecalcMode" oor:op="fuse"><value>0</value></prop></item>
-</oor:items>
-"""
-
-
-def _recalculated(path, folder):
-    """Open the book in LibreOffice Calc (its own profile), recalculate, save as .xlsx; return the copy."""
-    program = _libreoffice()
-    profile = folder / "profile"
-    (profile / "user").mkdir(parents=True, exist_ok=True)
-    (profile / "user" / "registrymodifications.xcu").write_text(RECALC_ALWAYS, encoding="utf-8")
-    out = folder / "recalculated"
-    subprocess.run([program, f"-env:UserInstallation={profile.as_uri()}", "--headless", "--calc",
-                    "--convert-to", "xlsx", "--outdir", str(out), str(path)],
-                   check=True, capture_output=True, timeout=LIBREOFFICE_SECONDS)
-    return out / path.name
-
-
 def _expected_formula_values(build, book):
     """The tool's value of every formula cell, found from the cell's row labels and column header.
 
@@ -400,7 +370,7 @@ def test_libreoffice_recalculates_every_formula_to_the_tools_value(ledger, reque
     path = write_workbook(build, validation, tmp_path / "book.xlsx")
     original = openpyxl.load_workbook(path)
     expected = _expected_formula_values(build, original)
-    recalculated = openpyxl.load_workbook(_recalculated(path, tmp_path), data_only=True)
+    recalculated = openpyxl.load_workbook(spreadsheet.recalculated(path, tmp_path), data_only=True)
     assert len(expected) > 100
     for (sheet, coordinate), (want, exact) in expected.items():
         got = recalculated[sheet][coordinate].value
@@ -417,7 +387,7 @@ def test_libreoffice_recalculates_every_formula_to_the_tools_value(ledger, reque
 @pytest.mark.slow
 def test_libreoffice_reads_formula_like_labels_as_text(invented, tmp_path):
     path = write_workbook(*invented, tmp_path / "book.xlsx")
-    copy = _recalculated(path, tmp_path)
+    copy = spreadsheet.recalculated(path, tmp_path)
     for data_only in (False, True):
         book = openpyxl.load_workbook(copy, data_only=data_only)
         cells = [cell for sheet in book.worksheets for row in sheet.iter_rows() for cell in row

@@ -163,10 +163,11 @@ def status_rules(checks: CheckSettings) -> list[tuple[str, str, str, str, str]]:
     psi = ("PSI", f"{checks.psi_watch:g} and above", f"{checks.psi_act:g} and above")
     p = ("p-value", f"below {checks.p_watch:g}", f"below {checks.p_act:g}")
     defaults = CheckSettings()
-    psi_source = ("common practice, no source (defaults 0.10 and 0.25)"
+    psi_source = (f"common practice, no source (defaults {defaults.psi_watch:.2f} and {defaults.psi_act:.2f})"
                   + ("" if (checks.psi_watch, checks.psi_act) == (defaults.psi_watch, defaults.psi_act)
                      else "; set under [checks] in the settings"))
-    p_source = ("common practice, the 5% and 1% test levels, no source (defaults 0.05 and 0.01)"
+    p_source = (f"common practice, the 5% and 1% test levels, no source (defaults {defaults.p_watch:.2f} and "
+                f"{defaults.p_act:.2f})"
                 + ("" if (checks.p_watch, checks.p_act) == (defaults.p_watch, defaults.p_act)
                    else "; set under [checks] in the settings"))
     return [
@@ -212,10 +213,11 @@ def monitoring_limits(result: MonitorResult) -> list[str]:
 
 def _subtitle(result: MonitorResult, saved: SavedModel) -> str:
     lender = saved.settings.report.lender
-    quarters = f", {result.quarters[0].period} to {result.quarters[-1].period}" if len(result.quarters) > 1 else (
-        f", {result.quarters[0].period}" if result.quarters else "")
-    made = (f"{result.source} ({count_text(result.overall.rows)} applications{quarters}) against the development "
-            f"sample of {saved.document.get('ledger', {}).get('source', 'the build')}")
+    periods = [q.period for q in result.quarters]
+    span = f", {periods[0]} to {periods[-1]}" if len(periods) > 1 else "".join(f", {p}" for p in periods)
+    built = saved.document.get("ledger", {}).get("source", "the build")
+    made = (f"{result.source} ({count_text(result.overall.rows)} applications{span}) against the development "
+            f"sample of {built}")
     return f"{lender} · {made}" if lender else made
 
 
@@ -413,44 +415,53 @@ def _calibration(result: MonitorResult, decimals: int) -> dict:
         return {"checked": False}
     table = outcomes.calibration
     labels = [span_text(low, high, decimals) for low, high in zip(table.score_low, table.score_high)]
-    level = level_text(table.level)
     tests = overall.calibration_tests
-    band_tests = tests[2:]  # calibration_family lists the two whole-ledger tests, then the bands in order
     chart = captioned_chart(
         charts.calibration_chart(labels, table.observed_rate, table.jeffreys_lower, table.jeffreys_upper,
                                  table.mean_pd, title="Observed and predicted bad rate by band, new ledger"),
-        f"Observed bad rate per score band with its Jeffreys {level} interval, and the band's mean predicted PD; "
-        f"new ledger, bands fixed on development.")
-    rows = [[label, count_text(count), count_text(bads), percent_text(observed), percent_text(predicted),
-             fixed_text(expected, 1), interval_text(100 * low, 100 * high, 2) + "%", p_value_text(jeffreys),
-             p_value_text(two_sided), Cell(p_value_text(test.adjusted_p_value), _p_css(test.adjusted_p_value, result.checks))]
-            for label, count, bads, observed, predicted, expected, low, high, jeffreys, two_sided, test in zip(
-                labels, table.count, table.bads, table.observed_rate, table.mean_pd, table.expected_bads,
-                table.jeffreys_lower, table.jeffreys_upper, table.jeffreys_p, table.binomial_p_two_sided, band_tests)]
-    bands = text_table(
-        ["scores", "applications", "bads", "observed bad rate", "predicted PD", "expected bads",
-         f"Jeffreys {level} interval", "Jeffreys p (more bads)", "binomial p (two-sided)", "Holm-adjusted p"],
-        rows, numeric=range(0, 10),
-        caption="Observed against predicted defaults per score band; new ledger. The Holm-adjusted p-value is the "
-                "binomial test's, adjusted over the whole family of calibration tests; it is the one that sets the status."
-                + (" Band counts were rounded to whole numbers for the binomial tests." if table.rounded_counts else ""))
+        f"Observed bad rate per score band with its Jeffreys {level_text(table.level)} interval, and the band's "
+        f"mean predicted PD; new ledger, bands fixed on development.")
     family = text_table(
         ["test", "p-value", "Holm-adjusted p"],
-        [[t.test, p_value_text(t.p_value), Cell(p_value_text(t.adjusted_p_value), _p_css(t.adjusted_p_value, result.checks))]
-         for t in tests[:2]],
-        numeric=(1, 2), caption="The whole-ledger tests of the calibration family (the band tests are in the table above).")
+        [[t.test, p_value_text(t.p_value), _adjusted_cell(t.adjusted_p_value, result.checks)] for t in tests[:2]],
+        numeric=(1, 2), caption="The whole-ledger tests of the calibration family (the band tests are in the table "
+                                "above).")
     status = next(s for s in overall.statuses if s.check == "calibration")
     smallest = min(tests, key=lambda t: t.adjusted_p_value)
     large = outcomes.in_the_large
     detail = (f"from {smallest.test}; {count_text(large.observed_bads)} bads observed against "
               f"{fixed_text(large.expected_bads, 1)} predicted")
     return {"checked": True, "status": status.status, "figure": figure_text(status), "thresholds": status.thresholds,
-            "detail": detail, "figures": calibration_figures(outcomes), "chart": chart, "bands": bands,
-            "family": family, "notes": list(outcomes.notes)}
+            "detail": detail, "figures": calibration_figures(outcomes), "chart": chart,
+            "bands": _calibration_bands(table, labels, tests[2:], result.checks), "family": family,
+            "notes": list(outcomes.notes)}
 
 
-def _p_css(p_value: float, checks: CheckSettings) -> str:
-    return "small-p" if p_value < checks.p_watch else ""
+def _calibration_bands(table, labels: Sequence[str], band_tests, checks: CheckSettings) -> Table:
+    """Per band: observed against predicted, Jeffreys interval and p, binomial p, and its Holm-adjusted p.
+
+    ``band_tests`` are the band tests of ``calibration_family``, in the table's band order.
+    """
+    level = level_text(table.level)
+    rows = [[label, count_text(count), count_text(bads), percent_text(observed), percent_text(predicted),
+             fixed_text(expected, 1), interval_text(100 * low, 100 * high, 2) + "%", p_value_text(jeffreys),
+             p_value_text(two_sided), _adjusted_cell(test.adjusted_p_value, checks)]
+            for label, count, bads, observed, predicted, expected, low, high, jeffreys, two_sided, test in zip(
+                labels, table.count, table.bads, table.observed_rate, table.mean_pd, table.expected_bads,
+                table.jeffreys_lower, table.jeffreys_upper, table.jeffreys_p, table.binomial_p_two_sided, band_tests)]
+    return text_table(
+        ["scores", "applications", "bads", "observed bad rate", "predicted PD", "expected bads",
+         f"Jeffreys {level} interval", "Jeffreys p (more bads)", "binomial p (two-sided)", "Holm-adjusted p"],
+        rows, numeric=range(0, 10),
+        caption="Observed against predicted defaults per score band; new ledger. Holm-adjusted p: the band's binomial "
+                "p-value adjusted over the whole family of calibration tests; the smallest adjusted p-value of the "
+                "family sets the status."
+                + (" Band counts were rounded to whole numbers for the binomial tests." if table.rounded_counts else ""))
+
+
+def _adjusted_cell(p_value: float, checks: CheckSettings) -> Cell:
+    """A Holm-adjusted p-value, marked when it is below the watch threshold."""
+    return Cell(p_value_text(p_value), "small-p" if p_value < checks.p_watch else "")
 
 
 # --------------------------------------------------------------------------------------------

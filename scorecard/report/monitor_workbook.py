@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Sequence
+from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -39,17 +40,20 @@ from . import CAUTION
 from .monitor_html import MEANING, WHAT_TO_DO, driving_checks, monitoring_limits, status_rules
 from .workbook import (
     COUNT, FIRST_ROW, HEADER_ROW, NOTE_ROW, RATE, SMALL_P_VALUE, STATISTIC, WEIGHTED_COUNT, WRAP, Formula, Placed,
-    bar_chart, fit_widths, freeze_header, print_across, save_workbook, sheet_heading, text_cell, value_cell,
-    write_frame, write_pairs,
+    bar_chart, fit_widths, freeze_header, print_across, save_workbook, sheet_heading, text_cell, write_frame,
+    write_pairs,
 )
 
 OVERVIEW, STABILITY, DISCRIMINATION, CALIBRATION, QUARTERS, CAUTIONS = (
     "Overview", "Stability", "Discrimination", "Calibration", "Quarters", "Cautions")
 WHOLE_LEDGER = "whole ledger"
 POINTS = "0.00"
+STATUS_WIDTH = 12  # the Status column of Overview; the long values of the pairs below it run on to the right
 # Pale fills of our own for the status words, in the order ok, watch, act.
 STATUS_FILLS = {"ok": PatternFill("solid", fgColor="DCEBDD"), "watch": PatternFill("solid", fgColor="F5E2C0"),
                 "act": PatternFill("solid", fgColor="F1D0CB")}
+CHARACTERISTIC_COLUMNS = ["Characteristic", "PSI", "Status", "Mean points (development)", "Mean points (new)",
+                          "Points shift", "Missing share (development)", "Missing share (new)", "Rows with unseen levels"]
 NO_OUTCOMES = ("Not checked: no row of the ledger has a known outcome (good or bad), and this check compares scores "
                "with outcomes. Only stability was checked.")
 
@@ -140,13 +144,15 @@ def _overview_sheet(sheet: Worksheet, result: MonitorResult, saved: SavedModel, 
                  "Source", "Detail"])
     placed = write_frame(sheet, frame, caption="Every check of the whole ledger, those that set the status first")
     _check_formats(placed, ordered)
-    row = write_pairs(sheet, _overview_pairs(result), row=placed.last_row + 2, caption="The run")
+    _fill_statuses(sheet, placed.columns["Status"], placed.first_row, placed.last_row)
+    run_row = placed.last_row + 2
+    row = write_pairs(sheet, _overview_pairs(result), row=run_row, caption="The run")
+    sheet.cell(row=run_row + 1, column=2).fill = STATUS_FILLS[result.status]  # the pairs open with the overall status
     write_pairs(sheet, _provenance_pairs(result, saved, model_path, ledger_fingerprint), row=row + 1,
                 caption="Reproducibility")
-    _fill_statuses(sheet, placed.columns["Status"], placed.first_row, placed.last_row)
-    _fill_status_value(sheet, placed.last_row + 3, result.status)
     freeze_header(sheet)
     fit_widths(sheet, maximum=70)
+    sheet.column_dimensions[get_column_letter(placed.columns["Status"])].width = STATUS_WIDTH
 
 
 def _overview_pairs(result: MonitorResult) -> list[tuple[str, object]]:
@@ -178,9 +184,10 @@ def _provenance_pairs(result: MonitorResult, saved: SavedModel, model_path, ledg
 
 def _check_formats(placed: Placed, statuses: Sequence[CheckStatus]) -> None:
     """PSIs with four decimals, p-values (some far below 0.0001) in scientific notation."""
+    headers = [header for header in ("Value", "Watch at", "Act at") if header in placed.columns]
     for row, status in enumerate(statuses, start=placed.first_row):
         number_format = STATISTIC if status.direction == "above" else SMALL_P_VALUE
-        for header in ("Value", "Watch at", "Act at"):
+        for header in headers:
             placed.sheet.cell(row=row, column=placed.columns[header]).number_format = number_format
 
 
@@ -189,10 +196,6 @@ def _fill_statuses(sheet: Worksheet, column: int, first_row: int, last_row: int)
         cell = sheet.cell(row=row, column=column)
         if cell.value in STATUS_FILLS:
             cell.fill = STATUS_FILLS[cell.value]
-
-
-def _fill_status_value(sheet: Worksheet, row: int, status: str) -> None:
-    sheet.cell(row=row, column=2).fill = STATUS_FILLS[status]
 
 
 # --------------------------------------------------------------------------------------------
@@ -211,7 +214,8 @@ def _stability_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> No
     bands = _psi_block(sheet, [("", score)], column=1, label="Scores", counts=counts,
                        caption=f"Score bands (score PSI {score.value:.4f}: {score.status})")
     characteristics = overall.characteristics
-    bins_column = max(bands.columns.values()) + 2 + 10  # beyond the characteristic table
+    table_column = max(bands.columns.values()) + 2
+    bins_column = table_column + len(CHARACTERISTIC_COLUMNS) + 1
     bins = _psi_block(sheet, [(c.characteristic, c.psi) for c in characteristics], column=bins_column, label="Bin",
                       counts=counts, caption="Each model characteristic's bins")
     frame = pd.DataFrame([{
@@ -222,10 +226,8 @@ def _stability_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> No
         "Points shift": c.shift.shift, "Missing share (development)": c.missing_share_development,
         "Missing share (new)": c.missing_share_other,
         "Rows with unseen levels": sum(overall.unseen.get(c.characteristic, {}).values()),
-    } for c, (first, last) in zip(characteristics, bins.blocks)],
-        columns=["Characteristic", "PSI", "Status", "Mean points (development)", "Mean points (new)", "Points shift",
-                 "Missing share (development)", "Missing share (new)", "Rows with unseen levels"])
-    table = write_frame(sheet, frame, column=max(bands.columns.values()) + 2,
+    } for c, (first, last) in zip(characteristics, bins.blocks)], columns=CHARACTERISTIC_COLUMNS, dtype=object)
+    table = write_frame(sheet, frame, column=table_column,
                         caption="Model characteristics: PSI (SUM of its bins' contributions) and points shift",
                         formats={"PSI": STATISTIC, "Mean points (development)": POINTS, "Mean points (new)": POINTS,
                                  "Points shift": POINTS, "Missing share (development)": RATE,
@@ -244,6 +246,7 @@ def _stability_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> No
     fit_widths(sheet)
 
 
+@dataclass(frozen=True)
 class _PsiBlock(Placed):
     """A placed PSI table, with the first and last sheet row of each group's bins."""
 
@@ -284,7 +287,8 @@ def _psi_block(sheet: Worksheet, groups, *, column: int, label: str, counts: str
         rows.append({label: "all", **{h: total(h) for h in ("Count (development)", "Count (new)", "Share (development)",
                                                             "Share (new)", "PSI contribution")},
                      "Empty-cell addition": ""})
-    frame = pd.DataFrame(rows, columns=["Characteristic", *headers[1 if named else 0:]])[headers]
+    # object columns keep each Formula as such; a text column would turn it into a plain string
+    frame = pd.DataFrame(rows, dtype=object)[headers]
     placed = write_frame(sheet, frame, column=column, caption=caption,
                          formats={"Count (development)": counts, "Count (new)": counts, "Share (development)": RATE,
                                   "Share (new)": RATE, "PSI contribution": STATISTIC})
@@ -337,33 +341,8 @@ def _calibration_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> 
     sheet_heading(sheet, "Calibration", "Observed against predicted bads, whole ledger and each quarter, per score band "
                                         "fixed on development. The status comes from the smallest Holm-adjusted "
                                         "p-value of the family: in the large, Hosmer–Lemeshow and every band.")
-    summary_rows, band_rows = [], []
-    for period in _periods(result):
-        outcomes = period.outcomes
-        if outcomes is None:
-            continue
-        tests = period.calibration_tests
-        large, hl = outcomes.in_the_large, outcomes.hosmer_lemeshow
-        status = _status_of(period, "calibration")
-        summary_rows.append({
-            "Period": _period_name(period), "Observed bad rate": large.observed_rate,
-            "Predicted bad rate": large.expected_rate, "Observed bads": large.observed_bads,
-            "Expected bads": large.expected_bads, "z (in the large)": large.z, "p (in the large)": tests[0].p_value,
-            "Holm-adjusted p (in the large)": tests[0].adjusted_p_value, "Hosmer–Lemeshow": hl.statistic,
-            "Degrees of freedom": hl.df, "p (Hosmer–Lemeshow)": tests[1].p_value,
-            "Holm-adjusted p (Hosmer–Lemeshow)": tests[1].adjusted_p_value, "Brier score": outcomes.brier,
-            "Smallest Holm-adjusted p": min(t.adjusted_p_value for t in tests), "Status": status.status,
-        })
-        frame = outcomes.calibration.to_frame()
-        for band, test in zip(frame.itertuples(index=False), tests[2:]):
-            band_rows.append({
-                "Period": _period_name(period), "Scores": f"{band.score_low:g} to {band.score_high:g}",
-                "Count": band.count, "Bads": band.bads, "Observed bad rate": band.observed_rate, "Mean PD": band.mean_pd,
-                "Expected bads": band.expected_bads, "Jeffreys lower": band.jeffreys_lower,
-                "Jeffreys upper": band.jeffreys_upper, "Jeffreys p (more bads)": band.jeffreys_p,
-                "Binomial p (two-sided)": band.binomial_p_two_sided, "Binomial p (more bads)": band.binomial_p_excess,
-                "Holm-adjusted p": test.adjusted_p_value,
-            })
+    summary_rows = [_calibration_summary(period) for period in _periods(result) if period.outcomes is not None]
+    band_rows = [row for period in _periods(result) if period.outcomes is not None for row in _calibration_bands(period)]
     summary_columns = ["Period", "Observed bad rate", "Predicted bad rate", "Observed bads", "Expected bads",
                        "z (in the large)", "p (in the large)", "Holm-adjusted p (in the large)", "Hosmer–Lemeshow",
                        "Degrees of freedom", "p (Hosmer–Lemeshow)", "Holm-adjusted p (Hosmer–Lemeshow)", "Brier score",
@@ -395,6 +374,35 @@ def _calibration_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> 
         sheet.add_chart(chart, f"A{summary.last_row + 3}")
     freeze_header(sheet, columns=1)
     fit_widths(sheet)
+
+
+def _calibration_summary(period: PeriodMonitor) -> dict[str, object]:
+    """One period's whole-ledger calibration tests, before and after Holm's adjustment."""
+    outcomes, tests = period.outcomes, period.calibration_tests
+    large, hl = outcomes.in_the_large, outcomes.hosmer_lemeshow
+    return {
+        "Period": _period_name(period), "Observed bad rate": large.observed_rate,
+        "Predicted bad rate": large.expected_rate, "Observed bads": large.observed_bads,
+        "Expected bads": large.expected_bads, "z (in the large)": large.z, "p (in the large)": tests[0].p_value,
+        "Holm-adjusted p (in the large)": tests[0].adjusted_p_value, "Hosmer–Lemeshow": hl.statistic,
+        "Degrees of freedom": hl.df, "p (Hosmer–Lemeshow)": tests[1].p_value,
+        "Holm-adjusted p (Hosmer–Lemeshow)": tests[1].adjusted_p_value, "Brier score": outcomes.brier,
+        "Smallest Holm-adjusted p": min(t.adjusted_p_value for t in tests),
+        "Status": _status_of(period, "calibration").status,
+    }
+
+
+def _calibration_bands(period: PeriodMonitor) -> list[dict[str, object]]:
+    """One period's score bands; the family lists the two whole-ledger tests first, then the bands in order."""
+    frame = period.outcomes.calibration.to_frame()
+    return [{
+        "Period": _period_name(period), "Scores": f"{band.score_low:g} to {band.score_high:g}",
+        "Count": band.count, "Bads": band.bads, "Observed bad rate": band.observed_rate, "Mean PD": band.mean_pd,
+        "Expected bads": band.expected_bads, "Jeffreys lower": band.jeffreys_lower,
+        "Jeffreys upper": band.jeffreys_upper, "Jeffreys p (more bads)": band.jeffreys_p,
+        "Binomial p (two-sided)": band.binomial_p_two_sided, "Binomial p (more bads)": band.binomial_p_excess,
+        "Holm-adjusted p": test.adjusted_p_value,
+    } for band, test in zip(frame.itertuples(index=False), period.calibration_tests[2:])]
 
 
 # --------------------------------------------------------------------------------------------
