@@ -22,13 +22,16 @@ from .classing import (
     NUMERIC, Binning, binning_from_settings, check_constraints, classing_settings_values, code_rows, coarse_classing,
     fine_classing, resolve_fallback, unseen_levels,
 )
-from .counting import BinCounts, count_bins, pattern_table
+from .counting import BinCounts, PatternTable, count_bins, merge_pattern_tables, pattern_table
 from .errors import ScorecardWarning
 from .evidence import EvidenceTable, evidence_table
 from .ledger import (
-    BAD, DEVELOPMENT, GOOD, SAMPLE_NAMES, Characteristic, Fingerprint, Ledger, fingerprint_of, prepare_ledger, read_ledger,
+    BAD, DEVELOPMENT, GOOD, SAMPLE_NAMES, STREAM_BATCH_ROWS, Characteristic, Fingerprint, Ledger, fingerprint_of,
+    prepare_ledger, read_ledger, should_stream, stream_ledger,
 )
-from .points import PointsTable, Scorecard, ScoreHistogram, points_table, scaling, score_codes, score_histogram
+from .points import (
+    PointsTable, Scorecard, ScoreHistogram, merge_histograms, points_table, scaling, score_codes, score_histogram,
+)
 from .selection import SelectionResult, select_characteristics
 from .settings import Settings
 
@@ -380,7 +383,8 @@ class Build:
 
 def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settings: Settings, *,
                     progress: Callable[[Iterable], Iterable] = lambda items: items,
-                    timings: dict[str, float] | None = None) -> Build:
+                    timings: dict[str, float] | None = None, stream: bool | None = None,
+                    batch_rows: int = STREAM_BATCH_ROWS) -> Build:
     """Run the whole build: classing, selection, fit, points, histograms.
 
     Parameters
@@ -392,6 +396,11 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
         Wraps the loop over characteristics (a progress bar in a terminal).
     timings : dict, optional
         Receives the seconds spent in each stage (for the benchmarks).
+    stream : bool, optional
+        Read a ledger file in batches, never whole (default: when it is larger than
+        ``ledger.stream_above_mb``). Only count tables are kept; the result is the same.
+    batch_rows : int
+        Rows per batch when streaming.
 
     Returns
     -------
@@ -411,18 +420,23 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
     """
     clock = Stopwatch(timings)
     with clock("intake"):
-        ledger = data if isinstance(data, Ledger) else load_ledger(data, settings)
+        if isinstance(data, Ledger):
+            ledger, batches, in_memory = data, _whole(data), True
+        elif stream or (stream is None and not isinstance(data, pd.DataFrame) and should_stream(data, settings)):
+            ledger, batches = stream_ledger(data, settings, batch_rows=batch_rows)
+            in_memory = False
+        else:
+            ledger = load_ledger(data, settings)
+            batches, in_memory = _whole(ledger), True
+    fitting = np.flatnonzero((ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD)))
     with clock("classing"):
-        classed = class_ledger(ledger, settings, progress=progress)
+        fine_rows, fine_weights = _fine_rows(ledger, batches, fitting, settings, in_memory=in_memory)
+        classed = class_batches(batches, ledger.characteristics, ledger.outcome, ledger.weight, ledger.sample, settings,
+                                fine_rows=fine_rows, fine_weights=fine_weights, keep_codes=in_memory, progress=progress)
     names = classed.names
     with clock("pattern table"):
-        fitting = np.flatnonzero((ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD)))
-        goods = np.where(ledger.outcome == GOOD, ledger.weight, 0.0)
-        bads = np.where(ledger.outcome == BAD, ledger.weight, 0.0)
-        patterns = pattern_table(classed.codes[fitting], goods[fitting], bads[fitting], characteristics=names)
         chosen_rows = selection_rows(fitting, settings)
-        choice = patterns if len(chosen_rows) == len(fitting) else pattern_table(
-            classed.codes[chosen_rows], goods[chosen_rows], bads[chosen_rows], characteristics=names)
+        patterns, choice = _pattern_tables(classed, ledger, batches, fitting, chosen_rows)
     with clock("selection and fit"):
         forced = [name for name in names if settings.characteristic(name).use == "always"]
         selection = select_characteristics(
@@ -434,17 +448,72 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
         table = _points(selection, classed, settings)
         binnings = tuple(classed.get(name).binning for name in table.names)
         scorecard = Scorecard(table, binnings, settings.ledger.id_column)
-        columns = [names.index(name) for name in table.names]
-        scores = score_codes(classed.codes[:, columns], table)
-        histograms = {
-            SAMPLE_NAMES[s]: score_histogram(scores[rows], ledger.outcome[rows] == GOOD, ledger.outcome[rows] == BAD,
-                                             ledger.weight[rows], sample=SAMPLE_NAMES[s])
-            for s in range(len(SAMPLE_NAMES)) if (rows := ledger.sample == s).any()
-        }
+        histograms = _histograms(scorecard, classed, ledger, batches)
     resolved = _resolved_settings(settings, classed)
     notes = (*ledger.notes, *classed.notes)
     return Build(resolved, ledger.source, ledger.fingerprint, ledger.sample_summary(), classed.characteristics,
                  selection, scorecard, histograms, notes)
+
+
+def _whole(ledger: Ledger) -> Batches:
+    """The batches of a ledger held in memory: the whole frame, once per pass."""
+    return lambda columns: iter([(0, ledger.frame)])
+
+
+def _fine_rows(ledger: Ledger, batches: Batches, fitting: np.ndarray, settings: Settings, *, in_memory: bool):
+    """The development rows fine cut points are taken from (a pass gathers them from a streamed ledger)."""
+    rows = _fine_sample(fitting, settings)
+    proposed = [c.name for c in ledger.characteristics if not _is_fixed(settings, c.name)]
+    if in_memory:
+        return ledger.frame.iloc[rows], ledger.weight[rows]
+    if not proposed:
+        return ledger.frame, ledger.weight[:0]
+    parts = []
+    for first_row, frame in batches(proposed):
+        inside = rows[(rows >= first_row) & (rows < first_row + len(frame))]
+        parts.append(frame.iloc[inside - first_row])
+    return pd.concat(parts, ignore_index=True), ledger.weight[rows]
+
+
+def _pattern_tables(classed: ClassedLedger, ledger: Ledger, batches: Batches, fitting: np.ndarray,
+                    chosen: np.ndarray) -> tuple[PatternTable, PatternTable]:
+    """The development pattern table, and the one of the rows the choice runs on (the same when all)."""
+    names = classed.names
+    goods = np.where(ledger.outcome == GOOD, ledger.weight, 0.0)
+    bads = np.where(ledger.outcome == BAD, ledger.weight, 0.0)
+    parts: dict[str, list[PatternTable]] = {"all": [], "choice": []}
+    for first_row, codes in _coded_batches(classed, batches, names):
+        for key, rows in (("all", fitting), ("choice", chosen)):
+            inside = rows[(rows >= first_row) & (rows < first_row + len(codes))]
+            parts[key].append(pattern_table(codes[inside - first_row], goods[inside], bads[inside], characteristics=names))
+    patterns = merge_pattern_tables(parts["all"])
+    choice = patterns if len(chosen) == len(fitting) else merge_pattern_tables(parts["choice"])
+    return patterns, choice
+
+
+def _coded_batches(classed: ClassedLedger, batches: Batches, names: Sequence[str]):
+    """Yield (first row, codes) of the named characteristics: kept codes, or coded again batch by batch."""
+    if classed.codes.shape[0]:
+        yield 0, classed.codes[:, [classed.names.index(n) for n in names]]
+        return
+    binnings = [classed.get(name).binning for name in names]
+    for first_row, frame in batches(list(names)):
+        yield first_row, np.column_stack([code_rows(frame[b.characteristic], b) for b in binnings])
+
+
+def _histograms(scorecard: Scorecard, classed: ClassedLedger, ledger: Ledger, batches: Batches) -> dict[str, ScoreHistogram]:
+    """Score histogram per sample, from every row's score."""
+    parts: dict[str, list[ScoreHistogram]] = {}
+    for first_row, codes in _coded_batches(classed, batches, scorecard.table.names):
+        scores = score_codes(codes, scorecard.table)
+        rows = slice(first_row, first_row + len(scores))
+        outcome, weight, sample = ledger.outcome[rows], ledger.weight[rows], ledger.sample[rows]
+        for index, name in enumerate(SAMPLE_NAMES):
+            inside = sample == index
+            if inside.any():
+                parts.setdefault(name, []).append(score_histogram(
+                    scores[inside], outcome[inside] == GOOD, outcome[inside] == BAD, weight[inside], sample=name))
+    return {name: merge_histograms(pieces) for name, pieces in parts.items()}
 
 
 class Stopwatch:

@@ -93,6 +93,7 @@ class BuildOptions:
     force: bool = False
     reports: bool = True
     timings: bool = False
+    stream: bool = False
 
 
 @dataclass(frozen=True)
@@ -268,10 +269,12 @@ def _add_build(commands) -> None:
     parser.add_argument("--force", action="store_true", help="write into the output folder even if it exists")
     parser.add_argument("--no-reports", dest="reports", action="store_false", help="write model.json and settings.toml only")
     parser.add_argument("--timings", action="store_true", help="print the seconds each stage took to stderr, as JSON (for benchmarks)")
+    parser.add_argument("--stream", action="store_true",
+                        help="read the ledger in batches, never whole (automatic above ledger.stream_above_mb); same result")
     _add_common(parser)
     parser.set_defaults(
         make_options=lambda a: BuildOptions(a.source, a.target, tuple(a.bad), tuple(a.good), tuple(a.indeterminate), a.out,
-                                            a.force, a.reports, a.timings),
+                                            a.force, a.reports, a.timings, a.stream),
         run=_run_build,
     )
 

@@ -24,8 +24,8 @@ from .cli import (
 )
 from .errors import LedgerError, SettingsError
 from .ledger import (
-    NUMERIC, closest_names, default_outcome_mapping, detect_kind, fingerprint_of, looks_like_identifier_or_date,
-    outcome_key, prepare_ledger, read_ledger,
+    NUMERIC, STREAM_BATCH_ROWS, closest_names, default_outcome_mapping, detect_kind, fingerprint_of,
+    looks_like_identifier_or_date, outcome_key, prepare_ledger, read_ledger, should_stream,
 )
 from .modelfile import load_model, model_document, save_model
 from .monitor import STATUSES, monitor_ledger
@@ -220,12 +220,17 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     settings, ledger_path = _build_settings(options)
     out = options.out or ledger_path.parent / f"{options.source.stem}-build"
     check_output_folder(out, options.force)
-    with clock("read"):
-        frame = read_ledger(ledger_path)
-    streams.note(f"read {len(frame):,} rows and {frame.shape[1]} columns from {ledger_path.name}")
-    with clock("intake"):
-        ledger = prepare_ledger(frame, settings, source=ledger_path.name, fingerprint=fingerprint_of(ledger_path, len(frame)))
-    build = build_scorecard(ledger, settings, progress=lambda items: streams.progress(items, "classing"), timings=timings)
+    if options.stream or should_stream(ledger_path, settings):
+        streams.note(f"reading {ledger_path.name} in batches of about {STREAM_BATCH_ROWS:,} rows")
+        data = ledger_path
+    else:
+        with clock("read"):
+            frame = read_ledger(ledger_path)
+        streams.note(f"read {len(frame):,} rows and {frame.shape[1]} columns from {ledger_path.name}")
+        with clock("intake"):
+            data = prepare_ledger(frame, settings, source=ledger_path.name, fingerprint=fingerprint_of(ledger_path, len(frame)))
+    build = build_scorecard(data, settings, progress=lambda items: streams.progress(items, "classing"), timings=timings,
+                            stream=bool(options.stream) or None)
     resolved = replace(build.settings, ledger=replace(build.settings.ledger, path=os.path.relpath(ledger_path.resolve(), out.resolve())))
     with clock("model file"):
         document = model_document(replace(build, settings=resolved))

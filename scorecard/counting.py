@@ -155,6 +155,14 @@ def pattern_table(codes: np.ndarray, goods: np.ndarray, bads: np.ndarray, *,
     return PatternTable(tuple(characteristics), pattern_codes, pattern_goods, pattern_bads)
 
 
+def merge_pattern_tables(tables: Sequence[PatternTable]) -> PatternTable:
+    """Return the pattern table of several batches' tables together (patterns merged, counts added)."""
+    if len(tables) == 1:
+        return tables[0]
+    return pattern_table(np.concatenate([t.codes for t in tables]), np.concatenate([t.goods for t in tables]),
+                         np.concatenate([t.bads for t in tables]), characteristics=tables[0].characteristics)
+
+
 def pattern_keys(codes: np.ndarray) -> np.ndarray:
     """Return one int64 key per row that is equal exactly when the rows' codes are equal.
 

@@ -145,6 +145,15 @@ def read_ledger(source: str | os.PathLike[str] | pd.DataFrame, *, columns: Seque
         if len(source) == 0:
             raise LedgerError("DataFrame: the ledger has no rows. Pass a ledger with at least one application.")
         return source
+    path, suffix = _checked_file(source)
+    frame = _read_frame(path, suffix, columns)
+    if len(frame) == 0:
+        raise LedgerError(f"{path.name}: the file has a header but no data rows. Export the ledger again with its data.")
+    return frame
+
+
+def _checked_file(source: str | os.PathLike[str]) -> tuple[Path, str]:
+    """Check a ledger file exists, has a known type, is not empty and has unique column names."""
     path = Path(source)
     name = path.name
     if not path.exists():
@@ -156,12 +165,8 @@ def read_ledger(source: str | os.PathLike[str] | pd.DataFrame, *, columns: Seque
         raise LedgerError(f"{path}: unknown ledger file type {suffix or '(no suffix)'!r}. Use a .csv, .parquet or .xlsx file.")
     if path.stat().st_size == 0:
         raise LedgerError(f"{name}: the file is empty. Export the ledger again with a header row and data rows.")
-    header = _read_header(path, suffix)
-    _check_column_names(header, name)
-    frame = _read_frame(path, suffix, columns)
-    if len(frame) == 0:
-        raise LedgerError(f"{name}: the file has a header but no data rows. Export the ledger again with its data.")
-    return frame
+    _check_column_names(_read_header(path, suffix), name)
+    return path, suffix
 
 
 def _read_header(path: Path, suffix: str) -> list[str]:
@@ -261,25 +266,45 @@ def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "Da
         weights are negative, missing or not finite, a characteristic holds infinite values, or
         the special columns are wrong.
     """
-    repairs: list[str] = []
     roles = _role_columns(frame, settings, source, require_outcome)
-    outcome = _map_outcome(frame, settings, source, require_outcome, repairs)
-    weight = _weights(frame, settings.ledger.weight_column, source)
-    dates = _dates(frame, settings.ledger.date_column, source) if settings.ledger.date_column else None
     characteristics, left_out = _choose_characteristics(frame, settings, roles, source)
-    notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
-    _check_finite(frame, characteristics, source)
+    check_finite(frame, characteristics, source)
+    outcome, weight, dates = role_values(frame, settings, source)
+    repairs = check_roles(outcome, weight, settings, source, require_outcome=require_outcome)
     sample = split_samples(outcome, dates, settings, source=source)
     ids = frame[settings.ledger.id_column].to_numpy() if settings.ledger.id_column else None
     kept = frame[[c.name for c in characteristics]]
     if fingerprint is None:
         fingerprint = fingerprint_of(frame, len(frame))
+    notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
     for note in repairs:
         warnings.warn(note, ScorecardWarning, stacklevel=2)
     return Ledger(
         source=source, frame=kept, characteristics=tuple(characteristics), outcome=outcome, weight=weight,
         sample=sample, dates=dates, ids=ids, notes=tuple(notes), fingerprint=fingerprint, left_out=left_out,
     )
+
+
+def role_values(frame: pd.DataFrame, settings: Settings, source: str, *, first_row: int = 0):
+    """Return the outcome code, weight and date (or None) of every row, checking each value."""
+    outcome = map_outcome(frame, settings, source, first_row=first_row)
+    weight = _weights(frame, settings.ledger.weight_column, source, first_row=first_row)
+    column = settings.ledger.date_column
+    dates = _dates(frame, column, source, first_row=first_row) if column and column in frame.columns else None
+    return outcome, weight, dates
+
+
+def check_roles(outcome: np.ndarray, weight: np.ndarray, settings: Settings, source: str, *,
+                require_outcome: bool) -> list[str]:
+    """Check the whole ledger's outcomes and weights; return the notes of what was repaired."""
+    column = settings.outcome.column
+    if settings.ledger.weight_column and len(weight) and weight.sum() <= 0:
+        raise LedgerError(f"{source}, column {settings.ledger.weight_column!r}: every weight is 0. Give the rows positive weights.")
+    if not require_outcome:
+        return []
+    _check_both_classes(outcome, source, column)
+    note = unknown_outcome_note(outcome, source, column)
+    return [note] if note else []
 
 
 def _role_columns(frame: pd.DataFrame, settings: Settings, source: str, require_outcome: bool) -> set[str]:
@@ -332,7 +357,15 @@ def default_outcome_mapping(values: Sequence[str]) -> tuple[tuple[str, ...], tup
     return None
 
 
-def _map_outcome(frame: pd.DataFrame, settings: Settings, source: str, require_outcome: bool, notes: list[str]) -> np.ndarray:
+def map_outcome(frame: pd.DataFrame, settings: Settings, source: str, *, first_row: int = 0) -> np.ndarray:
+    """Return the outcome code of every row (unknown where the column is absent or empty).
+
+    Raises
+    ------
+    LedgerError
+        A value is not in the outcome mapping; the message names the values, their counts and
+        the first rows (``first_row`` is the position of the frame's first row in the ledger).
+    """
     column = settings.outcome.column
     if not column or column not in frame.columns:
         return np.full(len(frame), UNKNOWN, dtype=np.int8)
@@ -342,24 +375,27 @@ def _map_outcome(frame: pd.DataFrame, settings: Settings, source: str, require_o
     unmapped = [(k, int(np.count_nonzero(codes == i))) for i, k in enumerate(keys) if k not in mapping]
     if unmapped:
         shown = ", ".join(f"{k!r} ({_n_rows(n)})" for k, n in unmapped[:8]) + (f" and {len(unmapped) - 8} more" if len(unmapped) > 8 else "")
-        first_rows = np.flatnonzero(np.isin(codes, [keys.index(k) for k, _ in unmapped]))+ 2
+        first_rows = np.flatnonzero(np.isin(codes, [keys.index(k) for k, _ in unmapped])) + 2 + first_row
         raise LedgerError(
             f"{source}, column {column!r}, {describe_rows(first_rows.tolist())}: "
             f"value{'s' if len(unmapped) > 1 else ''} {shown} {'are' if len(unmapped) > 1 else 'is'} not a mapped outcome. "
             "Add each under [outcome] in the settings file as good, bad or indeterminate (or use --bad/--good)."
         )
     lookup = np.array([mapping[k] for k in keys] + [UNKNOWN], dtype=np.int8)
-    outcome = lookup[codes]  # the sentinel -1 picks the last entry: unknown
-    n_unknown = int(np.count_nonzero(codes < 0))
-    if n_unknown and require_outcome:
-        rows = describe_rows((np.flatnonzero(codes < 0)+ 2).tolist())
-        notes.append(
-            f"{source}, column {column!r}, {rows}: {_n_rows(n_unknown)} {'has' if n_unknown == 1 else 'have'} no outcome; they are left out of fitting and "
-            "the checks that need outcomes, and kept for stability checks."
-        )
-    if require_outcome:
-        _check_both_classes(outcome, source, column)
-    return outcome
+    return lookup[codes]  # the sentinel -1 picks the last entry: unknown
+
+
+def unknown_outcome_note(outcome: np.ndarray, source: str, column: str) -> str:
+    """Say how many rows have no outcome (and which), or return ''."""
+    unknown = np.flatnonzero(outcome == UNKNOWN)
+    if not len(unknown):
+        return ""
+    n_unknown = len(unknown)
+    return (
+        f"{source}, column {column!r}, {describe_rows((unknown + 2).tolist())}: {_n_rows(n_unknown)} "
+        f"{'has' if n_unknown == 1 else 'have'} no outcome; they are left out of fitting and the checks that need "
+        "outcomes, and kept for stability checks."
+    )
 
 
 def _outcome_mapping(settings: Settings, keys: Sequence[str]) -> dict[str, int]:
@@ -386,7 +422,7 @@ def _check_both_classes(outcome: np.ndarray, source: str, column: str) -> None:
         )
 
 
-def _weights(frame: pd.DataFrame, column: str, source: str) -> np.ndarray:
+def _weights(frame: pd.DataFrame, column: str, source: str, *, first_row: int = 0) -> np.ndarray:
     if not column:
         return np.ones(len(frame))
     values = pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
@@ -397,23 +433,21 @@ def _weights(frame: pd.DataFrame, column: str, source: str) -> np.ndarray:
     ]
     for what, bad in problems:
         if bad.any():
-            rows = describe_rows((np.flatnonzero(bad)+ 2).tolist())
+            rows = describe_rows((np.flatnonzero(bad) + 2 + first_row).tolist())
             shown = _plain(frame[column].iloc[int(np.flatnonzero(bad)[0])])
             raise LedgerError(
                 f"{source}, column {column!r}, {rows}: weight {shown!r} is {what} ({_n_rows(int(bad.sum()))}). "
                 "Every weight must be a finite number of 0 or more; fix those rows or remove weight_column from the settings."
             )
-    if values.sum() <= 0:
-        raise LedgerError(f"{source}, column {column!r}: every weight is 0. Give the rows positive weights.")
     return values
 
 
-def _dates(frame: pd.DataFrame, column: str, source: str) -> np.ndarray:
+def _dates(frame: pd.DataFrame, column: str, source: str, *, first_row: int = 0) -> np.ndarray:
     raw = frame[column]
     parsed = pd.to_datetime(raw, errors="coerce", format="ISO8601") if not pd.api.types.is_datetime64_any_dtype(raw) else raw
     bad = parsed.isna().to_numpy() & raw.notna().to_numpy()
     if bad.any():
-        rows = describe_rows((np.flatnonzero(bad)+ 2).tolist())
+        rows = describe_rows((np.flatnonzero(bad) + 2 + first_row).tolist())
         raise LedgerError(
             f"{source}, column {column!r}, {rows}: {_plain(raw.iloc[int(np.flatnonzero(bad)[0])])!r} is not a date "
             f"({_n_rows(int(bad.sum()))}). Write dates as YYYY-MM-DD."
@@ -507,18 +541,158 @@ def _numeric_or_empty(series: pd.Series) -> bool:
     return pd.api.types.is_numeric_dtype(series) and not pd.api.types.is_bool_dtype(series)
 
 
-def _check_finite(frame: pd.DataFrame, characteristics: Sequence[Characteristic], source: str) -> None:
+def check_finite(frame: pd.DataFrame, characteristics: Sequence[Characteristic], source: str, *, first_row: int = 0) -> None:
+    """Raise LedgerError naming a numeric characteristic with infinite values, its count and first rows."""
     for char in characteristics:
         if char.kind != NUMERIC:
             continue
         values = frame[char.name].to_numpy(dtype=float, na_value=np.nan)
         infinite = np.isinf(values)
         if infinite.any():
-            rows = describe_rows((np.flatnonzero(infinite)+ 2).tolist())
+            rows = describe_rows((np.flatnonzero(infinite) + 2 + first_row).tolist())
             raise LedgerError(
                 f"{source}, column {char.name!r}, {rows}: {int(infinite.sum())} infinite values. "
                 "Replace them with a number, leave them empty (missing), or declare a special value."
             )
+
+
+# --------------------------------------------------------------------------------------------
+# Ledgers read in batches (larger than memory)
+
+HEAD_ROWS = 20_000  # kinds and left-out columns are judged on the first rows of a streamed ledger
+STREAM_BATCH_ROWS = 500_000
+STREAMABLE = (".csv", ".txt", ".parquet", ".pq")
+
+
+def should_stream(path: str | os.PathLike[str], settings: Settings) -> bool:
+    """Whether a ledger file is large enough (``ledger.stream_above_mb``) to be read in batches."""
+    path = Path(path)
+    return path.suffix.lower() in STREAMABLE and path.exists() and path.stat().st_size > settings.ledger.stream_above_mb * 2**20
+
+
+def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, batch_rows: int = STREAM_BATCH_ROWS,
+                  require_outcome: bool = True):
+    """Check a ledger read in batches; return the ledger's row-level roles and a way to read its batches.
+
+    Parameters
+    ----------
+    source : path-like
+        A CSV or Parquet file.
+    settings : Settings
+    batch_rows : int
+        Rows per batch (Parquet; CSV batches are about that size).
+    require_outcome : bool
+        As for ``prepare_ledger``.
+
+    Returns
+    -------
+    (Ledger, callable)
+        The ledger holds outcome, weight, sample and date per row but no characteristic values
+        (its frame has no rows); ``batches(columns)`` returns a fresh iterator of ``(first row,
+        frame)`` over the file, each batch checked as it is read.
+
+    Notes
+    -----
+    Pass 1 reads the outcome, weight and date columns only; the characteristics' kinds and
+    left-out columns are judged on the first ``HEAD_ROWS`` rows (set them in the settings file to
+    decide yourself). The samples are split exactly as for a ledger held in memory.
+    """
+    path, suffix = _checked_file(source)
+    if suffix not in STREAMABLE:
+        raise LedgerError(f"{path.name}: only CSV and Parquet ledgers can be read in batches. Convert it, or read it whole.")
+    source_name = path.name
+    head = _read_head(path, suffix)
+    if len(head) == 0:
+        raise LedgerError(f"{source_name}: the file has a header but no data rows. Export the ledger again with its data.")
+    roles = _role_columns(head, settings, source_name, require_outcome)
+    characteristics, left_out = _choose_characteristics(head, settings, roles, source_name)
+    types = _arrow_types(head)
+    role_columns = [c for c in (settings.outcome.column, settings.ledger.weight_column, settings.ledger.date_column)
+                    if c and c in head.columns]
+
+    def batches(columns: Sequence[str]):
+        wanted = [c.name for c in characteristics if c.name in columns]
+        for first_row, frame in _file_batches(path, suffix, list(columns), types, batch_rows):
+            check_finite(frame, [c for c in characteristics if c.name in wanted], source_name, first_row=first_row)
+            yield first_row, frame
+
+    parts = [role_values(frame, settings, source_name, first_row=first_row)
+             for first_row, frame in _file_batches(path, suffix, role_columns or list(head.columns[:1]), types, batch_rows)]
+    outcome = np.concatenate([p[0] for p in parts])
+    weight = np.concatenate([p[1] for p in parts])
+    dates = np.concatenate([p[2] for p in parts]) if settings.ledger.date_column else None
+    repairs = check_roles(outcome, weight, settings, source_name, require_outcome=require_outcome)
+    sample = split_samples(outcome, dates, settings, source=source_name)
+    notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
+    for note in repairs:
+        warnings.warn(note, ScorecardWarning, stacklevel=2)
+    ledger = Ledger(
+        source=source_name, frame=head.iloc[:0][[c.name for c in characteristics]], characteristics=tuple(characteristics),
+        outcome=outcome, weight=weight, sample=sample, dates=dates, ids=None, notes=tuple(notes),
+        fingerprint=fingerprint_of(path, len(outcome)), left_out=left_out,
+    )
+    return ledger, batches
+
+
+def _read_head(path: Path, suffix: str) -> pd.DataFrame:
+    if suffix in (".parquet", ".pq"):
+        import pyarrow.parquet as pq
+
+        batch = next(pq.ParquetFile(path).iter_batches(batch_size=HEAD_ROWS), None)
+        return batch.to_pandas() if batch is not None else pd.read_parquet(path)
+    return pd.read_csv(path, nrows=HEAD_ROWS, encoding="utf-8-sig", low_memory=False)
+
+
+def _arrow_types(head: pd.DataFrame) -> dict[str, object]:
+    """Column types for reading batches: numbers as float64, everything else as text."""
+    import pyarrow as pa
+
+    return {str(c): pa.float64() if detect_kind(head[c]) == NUMERIC else pa.string() for c in head.columns}
+
+
+def _file_batches(path: Path, suffix: str, columns: list[str], types: dict[str, object], batch_rows: int):
+    """Yield (first row, frame) over a CSV or Parquet file, reading only ``columns``."""
+    first_row = 0
+    try:
+        for batch in _arrow_batches(path, suffix, columns, types, batch_rows):
+            frame = batch.to_pandas()
+            yield first_row, frame
+            first_row += len(frame)
+    except LedgerError:
+        raise
+    except Exception as error:  # a reader failure part-way is the file's fault here
+        raise LedgerError(
+            f"{path.name}, after row {first_row + 1}: cannot read the next rows ({type(error).__name__}: {error}). "
+            "A column may hold text where the first rows hold numbers; fix the file or set the column's kind."
+        ) from None
+
+
+def _block_bytes(path: Path, batch_rows: int) -> int:
+    """Bytes of CSV that hold about ``batch_rows`` rows, judged from the first megabyte."""
+    with path.open("rb") as stream:
+        start = stream.read(1 << 20)
+    per_row = len(start) / max(start.count(b"\n"), 1)
+    return int(min(max(batch_rows * per_row, 1 << 16), 1 << 30))
+
+
+def _arrow_batches(path: Path, suffix: str, columns: list[str], types: dict[str, object], batch_rows: int):
+    if suffix in (".parquet", ".pq"):
+        import pyarrow.parquet as pq
+
+        yield from pq.ParquetFile(path).iter_batches(batch_size=batch_rows, columns=columns)
+        return
+    import pyarrow.csv as pacsv
+
+    from pandas._libs.parsers import STR_NA_VALUES  # the same empty-value words as a whole read
+
+    reader = pacsv.open_csv(
+        path, read_options=pacsv.ReadOptions(block_size=_block_bytes(path, batch_rows), encoding="utf8"),
+        convert_options=pacsv.ConvertOptions(
+            include_columns=columns, column_types={c: types[c] for c in columns},
+            null_values=sorted(STR_NA_VALUES), strings_can_be_null=True, quoted_strings_can_be_null=True,
+        ),
+    )
+    yield from reader
 
 
 # --------------------------------------------------------------------------------------------

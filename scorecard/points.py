@@ -348,6 +348,18 @@ def score_histogram(scores: np.ndarray, is_good: np.ndarray, is_bad: np.ndarray,
     return ScoreHistogram(sample, _frozen(distinct), _frozen(goods), _frozen(bads), _frozen(others))
 
 
+def merge_histograms(histograms: Sequence[ScoreHistogram]) -> ScoreHistogram:
+    """Return the histogram of several batches of one sample together."""
+    if len(histograms) == 1:
+        return histograms[0]
+    distinct, inverse = np.unique(np.concatenate([h.scores for h in histograms]), return_inverse=True)
+
+    def added(field: str) -> np.ndarray:
+        return _frozen(np.bincount(inverse, weights=np.concatenate([getattr(h, field) for h in histograms]), minlength=len(distinct)))
+
+    return ScoreHistogram(histograms[0].sample, _frozen(distinct), added("goods"), added("bads"), added("others"))
+
+
 # --------------------------------------------------------------------------------------------
 # The scorecard as an object that scores a DataFrame
 

@@ -1,0 +1,76 @@
+"""A ledger read in batches gives exactly the model of the same ledger read whole."""
+
+from __future__ import annotations
+
+import io
+import json
+import warnings
+
+import numpy as np
+import pytest
+
+from scorecard.build import build_scorecard
+from scorecard.cli import main
+from scorecard.demo.generator import generate_ledger, write_ledger
+from scorecard.errors import LedgerError
+from scorecard.ledger import stream_ledger
+from scorecard.modelfile import model_document
+from scorecard.settings import Settings
+
+BATCH_ROWS = 1_700  # small, so that a 9000-row ledger is read in several batches, the last one short
+
+
+def _settings():
+    return Settings().replace(
+        outcome={"column": "outcome", "bad": ("bad",), "good": ("good",), "indeterminate": ("indeterminate",)},
+        ledger={"id_column": "application_id", "date_column": "application_date", "leave_out": ("collections_status",)},
+        samples={"out_of_time_from": "2025-07-01"},
+        selection={"sample_rows": 2_000},  # the choice on a sample: its rows must be the same ones too
+    )
+
+
+@pytest.fixture(scope="module")
+def ledgers(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("stream")
+    frame = generate_ledger(9000, seed=11)
+    return write_ledger(frame, folder / "ledger.csv"), write_ledger(frame, folder / "ledger.parquet")
+
+
+@pytest.mark.parametrize("kind", ["csv", "parquet"])
+def test_streamed_build_equals_the_build_in_memory(ledgers, kind):
+    path = ledgers[0] if kind == "csv" else ledgers[1]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        whole = model_document(build_scorecard(path, _settings(), stream=False))
+        streamed = model_document(build_scorecard(path, _settings(), stream=True, batch_rows=BATCH_ROWS))
+    # the model file's content, to the last decimal (integer weights make every sum exact)
+    assert json.dumps(streamed, sort_keys=True) == json.dumps(whole, sort_keys=True)
+
+
+def test_the_ledger_is_really_read_in_several_batches(ledgers):
+    for path in ledgers:
+        ledger, batches = stream_ledger(path, _settings(), batch_rows=BATCH_ROWS)
+        sizes = [len(frame) for _, frame in batches(["monthly_income"])]
+        assert len(sizes) >= 3 and sum(sizes) == ledger.n_rows == 9000
+        assert ledger.frame.empty  # no characteristic values are held
+
+
+def test_bad_values_in_a_later_batch_name_their_rows(tmp_path):
+    frame = generate_ledger(6000, seed=3)
+    frame["outcome"] = frame["outcome"].astype(str)
+    frame.loc[5000, "outcome"] = "maybe"
+    path = write_ledger(frame, tmp_path / "ledger.parquet")
+    with pytest.raises(LedgerError, match=r"column 'outcome', row 5002: value 'maybe' \(1 row\)"):
+        stream_ledger(path, _settings(), batch_rows=BATCH_ROWS)
+
+
+def test_build_command_streams_on_request(ledgers, tmp_path):
+    settings = tmp_path / "scorecard.toml"
+    out, err = io.StringIO(), io.StringIO()
+    assert main(["init", str(ledgers[0]), "--target", "outcome", "--bad", "bad", "--good", "good", "--indeterminate",
+                 "indeterminate", "--leave-out", "collections_status", "--out", str(settings)], stdout=out, stderr=err) == 0
+    codes = [main(["build", str(settings), "--out", str(tmp_path / name), "--no-reports", "-q", *extra],
+                  stdout=io.StringIO(), stderr=io.StringIO()) for name, extra in (("whole", []), ("streamed", ["--stream"]))]
+    assert codes == [0, 0]
+    assert (tmp_path / "whole" / "model.json").read_bytes() == (tmp_path / "streamed" / "model.json").read_bytes()
+    assert np.isfinite(json.loads((tmp_path / "streamed" / "model.json").read_text())["performance"]["hold-out"]["auc"])
