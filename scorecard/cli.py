@@ -105,6 +105,7 @@ class ScoreOptions:
     out: Path
     reasons: int | None = None
     force: bool = False
+    stream: bool = False
 
 
 @dataclass(frozen=True)
@@ -116,6 +117,7 @@ class MonitorOptions:
     out: Path | None = None
     fail_on: str | None = None
     force: bool = False
+    stream: bool = False
 
 
 @dataclass(frozen=True)
@@ -303,8 +305,9 @@ def _add_score(commands) -> None:
     parser.add_argument("--out", type=Path, required=True, metavar="FILE", help="scored file to write (.csv or .parquet)")
     parser.add_argument("--reasons", type=int, metavar="N", help="reasons per application (default: reasons.count of the model's settings)")
     parser.add_argument("--force", action="store_true", help="overwrite FILE if it exists")
+    parser.add_argument("--stream", action="store_true", help="read and write in batches (automatic above ledger.stream_above_mb)")
     _add_common(parser)
-    parser.set_defaults(make_options=lambda a: ScoreOptions(a.model, a.ledger, a.out, a.reasons, a.force), run=_run_score)
+    parser.set_defaults(make_options=lambda a: ScoreOptions(a.model, a.ledger, a.out, a.reasons, a.force, a.stream), run=_run_score)
 
 
 def _add_monitor(commands) -> None:
@@ -327,8 +330,9 @@ def _add_monitor(commands) -> None:
     parser.add_argument("--out", type=Path, metavar="DIR", help="output folder (default: NAME-monitor beside the ledger)")
     parser.add_argument("--fail-on", choices=("watch", "act"), help="exit with 1 when any check reaches this status")
     parser.add_argument("--force", action="store_true", help="write into the output folder even if it exists")
+    parser.add_argument("--stream", action="store_true", help="read the ledger in batches (automatic above ledger.stream_above_mb)")
     _add_common(parser)
-    parser.set_defaults(make_options=lambda a: MonitorOptions(a.model, a.ledger, a.out, a.fail_on, a.force), run=_run_monitor)
+    parser.set_defaults(make_options=lambda a: MonitorOptions(a.model, a.ledger, a.out, a.fail_on, a.force, a.stream), run=_run_monitor)
 
 
 def _run_monitor(options: MonitorOptions, streams: Streams) -> int:

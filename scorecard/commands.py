@@ -16,6 +16,7 @@ from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
+import pandas as pd
 
 from .build import ClassedLedger, Stopwatch, build_scorecard, class_ledger
 from .classing import classing_settings_values
@@ -24,11 +25,12 @@ from .cli import (
 )
 from .errors import LedgerError, SettingsError
 from .ledger import (
-    NUMERIC, STREAM_BATCH_ROWS, closest_names, default_outcome_mapping, detect_kind, fingerprint_of,
-    looks_like_identifier_or_date, outcome_key, prepare_ledger, read_ledger, should_stream,
+    NUMERIC, closest_names, default_outcome_mapping, detect_kind, fingerprint_of,
+    ledger_columns, looks_like_identifier_or_date, outcome_key, prepare_ledger, read_batches, read_ledger, should_stream,
+    stream_ledger,
 )
 from .modelfile import load_model, model_document, save_model
-from .monitor import STATUSES, monitor_ledger
+from .monitor import STATUSES, monitor_batches, monitor_ledger
 from .settings import (
     CharacteristicSettings, Settings, edit_settings, read_settings, settings_from_mapping, settings_to_mapping, write_settings,
     write_text_atomically,
@@ -221,7 +223,7 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     out = options.out or ledger_path.parent / f"{options.source.stem}-build"
     check_output_folder(out, options.force)
     if options.stream or should_stream(ledger_path, settings):
-        streams.note(f"reading {ledger_path.name} in batches of about {STREAM_BATCH_ROWS:,} rows")
+        streams.note(f"reading {ledger_path.name} in batches of about {settings.ledger.batch_rows:,} rows")
         data = ledger_path
     else:
         with clock("read"):
@@ -230,7 +232,7 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
         with clock("intake"):
             data = prepare_ledger(frame, settings, source=ledger_path.name, fingerprint=fingerprint_of(ledger_path, len(frame)))
     build = build_scorecard(data, settings, progress=lambda items: streams.progress(items, "classing"), timings=timings,
-                            stream=bool(options.stream) or None)
+                            stream=bool(options.stream) or None, batch_rows=settings.ledger.batch_rows)
     resolved = replace(build.settings, ledger=replace(build.settings.ledger, path=os.path.relpath(ledger_path.resolve(), out.resolve())))
     with clock("model file"):
         document = model_document(replace(build, settings=resolved))
@@ -324,46 +326,78 @@ def _aligned(rows, *, numeric=()) -> list[str]:
 
 
 def run_score(options: ScoreOptions, streams: Streams) -> int:
-    """Score a ledger with a saved model and write the scored file."""
+    """Score a ledger with a saved model and write the scored file (batch by batch for a large ledger)."""
     if options.out.exists() and not options.force:
         raise SettingsError(f"{options.out}: the file exists. Pass --force to overwrite it, or choose another --out.")
     if options.out.suffix.lower() not in (".csv", ".parquet"):
         raise SettingsError(f"{options.out}: write the scored file as .csv or .parquet.")
     saved = load_model(options.model)
-    frame = read_ledger(options.ledger)
     scorecard = saved.scorecard
     count = saved.settings.reasons.count if options.reasons is None else options.reasons
     if count < 0:
         raise SettingsError(f"--reasons {count}: give 0 or more reasons.")
-    scored = scorecard.score(frame, reason_count=count, source=options.ledger.name)
-    for name, levels in scorecard.unseen(frame).items():
+    source = options.ledger.name
+    if options.stream or should_stream(options.ledger, saved.settings):
+        columns = ledger_columns(options.ledger)
+        wanted = [b.characteristic for b in scorecard.binnings] + ([scorecard.id_column] if scorecard.id_column in columns else [])
+        missing = [b.characteristic for b in scorecard.binnings if b.characteristic not in columns]
+        if missing:
+            scorecard.codes(pd.DataFrame(columns=columns), source=source)  # raises, naming the missing columns
+        batches = read_batches(options.ledger, wanted, batch_rows=saved.settings.ledger.batch_rows)
+    else:
+        batches = iter([(0, read_ledger(options.ledger))])
+    unseen: dict[str, dict[str, int]] = {}
+    summary = {"rows": 0, "low": np.inf, "high": -np.inf}
+
+    def scored_batches():
+        for first_row, frame in batches:
+            scored = scorecard.score(frame, reason_count=count, source=source)
+            for name, levels in scorecard.unseen(frame).items():
+                for level, n in levels.items():
+                    unseen.setdefault(name, {})[level] = unseen.get(name, {}).get(level, 0) + n
+            if scorecard.id_column and scorecard.id_column in frame.columns:
+                scored.insert(0, scorecard.id_column, frame[scorecard.id_column].to_numpy())
+            else:  # as a spreadsheet numbers them: the header is row 1
+                scored.insert(0, "row", np.arange(first_row + 2, first_row + len(frame) + 2))
+            summary["rows"] += len(scored)
+            summary["low"] = min(summary["low"], scored["score"].min())
+            summary["high"] = max(summary["high"], scored["score"].max())
+            yield scored
+
+    write_tables_atomically(scored_batches(), options.out)
+    for name, levels in unseen.items():
         shown = ", ".join(f"{level!r} ({n} rows)" for level, n in list(levels.items())[:5])
         fallback = next(b for b in scorecard.binnings if b.characteristic == name)
-        streams.warn(f"{options.ledger.name}, column {name!r}: levels never seen at build time: {shown}"
+        streams.warn(f"{source}, column {name!r}: levels never seen at build time: {shown}"
                      f"{' and more' if len(levels) > 5 else ''}; scored as {fallback.labels[fallback.fallback_bin]!r}.")
-    id_column = scorecard.id_column
-    if id_column and id_column in frame.columns:
-        scored.insert(0, id_column, frame[id_column].to_numpy())
-    else:
-        scored.insert(0, "row", np.arange(2, len(frame) + 2))  # as a spreadsheet numbers them: header is row 1
-    write_table_atomically(scored, options.out)
-    streams.note(f"scored {len(scored):,} applications; scores from {scored['score'].min():g} to {scored['score'].max():g}")
+    streams.note(f"scored {summary['rows']:,} applications; scores from {summary['low']:g} to {summary['high']:g}")
     streams.say(f"written: {options.out}")
     return EXIT_OK
 
 
-def write_table_atomically(frame, path: Path) -> Path:
-    """Write a table as CSV or Parquet under a temporary name, then rename it into place."""
+def write_tables_atomically(frames, path: Path) -> Path:
+    """Write a sequence of tables (same columns) as one CSV or Parquet file, under a temporary name, then rename."""
     path.parent.mkdir(parents=True, exist_ok=True)
     handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
     os.close(handle)
+    writer = None
     try:
-        if path.suffix.lower() == ".parquet":
-            frame.to_parquet(temporary, index=False)
-        else:
-            frame.to_csv(temporary, index=False)
+        for index, frame in enumerate(frames):
+            if path.suffix.lower() == ".parquet":
+                import pyarrow as pa
+                import pyarrow.parquet as pq
+
+                table = pa.Table.from_pandas(frame, preserve_index=False)
+                writer = writer or pq.ParquetWriter(temporary, table.schema)
+                writer.write_table(table.cast(writer.schema))
+            else:
+                frame.to_csv(temporary, index=False, mode="w" if index == 0 else "a", header=index == 0)
+        if writer is not None:
+            writer.close()
         os.replace(temporary, path)
     except BaseException:
+        if writer is not None:
+            writer.close()
         Path(temporary).unlink(missing_ok=True)
         raise
     return path
@@ -381,12 +415,18 @@ def run_monitor(options: MonitorOptions, streams: Streams) -> int:
     out = options.out or options.ledger.parent / f"{options.ledger.stem}-monitor"
     check_output_folder(out, options.force)
     saved = load_model(options.model)
-    frame = read_ledger(options.ledger)
     source = options.ledger.name
-    streams.note(f"read {len(frame):,} rows from {source}")
-    ledger = prepare_ledger(frame, monitoring_settings(saved.settings, frame), source=source,
-                            fingerprint=fingerprint_of(options.ledger, len(frame)), require_outcome=False)
-    result = monitor_ledger(saved, frame, ledger.outcome, ledger.weight, ledger.dates, source=source)
+    if options.stream or should_stream(options.ledger, saved.settings):
+        settings = monitoring_settings(saved.settings, ledger_columns(options.ledger))
+        streams.note(f"reading {source} in batches of about {settings.ledger.batch_rows:,} rows")
+        ledger, batches = stream_ledger(options.ledger, settings, require_outcome=False, batch_rows=settings.ledger.batch_rows)
+        result = monitor_batches(saved, batches, ledger.outcome, ledger.weight, ledger.dates, source=source)
+    else:
+        frame = read_ledger(options.ledger)
+        streams.note(f"read {len(frame):,} rows from {source}")
+        ledger = prepare_ledger(frame, monitoring_settings(saved.settings, frame.columns), source=source,
+                                fingerprint=fingerprint_of(options.ledger, len(frame)), require_outcome=False)
+        result = monitor_ledger(saved, frame, ledger.outcome, ledger.weight, ledger.dates, source=source)
     for note in (*ledger.notes, *result.notes):
         if note not in ledger.left_out.values() and "left out:" not in note:
             streams.note(note)
@@ -406,9 +446,9 @@ def run_monitor(options: MonitorOptions, streams: Streams) -> int:
     return EXIT_CHECK_FAILED if result.status in failing else EXIT_OK
 
 
-def monitoring_settings(settings: Settings, frame) -> Settings:
+def monitoring_settings(settings: Settings, columns) -> Settings:
     """Return the model's settings fitted to a new ledger: no samples, role columns only where present."""
-    columns = {str(c) for c in frame.columns}
+    columns = {str(c) for c in columns}
     ledger = settings.ledger
 
     def present(column: str) -> str:

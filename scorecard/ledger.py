@@ -634,6 +634,30 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, batch_r
     return ledger, batches
 
 
+def ledger_columns(source: str | os.PathLike[str]) -> list[str]:
+    """Return a ledger file's column names, checking the file as ``read_ledger`` does."""
+    path, suffix = _checked_file(source)
+    return _read_header(path, suffix)
+
+
+def read_batches(source: str | os.PathLike[str], columns: Sequence[str], *, batch_rows: int = STREAM_BATCH_ROWS):
+    """Yield (first row, frame) over a CSV or Parquet ledger, reading only ``columns``, checked as a whole read is.
+
+    Raises
+    ------
+    LedgerError
+        The file cannot be read, or a named column is not in it.
+    """
+    path, suffix = _checked_file(source)
+    if suffix not in STREAMABLE:
+        raise LedgerError(f"{path.name}: only CSV and Parquet ledgers can be read in batches. Convert it, or read it whole.")
+    head = _read_head(path, suffix)
+    absent = [c for c in columns if c not in head.columns]
+    if absent:
+        raise LedgerError(f"{path.name}: column {absent[0]!r} not found.{closest_names(absent[0], [str(c) for c in head.columns])}")
+    yield from _file_batches(path, suffix, list(columns), _arrow_types(head), batch_rows)
+
+
 def _read_head(path: Path, suffix: str) -> pd.DataFrame:
     if suffix in (".parquet", ".pq"):
         import pyarrow.parquet as pq

@@ -31,7 +31,7 @@ from .checks import AucShortfall, PsiResult, auc_shortfall, holm, score_psi
 from .errors import LedgerError
 from .ledger import BAD, GOOD, UNKNOWN
 from .modelfile import SavedModel
-from .points import ScoreHistogram, score_codes, score_histogram
+from .points import ScoreHistogram, merge_histograms, score_codes, score_histogram
 from .settings import CheckSettings
 from .validation import CharacteristicStability, SampleChecks, band_edges, characteristic_stability, sample_checks
 
@@ -167,63 +167,83 @@ def monitor_ledger(saved: SavedModel, frame, outcome: np.ndarray, weight: np.nda
         A characteristic is missing, the ledger has no rows, or a calendar quarter between the
         first and the last has no rows.
     """
-    if len(frame) == 0:
+    return monitor_batches(saved, lambda columns: iter([(0, frame)]), outcome, weight, dates, source=source)
+
+
+def monitor_batches(saved: SavedModel, batches, outcome: np.ndarray, weight: np.ndarray, dates: np.ndarray | None, *,
+                    source: str = "ledger") -> MonitorResult:
+    """As ``monitor_ledger``, for a ledger read in batches: ``batches(columns)`` yields (first row, frame)."""
+    if len(outcome) == 0:
         raise LedgerError(f"{source}: the ledger has no rows. Give the quarter's applications.")
-    scorecard = saved.scorecard
-    codes = scorecard.codes(frame, source=source)
-    scores = score_codes(codes, scorecard.table)
-    unseen = scorecard.unseen(frame)
     baseline = saved.baseline["development"]
     checks = saved.settings.checks
     edges = band_edges(baseline, checks)
     notes = []
     if not ((outcome == GOOD) | (outcome == BAD)).any():
         notes.append(f"{source}: no row has a known outcome, so only stability is checked (discrimination and calibration need outcomes).")
-    overall = _period("all", np.ones(len(scores), bool), codes, scores, outcome, weight, saved, edges, unseen)
-    quarters = ()
-    if dates is not None:
-        quarters = tuple(
-            _period(label, rows, codes, scores, outcome, weight, saved, edges, {})
-            for label, rows in _quarters(dates, source, notes)
-        )
+    quarter, labels = _quarters(dates, source, notes) if dates is not None else (None, ())
+    parts, unseen = _count_periods(saved, batches, outcome, weight, quarter, labels, source)
+    periods = [
+        check_period(label, merge_histograms(part["histograms"]), part["counts"], saved, edges,
+                     unseen=unseen if label == "all" else {}, unknown=part["unknown"])
+        for label, part in parts.items()
+    ]
     performance = saved.performance.get("development", {})
-    return MonitorResult(source, overall, quarters, baseline, performance, edges, checks, tuple(notes))
+    return MonitorResult(source, periods[0], tuple(periods[1:]), baseline, performance, edges, checks, tuple(notes))
 
 
-def _period(label, rows, codes, scores, outcome, weight, saved: SavedModel, edges, unseen) -> PeriodMonitor:
-    histogram = score_histogram(scores[rows], outcome[rows] == GOOD, outcome[rows] == BAD, weight[rows], sample=label)
-    table = saved.scorecard.table
-    counts = {
-        char.name: np.bincount(codes[rows, j], weights=weight[rows], minlength=len(char.points))
-        for j, char in enumerate(table.characteristics)
-    }
-    known = outcome[rows]
-    return check_period(
-        label, histogram, counts, saved, edges, unseen=unseen,
-        unknown=float(weight[rows][known == UNKNOWN].sum()),
-    )
+def _count_periods(saved: SavedModel, batches, outcome, weight, quarter, labels, source):
+    """One pass: per period, the score histogram and every model characteristic's weighted rows per bin."""
+    scorecard = saved.scorecard
+    table = scorecard.table
+    parts = {label: {"histograms": [], "counts": {c.name: np.zeros(len(c.points)) for c in table.characteristics},
+                     "unknown": 0.0} for label in ("all", *labels)}
+    unseen: dict[str, dict[str, int]] = {}
+    for first_row, frame in batches([b.characteristic for b in scorecard.binnings]):
+        codes = scorecard.codes(frame, source=source)
+        scores = score_codes(codes, table)
+        rows = slice(first_row, first_row + len(frame))
+        for name, levels in scorecard.unseen(frame).items():
+            for level, n in levels.items():
+                unseen.setdefault(name, {})[level] = unseen.get(name, {}).get(level, 0) + n
+        periods = [("all", np.ones(len(frame), bool))]
+        if quarter is not None:
+            periods += [(label, quarter[rows] == index) for index, label in enumerate(labels)]
+        for label, inside in periods:
+            o, w = outcome[rows][inside], weight[rows][inside]
+            part = parts[label]
+            part["histograms"].append(score_histogram(scores[inside], o == GOOD, o == BAD, w, sample=label))
+            for j, char in enumerate(table.characteristics):
+                part["counts"][char.name] += np.bincount(codes[inside, j], weights=w, minlength=len(char.points))
+            part["unknown"] += float(w[o == UNKNOWN].sum())
+    return parts, unseen
 
 
-def _quarters(dates: np.ndarray, source: str, notes: list[str]):
-    """Yield (label, row mask) per calendar quarter from the first to the last; a gap is an error."""
+def _quarters(dates: np.ndarray, source: str, notes: list[str]) -> tuple[np.ndarray, tuple[str, ...]]:
+    """Return each row's calendar quarter (-1: no date) counted from the first, and the quarters' labels.
+
+    Raises
+    ------
+    LedgerError
+        A quarter between the first and the last has no rows.
+    """
     dated = ~np.isnat(dates)
     if not dated.all():
         notes.append(f"{source}: {int((~dated).sum()):,} rows have no date; they count in the whole-ledger checks only.")
-    if not dated.any():
-        return
-    months = dates[dated].astype("datetime64[M]").astype(np.int64)
     quarter = np.full(len(dates), -1, dtype=np.int64)
-    quarter[dated] = months // 3
-    first, last = quarter[dated].min(), quarter[dated].max()
-    counts = np.bincount(quarter[dated] - first, minlength=last - first + 1)
+    if not dated.any():
+        return quarter, ()
+    absolute = dates[dated].astype("datetime64[M]").astype(np.int64) // 3
+    first, last = absolute.min(), absolute.max()
+    quarter[dated] = absolute - first
+    counts = np.bincount(quarter[dated], minlength=last - first + 1)
     empty = [_quarter_label(first + i) for i in np.flatnonzero(counts == 0)]
     if empty:
         raise LedgerError(
             f"{source}: quarter {', '.join(empty)} has no rows, between {_quarter_label(first)} and "
             f"{_quarter_label(last)}. The ledger looks incomplete; add the missing applications or monitor the quarters apart."
         )
-    for index in range(first, last + 1):
-        yield _quarter_label(index), quarter == index
+    return quarter, tuple(_quarter_label(first + i) for i in range(last - first + 1))
 
 
 def _quarter_label(index: int) -> str:

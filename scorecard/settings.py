@@ -57,6 +57,7 @@ class LedgerSettings:
         2048.0, "ledger files larger than this many MB are read in batches, never whole",
         lambda v: v > 0, "a positive size in MB",
     )
+    batch_rows: int = _key(500_000, "rows per batch when a ledger is read in batches", lambda v: v >= 100, "at least 100")
 
 
 @dataclass(frozen=True)

@@ -74,3 +74,29 @@ def test_build_command_streams_on_request(ledgers, tmp_path):
     assert codes == [0, 0]
     assert (tmp_path / "whole" / "model.json").read_bytes() == (tmp_path / "streamed" / "model.json").read_bytes()
     assert np.isfinite(json.loads((tmp_path / "streamed" / "model.json").read_text())["performance"]["hold-out"]["auc"])
+
+
+def test_score_and_monitor_stream_the_same_way(ledgers, tmp_path):
+    settings = tmp_path / "scorecard.toml"
+    quiet = {"stdout": io.StringIO(), "stderr": io.StringIO()}
+    main(["init", str(ledgers[1]), "--target", "outcome", "--bad", "bad", "--good", "good", "--indeterminate",
+          "indeterminate", "--leave-out", "collections_status", "--out", str(settings)], **quiet)
+    main(["set", str(settings), f"ledger.batch_rows={BATCH_ROWS}"], **quiet)  # several batches in every pass
+    assert main(["build", str(settings), "--out", str(tmp_path / "build"), "--no-reports", "-q"], **quiet) == 0
+    model = str(tmp_path / "build" / "model.json")
+    for suffix in ("csv", "parquet"):
+        for mode in ([], ["--stream"]):
+            out = tmp_path / f"scored{''.join(mode)}.{suffix}"
+            assert main(["score", model, str(ledgers[1]), "--out", str(out), *mode], **quiet) == 0
+    import pandas as pd
+
+    whole, streamed = pd.read_csv(tmp_path / "scored.csv"), pd.read_csv(tmp_path / "scored--stream.csv")
+    pd.testing.assert_frame_equal(whole, streamed)
+    pd.testing.assert_frame_equal(pd.read_parquet(tmp_path / "scored.parquet"), pd.read_parquet(tmp_path / "scored--stream.parquet"))
+    summaries = []
+    for mode in ([], ["--stream"]):
+        out = io.StringIO()
+        assert main(["monitor", model, str(ledgers[0]), "--out", str(tmp_path / f"monitor{''.join(mode)}"), *mode],
+                    stdout=out, stderr=io.StringIO()) == 0
+        summaries.append(out.getvalue().split("written:")[0].replace("monitor--stream", "monitor"))
+    assert summaries[0] == summaries[1]
