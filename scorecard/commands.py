@@ -30,7 +30,6 @@ from .ledger import (
     stream_ledger,
 )
 from .modelfile import load_model, model_document, save_model
-from .monitor import STATUSES, monitor_batches, monitor_ledger
 from .settings import (
     CharacteristicSettings, Settings, edit_settings, read_settings, settings_from_mapping, settings_to_mapping, write_settings,
     write_text_atomically,
@@ -409,6 +408,7 @@ def write_tables_atomically(frames, path: Path) -> Path:
 
 def run_monitor(options: MonitorOptions, streams: Streams) -> int:
     """Check a new ledger against a saved model's baseline; write the monitoring reports."""
+    from .monitor import monitor_batches, monitor_ledger
     from .report.monitor_html import write_monitor
     from .report.monitor_workbook import write_monitor_workbook
 
@@ -465,6 +465,7 @@ def monitoring_settings(settings: Settings, columns) -> Settings:
 
 def monitor_summary(result, *, model: Path) -> str:
     """Return the short text summary of a monitoring run: overall status first, then each check."""
+    from .monitor import STATUSES
     overall = result.overall
     lines = [
         f"monitoring {result.source} with {model}",

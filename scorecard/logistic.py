@@ -18,7 +18,7 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-from scipy import linalg, optimize, sparse, special, stats
+from scipy import linalg, special
 
 from scorecard.errors import FitError, ScorecardWarning, describe_rows
 
@@ -153,6 +153,7 @@ def fit_logistic(
     gradient_tolerance: float = 1e-11,
     standardise: bool = True,
     start=None,
+    guard: bool = True,
 ) -> FitResult:
     """Fit the log-odds of good:bad by maximum likelihood on weighted rows or a pattern table.
 
@@ -191,6 +192,10 @@ def fit_logistic(
     start : array_like, optional
         Coefficients to start from, in the order of the result's names (for example the estimates
         of a neighbouring model). By default the intercept-only estimate ``ln(goods / bads)``.
+    guard : bool
+        Check for linearly dependent characteristics and for separation first (the default).
+        The stepwise search turns the checks off for its many trial fits, whose estimates it only
+        ranks; the model it ends with is fitted again with them on.
 
     Returns
     -------
@@ -256,7 +261,7 @@ def fit_logistic(
     all_names = ((INTERCEPT_NAME,) if intercept else ()) + names
     start = None if start is None else _checked_start(start, all_names)
     problem = _problem(_design(features, intercept), goods, bads, l2=l2, intercept=intercept)
-    checks = l2 == 0  # with a penalty the estimate exists and is unique whatever the data
+    checks = guard and l2 == 0  # with a penalty the estimate exists and is unique whatever the data
     if checks:
         _raise_if_dependent(problem, all_names)
     if checks and solver != "newton":
@@ -612,6 +617,8 @@ def _lbfgs(problem: _Problem, rule: _StoppingRule, start: np.ndarray) -> _Path:
     Each run minimises the change in cost from its own starting point, which near the optimum is
     known far more precisely than the cost; a run that stalls on rounding is restarted from there.
     """
+    from scipy import optimize  # imported here: only this solver and the separation check need it
+
     theta, trace, iterations, decrease = start, [_cost(problem, start)], 0, np.inf
     while iterations < rule.max_iterations:
         reference, reference_cost = theta, trace[-1]
@@ -681,7 +688,7 @@ def _result(standard: _Problem, scaling: _Scaling, theta: np.ndarray, path: _Pat
         coefficients=beta,
         std_errors=std_errors,
         z_values=z_values,
-        p_values=2.0 * stats.norm.sf(np.abs(z_values)),
+        p_values=2.0 * special.ndtr(-np.abs(z_values)),
         covariance=covariance,
         log_likelihood=fitted_log_likelihood,
         deviance=deviance,
@@ -982,6 +989,8 @@ def _may_separate(patterns: _Patterns, columns: np.ndarray) -> bool:
         return False
     signed = unit[one_sided] * side[one_sided, None]
     mixed = unit[~one_sided]
+    from scipy import optimize
+
     solution = optimize.linprog(
         -signed.sum(axis=0),
         A_ub=-signed,
@@ -1018,6 +1027,8 @@ def _determined_patterns(patterns: _Patterns, columns: np.ndarray) -> np.ndarray
     signed = unit[one_sided] * side[one_sided, None]
     mixed = unit[~one_sided]
     n_sided, n_columns = signed.shape
+    from scipy import optimize, sparse
+
     solution = optimize.linprog(
         np.concatenate([np.zeros(n_columns), -np.ones(n_sided)]),
         A_ub=sparse.hstack([sparse.csr_array(-signed), sparse.eye_array(n_sided)], format="csr"),

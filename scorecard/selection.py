@@ -10,15 +10,16 @@ development pattern table; no rows are read.
 
 from __future__ import annotations
 
+import warnings
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-from scipy import special, stats
+from scipy import special
 
 from .counting import PatternTable
-from .errors import FitError
+from .errors import FitError, ScorecardWarning
 from .logistic import FitResult, fit_logistic
 from .settings import FitSettings, SelectionSettings
 
@@ -101,7 +102,7 @@ def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[fl
     screened = _screen(candidates, iv, forced, selection, log)
     candidates = _decorrelate(screened, iv, forced, design, selection, log)
     chosen = _stepwise(candidates, forced, design, selection, log)
-    final = design if final_patterns is None else _WoeDesign(final_patterns, woe, fit, start=design.last)
+    final = _WoeDesign(patterns if final_patterns is None else final_patterns, woe, fit, start=design.last, guard=True)
     chosen, result = _remove_reversals(chosen, forced, final, log)
     correlations = design.correlation(screened)  # before decorrelation, so the pairs left out show
     return SelectionResult(tuple(chosen), result, tuple(log), correlations, variance_inflation(design.correlation(chosen)))
@@ -116,7 +117,7 @@ class _WoeDesign:
     """
 
     def __init__(self, patterns: PatternTable, woe: Mapping[str, Sequence[float]], fit: FitSettings, *,
-                 start: Mapping[str, float] | None = None):
+                 start: Mapping[str, float] | None = None, guard: bool = False):
         self.patterns = patterns
         self.woe = {name: np.asarray(woe[name], float) for name in patterns.characteristics}
         self.fit_settings = fit
@@ -124,6 +125,7 @@ class _WoeDesign:
         self.last: dict[str, float] = dict(start or {})
         self.fits: dict[tuple[str, ...], FitResult] = {}
         self.position = {name: j for j, name in enumerate(patterns.characteristics)}
+        self.guard = guard  # trial fits skip the separation and dependence checks; the final fit runs them
         self._full: np.ndarray | None = None
 
     @property
@@ -148,8 +150,12 @@ class _WoeDesign:
             settings = self.fit_settings
             table = self.patterns.subset(names) if len(names) < len(self.patterns.characteristics) else self.patterns
             start = [self.last.get("(intercept)", 0.0), *(self.last.get(name, 0.0) for name in names)] if self.last else None
-            result = fit_logistic(self.matrix(names, table), table.goods, table.bads, names=list(names), start=start,
-                                  solver=settings.solver, l2=settings.l2, max_iterations=settings.max_iterations or None)
+            with warnings.catch_warnings():
+                if not self.guard:  # a trial fit that does not converge is only ranked, not reported
+                    warnings.simplefilter("ignore", ScorecardWarning)
+                result = fit_logistic(self.matrix(names, table), table.goods, table.bads, names=list(names), start=start,
+                                      solver=settings.solver, l2=settings.l2, max_iterations=settings.max_iterations or None,
+                                      guard=self.guard)
             self.last = dict(zip(result.names, result.coefficients))
             self.fits[key] = result
         return self.fits[key]
@@ -194,7 +200,7 @@ def score_test(design: _WoeDesign, fit: FitResult | None, candidates: Sequence[s
     See ``score_statistics``; on a large ledger many p-values are 0 in floating point, so choose
     between candidates by the statistic.
     """
-    return stats.chi2.sf(score_statistics(design, fit, candidates), df=1)
+    return special.chdtrc(1, score_statistics(design, fit, candidates))
 
 
 def score_statistics(design: _WoeDesign, fit: FitResult | None, candidates: Sequence[str]) -> np.ndarray:
@@ -274,7 +280,7 @@ def _stepwise(candidates, forced, design: _WoeDesign, selection: SelectionSettin
             break
         statistics = score_statistics(design, fit, outside)
         best = int(np.argmax(statistics))  # the largest statistic: p-values of 0 cannot be told apart
-        p_values = stats.chi2.sf(statistics, df=1)
+        p_values = special.chdtrc(1, statistics)
         if p_values[best] >= selection.p_enter:
             break
         chosen.append(outside[best])

@@ -13,80 +13,60 @@ A score histogram is three aligned 1-D arrays: ``scores`` (strictly ascending), 
 - :mod:`~scorecard.checks.cutoffs`: approvals and bad rates at candidate cut-offs.
 """
 
-from scorecard.checks.calibration import (
-    CalibrationInTheLarge,
-    CalibrationLine,
-    CalibrationTable,
-    HosmerLemeshow,
-    brier_score,
-    calibration_in_the_large,
-    calibration_line,
-    calibration_table,
-    holm,
-    hosmer_lemeshow,
-)
-from scorecard.checks.cutoffs import CutoffTable, cutoff_table
-from scorecard.checks.discrimination import (
-    AucResult,
-    AucShortfall,
-    CapCurve,
-    GainsTable,
-    KsResult,
-    RocCurve,
-    auc,
-    auc_shortfall,
-    band_of,
-    cap_points,
-    gains_table,
-    ks_statistic,
-    roc_points,
-    score_bands,
-)
-from scorecard.checks.stability import (
-    ACT_PSI,
-    EMPTY_CELL,
-    WATCH_PSI,
-    PointsShift,
-    PsiResult,
-    points_shift,
-    psi,
-    psi_status,
-    score_psi,
-)
+from __future__ import annotations
 
-__all__ = [
-    "ACT_PSI",
-    "EMPTY_CELL",
-    "WATCH_PSI",
-    "AucResult",
-    "AucShortfall",
-    "CalibrationInTheLarge",
-    "CalibrationLine",
-    "CalibrationTable",
-    "CapCurve",
-    "CutoffTable",
-    "GainsTable",
-    "HosmerLemeshow",
-    "KsResult",
-    "PointsShift",
-    "PsiResult",
-    "RocCurve",
-    "auc",
-    "auc_shortfall",
-    "band_of",
-    "brier_score",
-    "calibration_in_the_large",
-    "calibration_line",
-    "calibration_table",
-    "cap_points",
-    "cutoff_table",
-    "gains_table",
-    "holm",
-    "hosmer_lemeshow",
-    "ks_statistic",
-    "points_shift",
-    "psi",
-    "psi_status",
-    "roc_points",
-    "score_bands",
-]
+import importlib
+
+# names are imported on first use: the calibration checks pull in scipy.stats, which a build
+# without reports never needs
+_PUBLIC = {
+    "CalibrationInTheLarge": "calibration",
+    "CalibrationLine": "calibration",
+    "CalibrationTable": "calibration",
+    "HosmerLemeshow": "calibration",
+    "brier_score": "calibration",
+    "calibration_in_the_large": "calibration",
+    "calibration_line": "calibration",
+    "calibration_table": "calibration",
+    "holm": "calibration",
+    "hosmer_lemeshow": "calibration",
+    "CutoffTable": "cutoffs",
+    "cutoff_table": "cutoffs",
+    "AucResult": "discrimination",
+    "AucShortfall": "discrimination",
+    "CapCurve": "discrimination",
+    "GainsTable": "discrimination",
+    "KsResult": "discrimination",
+    "RocCurve": "discrimination",
+    "auc": "discrimination",
+    "auc_shortfall": "discrimination",
+    "band_of": "discrimination",
+    "cap_points": "discrimination",
+    "gains_table": "discrimination",
+    "ks_statistic": "discrimination",
+    "roc_points": "discrimination",
+    "score_bands": "discrimination",
+    "ACT_PSI": "stability",
+    "EMPTY_CELL": "stability",
+    "WATCH_PSI": "stability",
+    "PointsShift": "stability",
+    "PsiResult": "stability",
+    "points_shift": "stability",
+    "psi": "stability",
+    "psi_status": "stability",
+    "score_psi": "stability",
+}
+
+__all__ = sorted(_PUBLIC)
+
+
+def __getattr__(name: str):
+    if name in _PUBLIC:
+        value = getattr(importlib.import_module(f"scorecard.checks.{_PUBLIC[name]}"), name)
+        globals()[name] = value
+        return value
+    raise AttributeError(f"module 'scorecard.checks' has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return __all__

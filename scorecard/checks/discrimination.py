@@ -16,7 +16,7 @@ from numbers import Integral, Real
 
 import numpy as np
 import pandas as pd
-from scipy import special, stats
+from scipy import special
 
 from scorecard.errors import ScorecardError, describe_rows
 
@@ -325,7 +325,7 @@ def auc_shortfall(result: AucResult, *, reference: float) -> AucShortfall:
     else:
         z = float(np.sign(difference) * np.inf) if difference else 0.0
     return AucShortfall(auc=result.auc, reference=float(reference), std_error=result.std_error,
-                        z=float(z), p_value=float(stats.norm.cdf(z)))
+                        z=float(z), p_value=float(special.ndtr(z)))
 
 
 def ks_statistic(scores, goods, bads) -> KsResult:
@@ -702,7 +702,7 @@ def _delong_variance(goods, bads, good_placements, bad_placements, area) -> floa
 
 
 def _auc_interval(area: float, std_error: float, level: float, scale: str) -> tuple[float, float]:
-    z = stats.norm.ppf(0.5 + level / 2)
+    z = special.ndtri(0.5 + level / 2)
     if scale == "plain":
         return float(max(area - z * std_error, 0.0)), float(min(area + z * std_error, 1.0))
     if area in (0.0, 1.0):
