@@ -6,6 +6,7 @@ This module only wires the stages together; each stage's arithmetic lives in its
 
 from __future__ import annotations
 
+import concurrent.futures
 import contextlib
 import os
 import time
@@ -106,6 +107,7 @@ def class_ledger(ledger: Ledger, settings: Settings, *,
 
 Batches = Callable[[Sequence[str]], Iterator[tuple[int, pd.DataFrame]]]
 UNSEEN_LABEL = "(not in any group)"
+THREADS = 2  # the machines this is built for have two cores or more; more threads gain little here
 
 
 def class_batches(batches: Batches, characteristics: Sequence[Characteristic], outcome: np.ndarray, weight: np.ndarray,
@@ -226,22 +228,33 @@ def _provisional(char: Characteristic, settings: Settings) -> Binning:
 
 def _count_pass(batches: Batches, binnings: Mapping[str, Binning], outcome, weight, sample, fitting, *,
                 keep_codes: bool, progress):
-    """One pass: code every row of each characteristic and count its bins (plus a bin for unknown values)."""
+    """One pass: code every row of each characteristic and count its bins (plus a bin for unknown values).
+
+    Characteristics are coded on two threads: numpy and pyarrow release the interpreter lock
+    while they search and count, so both cores work.
+    """
     counts: dict[str, BinCounts] = {}
     codes: dict[str, list[np.ndarray]] = {name: [] for name in binnings}
     stray: dict[str, dict[str, int]] = {}
-    for start, frame in batches(list(binnings)):
-        rows = slice(start, start + len(frame))
-        for name in progress(list(binnings)):
-            binning = binnings[name]
-            column = code_rows(frame[name], binning, unseen_code=binning.n_bins)
-            batch = count_bins(column, outcome[rows], weight[rows], sample[rows], characteristic=name,
-                               labels=(*binning.labels, UNSEEN_LABEL))
-            counts[name] = counts[name] + batch if name in counts else batch
-            if keep_codes:
-                codes[name].append(column)
-            if binning.kind != NUMERIC:
-                for level, n in unseen_levels(frame[name][fitting[rows]], binning).items():
+    names = list(binnings)
+    with concurrent.futures.ThreadPoolExecutor(max_workers=THREADS) as pool:
+        for start, frame in batches(names):
+            rows = slice(start, start + len(frame))
+
+            def code_and_count(name):
+                binning = binnings[name]
+                column = code_rows(frame[name], binning, unseen_code=binning.n_bins)
+                batch = count_bins(column, outcome[rows], weight[rows], sample[rows], characteristic=name,
+                                   labels=(*binning.labels, UNSEEN_LABEL))
+                unknown_in_development = batch.n_goods()[-1] + batch.n_bads()[-1] > 0
+                levels = unseen_levels(frame[name][fitting[rows]], binning) if unknown_in_development else {}
+                return name, column, batch, levels
+
+            for name, column, batch, levels in progress(pool.map(code_and_count, names)):
+                counts[name] = counts[name] + batch if name in counts else batch
+                if keep_codes:
+                    codes[name].append(column)
+                for level, n in levels.items():
                     stray.setdefault(name, {})[level] = stray.get(name, {}).get(level, 0) + n
     joined = {name: np.concatenate(parts) if len(parts) != 1 else parts[0] for name, parts in codes.items() if parts}
     return counts, joined, stray

@@ -494,14 +494,22 @@ def detect_kind(series: pd.Series) -> str:
 
 def unusable_reason(series: pd.Series) -> str:
     """Say why a column cannot be a characteristic (all missing, constant), or return ''."""
-    present = series.dropna()
-    if present.empty:
+    missing = series.isna().to_numpy()
+    if missing.all():
         return "every value is missing"
-    if present.nunique() == 1 and len(present) == len(series):
-        return f"every row has the same value ({_plain(present.iloc[0])!r})"
-    if present.nunique() == 1:
-        return f"every value present is the same ({_plain(present.iloc[0])!r}); only missingness varies"
-    return ""
+    if detect_kind(series) == NUMERIC:  # two comparisons, not a hash of every value
+        values = series.to_numpy(dtype=float, na_value=np.nan)
+        constant = np.nanmin(values) == np.nanmax(values)
+        first = series.iloc[int(np.flatnonzero(~missing)[0])]
+    else:
+        present = series[~missing]
+        first = present.iloc[0]
+        constant = not bool((present != first).any())
+    if not constant:
+        return ""
+    if missing.any():
+        return f"every value present is the same ({_plain(first)!r}); only missingness varies"
+    return f"every row has the same value ({_plain(first)!r})"
 
 
 def looks_like_identifier_or_date(series: pd.Series, kind: str) -> str:
