@@ -26,7 +26,6 @@ from __future__ import annotations
 
 import argparse
 import os
-import secrets
 import sys
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
@@ -37,6 +36,7 @@ import numpy as np
 import pandas as pd
 
 from scorecard.errors import ScorecardError
+from scorecard.files import replacing
 
 SCENARIO_NAME = "Tarnwick Vale Lending Cooperative"
 
@@ -313,14 +313,8 @@ def write_ledger(frame: pd.DataFrame | Iterable[pd.DataFrame], path: str | os.Pa
     if not path.parent.is_dir():
         raise ScorecardError(f"{path}: folder {str(path.parent)!r} does not exist. Create it first.")
     chunks = [frame] if isinstance(frame, pd.DataFrame) else frame
-    # A fresh name in the same folder, so os.replace is a rename on one file system.
-    temporary = str(path.parent / f".{path.name}.{secrets.token_hex(6)}.tmp")
-    try:
-        writer(chunks, temporary)
-        os.replace(temporary, path)
-    except BaseException:
-        Path(temporary).unlink(missing_ok=True)
-        raise
+    with replacing(path) as temporary:
+        writer(chunks, str(temporary))
     return path
 
 

@@ -24,6 +24,7 @@ import pandas as pd
 
 from .errors import ClassingError
 from .evidence import EMPTY_CELL, information_value, woe_values
+from .ledger import value_text
 
 NUMERIC, CATEGORICAL = "numeric", "categorical"
 MISSING_LABEL = "missing"
@@ -168,18 +169,7 @@ def unseen_levels(values: pd.Series | np.ndarray, binning: Binning) -> dict[str,
 def factorize_levels(values: pd.Series | np.ndarray) -> tuple[np.ndarray, list[str]]:
     """Return (codes, levels as text): -1 marks a missing value; 1 and 1.0 are both the level '1'."""
     codes, uniques = pd.factorize(pd.Series(values) if not isinstance(values, pd.Series) else values, use_na_sentinel=True)
-    return codes, [level_text(u) for u in uniques]
-
-
-def level_text(value: object) -> str:
-    """Return the text a categorical level is known by (integer-valued numbers without '.0')."""
-    if isinstance(value, (bool, np.bool_)):
-        return str(bool(value)).lower()
-    if isinstance(value, (int, np.integer)):
-        return str(int(value))
-    if isinstance(value, (float, np.floating)) and float(value).is_integer():
-        return str(int(value))
-    return str(value)
+    return codes, [value_text(u) for u in uniques]
 
 
 def _as_float(values: pd.Series | np.ndarray) -> np.ndarray:

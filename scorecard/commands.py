@@ -10,7 +10,6 @@ from __future__ import annotations
 import json
 import os
 import shlex
-import tempfile
 import tomllib
 from dataclasses import replace
 from pathlib import Path
@@ -24,6 +23,7 @@ from .cli import (
     EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, DemoOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions, Streams,
 )
 from .errors import LedgerError, SettingsError
+from .files import replacing, write_text_atomically
 from .ledger import (
     NUMERIC, closest_names, default_outcome_mapping, detect_kind, fingerprint_of,
     ledger_columns, looks_like_identifier_or_date, outcome_key, prepare_ledger, read_batches, read_ledger, should_stream,
@@ -32,7 +32,6 @@ from .ledger import (
 from .modelfile import load_model, model_document, save_model
 from .settings import (
     CharacteristicSettings, Settings, edit_settings, read_settings, settings_from_mapping, settings_to_mapping, write_settings,
-    write_text_atomically,
 )
 
 
@@ -376,29 +375,22 @@ def run_score(options: ScoreOptions, streams: Streams) -> int:
 
 def write_tables_atomically(frames, path: Path) -> Path:
     """Write a sequence of tables (same columns) as one CSV or Parquet file, under a temporary name, then rename."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
-    os.close(handle)
-    writer = None
-    try:
-        for index, frame in enumerate(frames):
-            if path.suffix.lower() == ".parquet":
-                import pyarrow as pa
-                import pyarrow.parquet as pq
+    with replacing(path) as temporary:
+        writer = None
+        try:
+            for index, frame in enumerate(frames):
+                if path.suffix.lower() == ".parquet":
+                    import pyarrow as pa
+                    import pyarrow.parquet as pq
 
-                table = pa.Table.from_pandas(frame, preserve_index=False)
-                writer = writer or pq.ParquetWriter(temporary, table.schema)
-                writer.write_table(table.cast(writer.schema))
-            else:
-                frame.to_csv(temporary, index=False, mode="w" if index == 0 else "a", header=index == 0)
-        if writer is not None:
-            writer.close()
-        os.replace(temporary, path)
-    except BaseException:
-        if writer is not None:
-            writer.close()
-        Path(temporary).unlink(missing_ok=True)
-        raise
+                    table = pa.Table.from_pandas(frame, preserve_index=False)
+                    writer = writer or pq.ParquetWriter(temporary, table.schema)
+                    writer.write_table(table.cast(writer.schema))
+                else:
+                    frame.to_csv(temporary, index=False, mode="w" if index == 0 else "a", header=index == 0)
+        finally:
+            if writer is not None:
+                writer.close()
     return path
 
 

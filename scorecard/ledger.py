@@ -337,15 +337,21 @@ def closest_names(name: str, columns: Sequence[str]) -> str:
     return f" The ledger's columns are: {shown}."
 
 
-def outcome_key(value: object) -> str:
-    """Return the text an outcome value is matched by: '1' for 1 and 1.0, 'bad' for ' bad '."""
+def value_text(value: object) -> str:
+    """Return the text a value is known by: '1' for 1 and 1.0 (a column read as numbers or as text
+    gives the same levels), 'true' for True, else ``str(value)``."""
     if isinstance(value, (bool, np.bool_)):
         return str(bool(value)).lower()
     if isinstance(value, (int, np.integer)):
         return str(int(value))
     if isinstance(value, (float, np.floating)) and float(value).is_integer():
         return str(int(value))
-    return str(value).strip()
+    return str(value)
+
+
+def outcome_key(value: object) -> str:
+    """Return the text an outcome value is matched by: '1' for 1 and 1.0, 'bad' for ' bad '."""
+    return value_text(value).strip()
 
 
 def default_outcome_mapping(values: Sequence[str]) -> tuple[tuple[str, ...], tuple[str, ...]] | None:

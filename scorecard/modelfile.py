@@ -14,7 +14,6 @@ import hashlib
 import json
 import math
 import os
-import tempfile
 from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
@@ -25,6 +24,7 @@ import numpy as np
 from . import __version__
 from .classing import Binning
 from .errors import ModelFileError
+from .files import write_text_atomically
 from .ledger import SAMPLE_NAMES
 from .points import CharacteristicPoints, PointsTable, Scaling, Scorecard, ScoreHistogram
 from .settings import Settings, settings_from_mapping, settings_to_mapping
@@ -128,17 +128,7 @@ def save_model(document: Mapping[str, Any], path: str | os.PathLike[str]) -> Pat
     body.pop("checksum", None)
     body["checksum"] = checksum(body)
     text = json.dumps(body, indent=1, ensure_ascii=False, allow_nan=False) + "\n"
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
-    try:
-        with os.fdopen(handle, "w", encoding="utf-8") as stream:
-            stream.write(text)
-        os.replace(temporary, path)
-    except BaseException:
-        Path(temporary).unlink(missing_ok=True)
-        raise
-    return path
+    return write_text_atomically(path, text)
 
 
 def checksum(body: Mapping[str, Any]) -> str:

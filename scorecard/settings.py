@@ -15,7 +15,6 @@ import datetime
 import difflib
 import math
 import os
-import tempfile
 import tomllib
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -23,6 +22,7 @@ from pathlib import Path
 from typing import Any
 
 from .errors import SettingsError
+from .files import write_text_atomically
 
 # --------------------------------------------------------------------------------------------
 # The schema
@@ -559,28 +559,6 @@ def _toml_string(text: str) -> str:
 def _toml_key(name: str) -> str:
     bare = name and all(ch.isascii() and (ch.isalnum() or ch in "-_") for ch in name)
     return name if bare else _toml_string(name)
-
-
-def write_text_atomically(path: Path, text: str) -> Path:
-    """Write text to ``path`` through a temporary file in the same folder, then rename it into place."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
-    try:
-        with os.fdopen(handle, "w", encoding="utf-8", newline="\n") as stream:
-            stream.write(text)
-        # mkstemp makes the file private (0600); give it the mode a plain write would have
-        os.chmod(temporary, path.stat().st_mode & 0o7777 if path.exists() else _mode_for_new_files())
-        os.replace(temporary, path)
-    except BaseException:
-        Path(temporary).unlink(missing_ok=True)
-        raise
-    return path
-
-
-def _mode_for_new_files() -> int:
-    umask = os.umask(0)
-    os.umask(umask)
-    return 0o666 & ~umask
 
 
 # --------------------------------------------------------------------------------------------

@@ -22,7 +22,8 @@ from markupsafe import Markup
 
 from .. import __version__
 from ..checks import ACT_PSI, WATCH_PSI
-from ..settings import settings_to_toml, write_text_atomically
+from ..files import write_text_atomically
+from ..settings import settings_to_toml
 from . import CAUTION
 from . import charts
 from .templates import environment

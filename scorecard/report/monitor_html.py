@@ -30,7 +30,8 @@ from ..checks import roc_points
 from ..ledger import Fingerprint
 from ..modelfile import SavedModel
 from ..monitor import STATUSES, CheckStatus, MonitorResult, PeriodMonitor
-from ..settings import CheckSettings, write_text_atomically
+from ..files import write_text_atomically
+from ..settings import CheckSettings
 from . import CAUTION, charts
 from .html import (
     Cell, Figure, Table, calibration_figures, captioned_chart, count_text, fixed_text, interval_text, level_text,

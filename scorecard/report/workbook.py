@@ -28,7 +28,6 @@ from __future__ import annotations
 import json
 import math
 import os
-import tempfile
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, fields
 from pathlib import Path
@@ -46,6 +45,7 @@ from openpyxl.worksheet.datavalidation import DataValidation
 from openpyxl.worksheet.worksheet import Worksheet
 
 from ..checks.discrimination import band_labels
+from ..files import replacing
 from ..ledger import SAMPLE_NAMES
 from ..settings import settings_reference
 from . import CAUTION
@@ -133,19 +133,9 @@ def save_workbook(book: Workbook, path: str | os.PathLike[str]) -> Path:
     OSError
         The folder cannot be made or written to; any earlier file at ``path`` is left as it was.
     """
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
-    os.close(handle)
-    try:
+    with replacing(path) as temporary:
         book.save(temporary)
-        # mkstemp makes the file private (0600); give it the mode a plain write would have
-        os.chmod(temporary, path.stat().st_mode & 0o7777 if path.exists() else _mode_for_new_files())
-        os.replace(temporary, path)
-    except BaseException:
-        Path(temporary).unlink(missing_ok=True)
-        raise
-    return path
+    return Path(path)
 
 
 def workbook(build, validation) -> Workbook:
@@ -425,12 +415,6 @@ def _shown_length(cell: Cell) -> float:
     if isinstance(cell.value, int):
         return len(f"{cell.value:,}")
     return 10
-
-
-def _mode_for_new_files() -> int:
-    umask = os.umask(0)
-    os.umask(umask)
-    return 0o666 & ~umask
 
 
 # --------------------------------------------------------------------------------------------
