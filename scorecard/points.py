@@ -12,6 +12,7 @@ Scoring is a look-up and a sum: one ``take`` per characteristic, no loop over ro
 
 from __future__ import annotations
 
+import concurrent.futures
 import math
 import re
 from collections.abc import Mapping, Sequence
@@ -259,7 +260,7 @@ def score_codes(codes: np.ndarray, table: PointsTable) -> np.ndarray:
     dtype = np.int64 if table.decimals == 0 else np.float64
     scores = np.zeros(codes.shape[0], dtype=dtype)
     for column, char in enumerate(table.characteristics):
-        scores += char.points.astype(dtype)[codes[:, column]]
+        scores += np.take(char.points.astype(dtype), codes[:, column])
     return scores
 
 
@@ -391,8 +392,14 @@ class Scorecard:
                 f"of the scorecard {'are' if len(missing) > 1 else 'is'} not in the ledger. "
                 "Every characteristic in the model is needed to score; add the column(s) with the same names."
             )
-        columns = [code_rows(frame[b.characteristic], b) for b in self.binnings]
-        return np.column_stack(columns) if columns else np.zeros((len(frame), 0), dtype=np.uint8)
+        codes = np.empty((len(frame), len(self.binnings)), dtype=np.uint16, order="F")
+        if len(self.binnings):
+            # one column per characteristic, stored column after column; coded on two threads, since
+            # numpy and pyarrow release the interpreter lock while they search
+            with concurrent.futures.ThreadPoolExecutor(max_workers=2) as pool:
+                for column, coded in enumerate(pool.map(lambda b: code_rows(frame[b.characteristic], b), self.binnings)):
+                    codes[:, column] = coded
+        return codes
 
     def unseen(self, frame: pd.DataFrame) -> dict[str, dict[str, int]]:
         """Return, per categorical characteristic, the levels the scorecard never saw, with row counts."""
