@@ -449,13 +449,13 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
     names = classed.names
     with clock("pattern table"):
         chosen_rows = selection_rows(fitting, settings)
-        patterns, choice = _pattern_tables(classed, ledger, batches, fitting, chosen_rows)
+        choice, final_table = _pattern_tables(classed, ledger, batches, fitting, chosen_rows)
     with clock("selection and fit"):
         forced = [name for name in names if settings.characteristic(name).use == "always"]
         selection = select_characteristics(
             choice, {c.name: c.evidence.woe for c in classed.characteristics},
             {c.name: c.evidence.iv for c in classed.characteristics},
-            forced=forced, selection=settings.selection, fit=settings.fit, final_patterns=patterns,
+            forced=forced, selection=settings.selection, fit=settings.fit, final_patterns=final_table,
         )
     with clock("points and scoring"):
         table = _points(selection, classed, settings)
@@ -488,20 +488,28 @@ def _fine_rows(ledger: Ledger, batches: Batches, fitting: np.ndarray, settings: 
     return pd.concat(parts, ignore_index=True), ledger.weight[rows]
 
 
-def _pattern_tables(classed: ClassedLedger, ledger: Ledger, batches: Batches, fitting: np.ndarray,
-                    chosen: np.ndarray) -> tuple[PatternTable, PatternTable]:
-    """The development pattern table, and the one of the rows the choice runs on (the same when all)."""
+def _pattern_tables(classed: ClassedLedger, ledger: Ledger, batches: Batches, fitting: np.ndarray, chosen: np.ndarray):
+    """The pattern table the choice runs on, and a function making the final fit's table for some characteristics.
+
+    When the choice runs on every development row, the final table is a subset of its table;
+    otherwise the development rows are counted again for the chosen characteristics only, so
+    that a large ledger's table never holds every candidate.
+    """
     names = classed.names
     goods = np.where(ledger.outcome == GOOD, ledger.weight, 0.0)
     bads = np.where(ledger.outcome == BAD, ledger.weight, 0.0)
-    parts: dict[str, list[PatternTable]] = {"all": [], "choice": []}
-    for first_row, codes in _coded_batches(classed, batches, names):
-        for key, rows in (("all", fitting), ("choice", chosen)):
+
+    def table(rows: np.ndarray, columns: Sequence[str]) -> PatternTable:
+        parts = []
+        for first_row, codes in _coded_batches(classed, batches, columns):
             inside = rows[(rows >= first_row) & (rows < first_row + len(codes))]
-            parts[key].append(pattern_table(codes[inside - first_row], goods[inside], bads[inside], characteristics=names))
-    patterns = merge_pattern_tables(parts["all"])
-    choice = patterns if len(chosen) == len(fitting) else merge_pattern_tables(parts["choice"])
-    return patterns, choice
+            parts.append(pattern_table(codes[inside - first_row], goods[inside], bads[inside], characteristics=columns))
+        return merge_pattern_tables(parts)
+
+    choice = table(chosen, names)
+    if len(chosen) == len(fitting):
+        return choice, choice.subset
+    return choice, lambda columns: table(fitting, tuple(columns))
 
 
 def _coded_batches(classed: ClassedLedger, batches: Batches, names: Sequence[str]):

