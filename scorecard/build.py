@@ -496,14 +496,14 @@ def _pattern_tables(classed: ClassedLedger, ledger: Ledger, batches: Batches, fi
     that a large ledger's table never holds every candidate.
     """
     names = classed.names
-    goods = np.where(ledger.outcome == GOOD, ledger.weight, 0.0)
-    bads = np.where(ledger.outcome == BAD, ledger.weight, 0.0)
 
     def table(rows: np.ndarray, columns: Sequence[str]) -> PatternTable:
         parts = []
         for first_row, codes in _coded_batches(classed, batches, columns):
             inside = rows[(rows >= first_row) & (rows < first_row + len(codes))]
-            parts.append(pattern_table(codes[inside - first_row], goods[inside], bads[inside], characteristics=columns))
+            outcome, weight = ledger.outcome[inside], ledger.weight[inside]
+            parts.append(pattern_table(codes[inside - first_row], np.where(outcome == GOOD, weight, 0.0),
+                                       np.where(outcome == BAD, weight, 0.0), characteristics=columns))
         return merge_pattern_tables(parts)
 
     choice = table(chosen, names)

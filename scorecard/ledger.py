@@ -428,9 +428,14 @@ def _check_both_classes(outcome: np.ndarray, source: str, column: str) -> None:
         )
 
 
+def unit_weights(n_rows: int) -> np.ndarray:
+    """Weight 1 for every row, as a read-only view of one number (no memory per row)."""
+    return np.broadcast_to(np.float64(1.0), (n_rows,))
+
+
 def _weights(frame: pd.DataFrame, column: str, source: str, *, first_row: int = 0) -> np.ndarray:
     if not column:
-        return np.ones(len(frame))
+        return unit_weights(len(frame))
     values = pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
     problems = [
         ("missing or not a number", np.isnan(values)),
@@ -633,7 +638,7 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, batch_r
     parts = [role_values(frame, settings, source_name, first_row=first_row)
              for first_row, frame in _file_batches(path, suffix, role_columns or list(head.columns[:1]), types, batch_rows)]
     outcome = np.concatenate([p[0] for p in parts])
-    weight = np.concatenate([p[1] for p in parts])
+    weight = np.concatenate([p[1] for p in parts]) if settings.ledger.weight_column else unit_weights(len(outcome))
     dates = np.concatenate([p[2] for p in parts]) if settings.ledger.date_column else None
     repairs = check_roles(outcome, weight, settings, source_name, require_outcome=require_outcome)
     sample = split_samples(outcome, dates, settings, source=source_name)
