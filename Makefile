@@ -22,11 +22,12 @@ demo: $(STAMP)
 bench: $(STAMP)
 	$(BIN)/python -m benchmarks
 
-# The programs the workbook and report checks drive (LibreOffice, Chromium).
-# Without them those tests are skipped locally; CI installs them.
+# The programs the workbook and report checks drive (LibreOffice, Chromium) and GNU time for the
+# benchmarks. Without them those tests are skipped locally; CI installs them.
+SUDO := $(shell if [ "$$(id -u)" != 0 ] && command -v sudo >/dev/null; then echo sudo; fi)
 system-deps:
-	apt-get update -qq
-	DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends \
+	$(SUDO) apt-get update -qq
+	DEBIAN_FRONTEND=noninteractive $(SUDO) apt-get install -y -qq --no-install-recommends \
 	    libreoffice-calc chromium fonts-dejavu-core time
 
 wheel: $(STAMP)
