@@ -166,8 +166,12 @@ def class_batches(batches: Batches, characteristics: Sequence[Characteristic], o
             columns.append(mapping.astype(codes[char.name].dtype)[codes[char.name]])
     n_rows = len(outcome)
     matrix = np.column_stack(columns) if columns else np.zeros((n_rows if keep_codes else 0, 0), dtype=np.uint8)
+    routine = {note for routine_notes in coarse_notes.values() for note in routine_notes}
     for note in notes:
-        warnings.warn(note, ScorecardWarning, stacklevel=3)
+        # what the proposal did by its own rules (a small missing bin merged) goes to the report's
+        # notes only; a warning is for what the analyst should act on
+        if note not in routine:
+            warnings.warn(note, ScorecardWarning, stacklevel=3)
     return ClassedLedger(tuple(classed), matrix, tuple(notes))
 
 
@@ -285,7 +289,8 @@ def _finish(binning: Binning, counts: BinCounts, stray: Mapping[str, int], origi
             min_group_share=classing.min_group_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
             max_groups=classing.max_groups, trend=spec.trend or classing.trend,
         )
-        notes += [f"classing fixed in the settings breaks a constraint: {problem}." for problem in broken]
+        notes += [f"the classing written in the settings breaks a constraint on this development sample: {problem}. "
+                  "Change its cuts or groups, or remove them for a new proposal." for problem in broken]
     return _classed(final, final_counts, origin, tuple(notes), settings), mapping
 
 
@@ -457,6 +462,13 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
             {c.name: c.evidence.iv for c in classed.characteristics},
             forced=forced, selection=settings.selection, fit=settings.fit, final_patterns=final_table,
         )
+    for name in selection.chosen:
+        if classed.get(name).evidence.leakage_flag:
+            warnings.warn(
+                f"{name!r} is in the model with an IV above {settings.selection.leakage_iv} (flagged for a leakage check): "
+                "check it is known at the time of application; if not, set use = \"never\" under "
+                f"[characteristics.{name}] and build again.", ScorecardWarning, stacklevel=2,
+            )
     with clock("points and scoring"):
         table = _points(selection, classed, settings)
         binnings = tuple(classed.get(name).binning for name in table.names)

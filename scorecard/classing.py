@@ -544,8 +544,8 @@ def _place_own_bins(fine, coarse, fine_to_coarse, goods, bads, n_goods, n_bads, 
             chain_bads[target] += bads[fine_bin]
             targets[fine_bin] = target
             notes.append(
-                f"{fine.characteristic!r}: the {label} bin ({_rows(goods[fine_bin] + bads[fine_bin])}, "
-                f"{n_bads[fine_bin]:.0f} bads) is too small to stand alone; it joins group {target + 1} "
+                f"{fine.characteristic!r}: the {label} bin ({_rows(goods[fine_bin] + bads[fine_bin])} of the development "
+                f"sample, {_count(n_bads[fine_bin], 'bad')}) is too small to stand alone; it joins group {target + 1} "
                 f"({coarse.labels[target]}), whose WoE is nearest"
                 + ("." if keeps_order else f"; no group could take it without breaking the {coarse.trend} WoE order.")
             )
@@ -694,4 +694,8 @@ def check_constraints(binning: Binning, goods: np.ndarray, bads: np.ndarray, *, 
 
 
 def _rows(count: float) -> str:
-    return "1 row" if round(count) == 1 else f"{count:,.0f} rows"
+    return _count(count, "row")
+
+
+def _count(count: float, noun: str) -> str:
+    return f"1 {noun}" if round(count) == 1 else f"{count:,.0f} {noun}s"

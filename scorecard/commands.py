@@ -48,6 +48,10 @@ def run_init(options: InitOptions, streams: Streams) -> int:
     source = options.ledger.name
     settings = _initial_settings(frame, options, source)
     streams.note(f"read {len(frame):,} rows and {frame.shape[1]} columns from {source}")
+    outcome = settings.outcome
+    streams.note(f"outcome {outcome.column!r}: bad = {list(outcome.bad)}, good = {list(outcome.good)}"
+                 + (f", indeterminate = {list(outcome.indeterminate)}" if outcome.indeterminate else "")
+                 + "; check this mapping in the settings file")
     ledger = prepare_ledger(frame, settings, source=source, fingerprint=fingerprint_of(options.ledger, len(frame)))
     classed = class_ledger(ledger, settings, progress=lambda items: streams.progress(items, "classing"))
     characteristics, comments = _proposals(ledger, classed, settings)
@@ -193,7 +197,7 @@ def _proposals(ledger, classed: ClassedLedger, settings: Settings):
 
 def iv_table(classed: ClassedLedger, left_out: dict[str, str] | None = None) -> str:
     """Return an aligned text table of characteristics sorted by IV, strongest first."""
-    rows = [("characteristic", "kind", "bins", "IV", "strength", "")]
+    rows = [("characteristic", "kind", "bins", "IV", "strength", "flag")]
     ranked = sorted(classed.characteristics, key=lambda c: -c.evidence.iv)
     for char in ranked:
         flag = "check for leakage" if char.evidence.leakage_flag else ""
@@ -300,10 +304,17 @@ def build_summary(build) -> str:
     counts = ", ".join(f"{name} {int(samples.loc[name, 'rows']):,}" for name in samples.index if samples.loc[name, "rows"] > 0)
     fit = build.selection.fit
     lines = [f"scorecard built from {build.source} ({build.fingerprint.n_rows:,} rows: {counts})", ""]
-    rows = [("characteristic", "coefficient", "std error", "IV")]
+    rows = [("characteristic", "coefficient", "std error", "IV", "flag")]
     for name, coefficient, error in zip(fit.names[1:], fit.coefficients[1:], fit.std_errors[1:]):
-        rows.append((name, f"{coefficient:.4f}", f"{error:.4f}", f"{build.characteristic(name).evidence.iv:.4f}"))
+        evidence = build.characteristic(name).evidence
+        flag = "check for leakage" if evidence.leakage_flag else ""
+        rows.append((name, f"{coefficient:.4f}", f"{error:.4f}", f"{evidence.iv:.4f}", flag))
     lines += _aligned(rows, numeric=(1, 2, 3))
+    flagged = [name for name in fit.names[1:] if build.characteristic(name).evidence.leakage_flag]
+    if flagged:
+        lines += ["", f"FLAGGED: {', '.join(flagged)} {'has' if len(flagged) == 1 else 'have'} an IV above "
+                  f"{build.settings.selection.leakage_iv} and {'is' if len(flagged) == 1 else 'are'} in the model. Check each is "
+                  "known at the time of application; if not, set use = \"never\" and build again."]
     lines += ["", f"intercept {fit.coefficients[0]:.4f}; {len(fit.names) - 1} characteristics; scores from "
               f"{build.scorecard.table.min_score:g} to {build.scorecard.table.max_score:g}", ""]
     figures = [("sample", "AUC", "Gini", "KS")]
@@ -452,6 +463,8 @@ def monitoring_settings(settings: Settings, columns) -> Settings:
                 "leave_out": tuple(c for c in ledger.leave_out if c in columns)},
         outcome={"column": present(settings.outcome.column)},
         samples={"holdout_fraction": 0.0, "out_of_time_from": ""},
+        # a characteristic the new ledger lacks is named by the scorecard's own check, which says why it matters
+        characteristics={name: spec for name, spec in settings.characteristics.items() if name in columns},
     )
 
 

@@ -322,6 +322,13 @@ def _role_columns(frame: pd.DataFrame, settings: Settings, source: str, require_
     for column in ledger.leave_out:
         if column not in columns:
             raise LedgerError(f"{source}: column {column!r} listed under ledger.leave_out not found.{closest_names(column, columns)}")
+    for name in settings.characteristics:
+        # a misspelt name would otherwise be ignored in silence, and its decision with it
+        if name not in columns:
+            raise LedgerError(
+                f"{source}: [characteristics.{name}] in the settings names no column of the ledger.{closest_names(name, columns)} "
+                "Correct the name in the settings file (or remove the section)."
+            )
     return {c for c in (target, ledger.id_column, ledger.date_column, ledger.weight_column, *ledger.leave_out) if c}
 
 
@@ -484,6 +491,8 @@ def _choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[
             left_out[name] = reason
             continue
         kind = spec.kind or detect_kind(series)
+        if not spec.kind and kind == CATEGORICAL:
+            _refuse_numbers_with_stray_text(series, name, source)
         if spec.use == "" and (why := looks_like_identifier_or_date(series, kind)):
             left_out[name] = f"{why}; set use = \"auto\" under [characteristics.{name}] to keep it"
             continue
@@ -494,6 +503,34 @@ def _choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[
             )
         chosen.append(Characteristic(name, kind, tuple(spec.special_values) if kind == NUMERIC else ()))
     return chosen, left_out
+
+
+NUMBERS_SHARE = 0.95  # a text column whose values are nearly all numbers is numbers with stray text
+
+
+def _refuse_numbers_with_stray_text(series: pd.Series, name: str, source: str) -> None:
+    """Raise LedgerError when a text column holds numbers but for a few values (typed in by hand, say).
+
+    Read as text, such a column would become a category with a level per number: a silent, wrong
+    classing. The first rows holding text are named.
+    """
+    present = series.dropna()
+    if present.empty or pd.api.types.is_bool_dtype(series):
+        return
+    sample = present.iloc[:10_000]
+    if pd.to_numeric(sample, errors="coerce").notna().mean() < NUMBERS_SHARE:
+        return
+    numbers = pd.to_numeric(series, errors="coerce")
+    stray = (numbers.isna() & series.notna()).to_numpy()
+    if stray.mean() > 1 - NUMBERS_SHARE or not stray.any():
+        return
+    rows = np.flatnonzero(stray)
+    shown = ", ".join(repr(_plain(v)) for v in pd.unique(series.iloc[rows[:50]])[:3])
+    raise LedgerError(
+        f"{source}, column {name!r}, {describe_rows((rows + 2).tolist())}: the column holds numbers, but these rows "
+        f"hold text ({shown}). Correct them (leave a cell empty for missing), "
+        f"or set kind = \"categorical\" under [characteristics.{name}] if the column is a category."
+    )
 
 
 def detect_kind(series: pd.Series) -> str:

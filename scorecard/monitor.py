@@ -113,6 +113,7 @@ class MonitorResult:
     quarters: tuple[PeriodMonitor, ...]
     baseline: ScoreHistogram
     baseline_performance: Mapping[str, float]
+    auc_reference: str  # the build's sample whose AUC the fall test compares with
     edges: np.ndarray
     checks: CheckSettings
     notes: tuple[str, ...]
@@ -189,7 +190,8 @@ def monitor_batches(saved: SavedModel, batches, outcome: np.ndarray, weight: np.
         for label, part in parts.items()
     ]
     performance = saved.performance.get("development", {})
-    return MonitorResult(source, periods[0], tuple(periods[1:]), baseline, performance, edges, checks, tuple(notes))
+    reference, _ = reference_auc(saved.performance)
+    return MonitorResult(source, periods[0], tuple(periods[1:]), baseline, performance, reference, edges, checks, tuple(notes))
 
 
 def _count_periods(saved: SavedModel, batches, outcome, weight, quarter, labels, source):
@@ -290,10 +292,10 @@ def check_period(label: str, histogram: ScoreHistogram, counts: Mapping[str, Seq
     tests: tuple[CalibrationTest, ...] = ()
     if histogram.goods.sum() > 0 and histogram.bads.sum() > 0:
         outcomes = sample_checks(histogram, table.scaling, edges, in_sample=False, cutoff_step=checks.cutoff_step)
-        reference = saved.performance.get("development", {}).get("auc")
+        sample, reference = reference_auc(saved.performance)
         if reference is not None and np.isfinite(outcomes.auc.std_error):
             fall = auc_shortfall(outcomes.auc, reference=reference)
-            statuses.append(_discrimination_status(fall, outcomes, checks))
+            statuses.append(_discrimination_status(fall, outcomes, checks, sample))
         tests = calibration_family(outcomes)
         statuses.append(_calibration_status(tests, outcomes, checks))
     return PeriodMonitor(
@@ -337,11 +339,23 @@ def _characteristic_status(stability: CharacteristicStability, unseen: Mapping[s
     )
 
 
-def _discrimination_status(fall: AucShortfall, outcomes: SampleChecks, checks: CheckSettings) -> CheckStatus:
+def reference_auc(performance: Mapping[str, Mapping[str, float]]) -> tuple[str, float | None]:
+    """The build's AUC a new quarter is compared with: out-of-time, else hold-out, else development.
+
+    The development figure is optimistic (the model was fitted on it), so an honest sample comes first.
+    """
+    for sample in ("out-of-time", "hold-out", "development"):
+        if "auc" in performance.get(sample, {}):
+            return sample, float(performance[sample]["auc"])
+    return "", None
+
+
+def _discrimination_status(fall: AucShortfall, outcomes: SampleChecks, checks: CheckSettings, sample: str) -> CheckStatus:
     return CheckStatus(
         "discrimination", p_status(fall.p_value, checks), "p-value", fall.p_value, checks.p_watch, checks.p_act,
         "below", P_SOURCE,
-        f"AUC {outcomes.auc.auc:.4f} against {fall.reference:.4f} at development; one-sided test of a fall (DeLong's variance)",
+        f"AUC {outcomes.auc.auc:.4f} against {fall.reference:.4f} on the {sample} sample at build time; "
+        "one-sided test of a fall (DeLong's variance)",
     )
 
 

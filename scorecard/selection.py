@@ -111,7 +111,8 @@ def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[fl
     chosen = _stepwise(candidates, forced, design, selection, log)
     if callable(final_patterns):
         final_patterns = final_patterns(chosen) if chosen else patterns
-    final = _WoeDesign(patterns if final_patterns is None else final_patterns, woe, fit, start=design.last, guard=True)
+    # the final fit starts from the intercept alone, so that its cost trace shows the whole descent
+    final = _WoeDesign(patterns if final_patterns is None else final_patterns, woe, fit, guard=True)
     chosen, result = _remove_reversals(chosen, forced, final, log)
     correlations = design.correlation(screened)  # before decorrelation, so the pairs left out show
     return SelectionResult(tuple(chosen), result, tuple(log), correlations, variance_inflation(design.correlation(chosen)))
@@ -126,12 +127,12 @@ class _WoeDesign:
     """
 
     def __init__(self, patterns: PatternTable, woe: Mapping[str, Sequence[float]], fit: FitSettings, *,
-                 start: Mapping[str, float] | None = None, guard: bool = False):
+                 guard: bool = False):
         self.patterns = patterns
         self.woe = {name: np.asarray(woe[name], float) for name in patterns.characteristics}
         self.fit_settings = fit
         self.weights = patterns.goods + patterns.bads
-        self.last: dict[str, float] = dict(start or {})
+        self.last: dict[str, float] = {}
         self.fits: dict[tuple[str, ...], FitResult] = {}
         self.position = {name: j for j, name in enumerate(patterns.characteristics)}
         self.guard = guard  # trial fits skip the separation and dependence checks; the final fit runs them
@@ -159,7 +160,8 @@ class _WoeDesign:
         if key not in self.fits:
             settings = self.fit_settings
             table = self.patterns.subset(names) if len(names) < len(self.patterns.characteristics) else self.patterns
-            start = [self.last.get("(intercept)", 0.0), *(self.last.get(name, 0.0) for name in names)] if self.last else None
+            warm = self.last and not self.guard  # trial fits start from the last one; final fits from the intercept alone
+            start = [self.last.get("(intercept)", 0.0), *(self.last.get(name, 0.0) for name in names)] if warm else None
             with warnings.catch_warnings():
                 if not self.guard:  # a trial fit that does not converge is only ranked, not reported
                     warnings.simplefilter("ignore", ScorecardWarning)

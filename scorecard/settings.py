@@ -98,7 +98,9 @@ class ClassingSettings:
         0.01, "categorical levels rarer than this share of rows are pooled into one bin for rare levels",
         _share, "a share between 0 and 1",
     )
-    min_group_share: float = _key(0.05, "each group holds at least this share of rows", _share, "a share between 0 and 1")
+    min_group_share: float = _key(
+        0.05, "each group holds at least this share of rows", lambda v: 0 <= v <= 0.5, "a share between 0 and 0.5 (two groups must fit)",
+    )
     min_goods: int = _key(10, "each group holds at least this many goods", lambda v: v >= 0, "a whole number >= 0")
     min_bads: int = _key(10, "each group holds at least this many bads", lambda v: v >= 0, "a whole number >= 0")
     max_groups: int = _key(8, "most groups per characteristic (missing and special bins not counted)", lambda v: v >= 2, "2 or more")
@@ -178,7 +180,7 @@ class ScalingSettings:
 
     base_score: float = _key(600.0, "score at the base odds")
     base_odds: float = _key(50.0, "odds good:bad at the base score", lambda v: v > 0, "a positive number")
-    pdo: float = _key(20.0, "points to double the odds", lambda v: v != 0, "a non-zero number")
+    pdo: float = _key(20.0, "points to double the odds (scores rise with creditworthiness)", lambda v: v > 0, "a positive number")
     decimals: int = _key(0, "decimals kept in each bin's points (0: whole points)", lambda v: 0 <= v <= 6, "0 to 6")
 
 
@@ -407,6 +409,19 @@ def _check_consistency(settings: Settings, source: str) -> None:
         raise SettingsError(f"{source}: checks.p_act ({checks.p_act}) must be smaller than checks.p_watch ({checks.p_watch}).")
     if list(checks.grades) != sorted(set(checks.grades)):
         raise SettingsError(f"{source}: checks.grades must be strictly ascending score boundaries.")
+    roles = {"outcome.column": settings.outcome.column, "ledger.id_column": settings.ledger.id_column,
+             "ledger.date_column": settings.ledger.date_column, "ledger.weight_column": settings.ledger.weight_column}
+    taken: dict[str, str] = {}
+    for key, column in roles.items():
+        if column and column in taken:
+            raise SettingsError(f"{source}: {key} and {taken[column]} both name column {column!r}; each role needs its own column.")
+        taken[column] = key
+    if settings.selection.p_enter > settings.selection.p_remove:
+        raise SettingsError(
+            f"{source}: selection.p_enter ({settings.selection.p_enter}) is above selection.p_remove "
+            f"({settings.selection.p_remove}): a characteristic could enter and be removed again for ever. "
+            "Keep p_enter at or below p_remove."
+        )
     outcome = settings.outcome
     seen: dict[str, str] = {}
     for role in ("bad", "good", "indeterminate"):
@@ -635,6 +650,11 @@ def _set_line(lines: list[str], section: str, key: str, value: str) -> list[str]
 
 
 def _split_section(section: str) -> list[str]:
-    """Split 'characteristics.name' into its parts; a characteristic's name may itself hold dots."""
+    """Split 'characteristics.name' into its parts; a characteristic's name may itself hold dots,
+    and may be quoted as the file writes it ('characteristics."a b"')."""
     first, _, rest = section.partition(".")
-    return [first, rest] if first == "characteristics" and rest else [first]
+    if first != "characteristics" or not rest:
+        return [first]
+    if len(rest) >= 2 and rest[0] == rest[-1] and rest[0] in "\"'":
+        rest = tomllib.loads(f"name = {rest}")["name"] if rest[0] == '"' else rest[1:-1]
+    return [first, rest]

@@ -188,7 +188,10 @@ def test_wrong_type(section, key, value, shown):
 
 
 @pytest.mark.parametrize(("document", "message"), [
-    ({"classing": {"min_group_share": 1.5}}, r"classing\.min_group_share = 1\.5 is not possible: it must be a share between 0 and 1"),
+    ({"classing": {"min_group_share": 0.6}}, r"classing\.min_group_share = 0\.6 is not possible: it must be a share between 0 and 0\.5"),
+    ({"scaling": {"pdo": -20}}, r"scaling\.pdo = -20 is not possible: it must be a positive number"),
+    ({"selection": {"p_enter": 0.5, "p_remove": 0.1}}, r"p_enter \(0\.5\) is above selection\.p_remove"),
+    ({"outcome": {"column": "y"}, "ledger": {"id_column": "y"}}, r"ledger\.id_column and outcome\.column both name column .y."),
     ({"classing": {"max_groups": 1}}, r"classing\.max_groups = 1 is not possible: it must be 2 or more"),
     ({"samples": {"holdout_fraction": 1.0}}, r"samples\.holdout_fraction = 1\.0 is not possible"),
     ({"characteristics": {"home": {"groups": [["own", "rent"]]}}}, r"characteristics\.home\.groups needs at least 2 groups, got 1"),

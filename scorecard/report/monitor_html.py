@@ -177,7 +177,8 @@ def status_rules(checks: CheckSettings) -> list[tuple[str, str, str, str, str]]:
          f"PSI over the characteristic's bins; {psi_source}. A level never seen at build time makes the "
          "characteristic at least watch (our rule)."),
         ("discrimination", *p,
-         "One-sided test that the AUC has fallen below the development AUC, with DeLong's variance "
+         "One-sided test that the AUC has fallen below the build's AUC on its most honest sample (out-of-time, "
+         "else hold-out, else development), with DeLong's variance "
          f"(E. R. DeLong, D. M. DeLong, D. L. Clarke-Pearson, Biometrics 44, 1988); {p_source}."),
         ("calibration", *p,
          "One family of tests: calibration-in-the-large (two-sided), Hosmer–Lemeshow, and each score band's "
@@ -391,7 +392,8 @@ def _discrimination(result: MonitorResult, saved: SavedModel) -> dict:
     test = None
     if fall is not None and status is not None:
         test = {"status": status.status, "figure": figure_text(status), "thresholds": status.thresholds,
-                "text": f"AUC {fixed_text(fall.auc, 4)} against {fixed_text(fall.reference, 4)} at development, "
+                "text": f"AUC {fixed_text(fall.auc, 4)} against {fixed_text(fall.reference, 4)} "
+                        f"(the {result.auc_reference} sample at build time), "
                         f"standard error {fixed_text(fall.std_error, 4)}, z = {fixed_text(fall.z, 2)}."}
     development = saved.baseline["development"]
     keep = (development.goods + development.bads) > 0

@@ -302,7 +302,7 @@ def _psi_block(sheet: Worksheet, groups, *, column: int, label: str, counts: str
 def _discrimination_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> None:
     sheet_heading(sheet, "Discrimination", "Development figures as saved in the model file beside the new ledger's, "
                                            "whole ledger and each quarter. AUC interval: DeLong. Fall test: one-sided, "
-                                           "AUC below the development AUC (DeLong's variance).")
+                                           "AUC below the build's AUC on out-of-time, else hold-out, else development (DeLong's variance).")
     performance = result.baseline_performance
     nan = float("nan")
     rows = []
