@@ -33,7 +33,7 @@ from .ledger import (
 from .points import (
     PointsTable, Scorecard, ScoreHistogram, merge_histograms, points_table, scaling, score_codes, score_histogram,
 )
-from .selection import SelectionResult, select_characteristics
+from .selection import Decision, SelectionResult, select_characteristics
 from .settings import Settings
 
 
@@ -462,6 +462,10 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
             {c.name: c.evidence.iv for c in classed.characteristics},
             forced=forced, selection=settings.selection, fit=settings.fit, final_patterns=final_table,
         )
+    # every column's fate is on record: those intake or the analyst left out come first in the log
+    left_out = tuple(Decision("settings" if why.startswith("use = never") else "intake", name, "left out", why)
+                     for name, why in ledger.left_out.items())
+    selection = replace(selection, log=left_out + selection.log)
     for name in selection.chosen:
         if classed.get(name).evidence.leakage_flag:
             warnings.warn(

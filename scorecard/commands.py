@@ -275,6 +275,8 @@ def _write_build_reports(build, out: Path, clock, options: BuildOptions) -> list
 
 def _build_settings(options: BuildOptions) -> tuple[Settings, Path]:
     source = options.source
+    if source.is_dir():
+        raise SettingsError(f"{source}: is a folder. Give a settings file (.toml) or a ledger file.")
     if source.suffix.lower() == ".toml":
         if options.target or options.bad or options.good:
             raise SettingsError(f"{source}: --target, --bad and --good are for building straight from a ledger; with a settings file, set them under [outcome].")
@@ -336,6 +338,8 @@ def _aligned(rows, *, numeric=()) -> list[str]:
 
 def run_score(options: ScoreOptions, streams: Streams) -> int:
     """Score a ledger with a saved model and write the scored file (batch by batch for a large ledger)."""
+    if options.out.is_dir():
+        raise SettingsError(f"{options.out}: is a folder. Give --out a file name ending in .csv or .parquet.")
     if options.out.exists() and not options.force:
         raise SettingsError(f"{options.out}: the file exists. Pass --force to overwrite it, or choose another --out.")
     if options.out.suffix.lower() not in (".csv", ".parquet"):
@@ -482,10 +486,12 @@ def monitor_summary(result, *, model: Path) -> str:
     ranked = sorted(overall.statuses, key=lambda s: -STATUSES.index(s.status))
     raised = [s for s in ranked if s.status != "ok"]
     rows = [(s.status, s.check, f"{s.figure} {s.value:.3g}", s.thresholds) for s in raised]
-    lines += ["  " + line for line in _aligned(rows)] if rows else []
+    for line, status in zip(_aligned(rows) if rows else [], raised):
+        lines += ["  " + line, f"         {status.detail}"]
     calm = [s.check for s in ranked if s.status == "ok"]
     if calm:
-        lines.append(f"  ok on the other {len(calm)} checks: {', '.join(calm[:4])}{', ...' if len(calm) > 4 else ''}")
+        lead = f"ok on the other {len(calm)} checks" if raised else f"ok on all {len(calm)} checks"
+        lines.append(f"  {lead}: {', '.join(calm[:4])}{', ...' if len(calm) > 4 else ''}")
     if overall.outcomes is None:
         lines += ["", "stability only: no row has a known outcome, so discrimination and calibration are not checked"]
     if result.quarters:

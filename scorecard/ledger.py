@@ -157,7 +157,7 @@ def _checked_file(source: str | os.PathLike[str]) -> tuple[Path, str]:
     path = Path(source)
     name = path.name
     if not path.exists():
-        raise LedgerError(f"{path}: ledger file not found. Check the path (relative paths start at the settings file's folder).")
+        raise LedgerError(f"{path}: ledger file not found. Check the path (in a settings file, a relative path starts at the file's folder).")
     if path.is_dir():
         raise LedgerError(f"{path}: is a folder, not a ledger file. Give the path of a CSV, Parquet or .xlsx file.")
     suffix = path.suffix.lower()
@@ -169,12 +169,21 @@ def _checked_file(source: str | os.PathLike[str]) -> tuple[Path, str]:
     return path, suffix
 
 
+def csv_delimiter(path: Path) -> str:
+    """The CSV file's delimiter: a comma, or the ';', tab or '|' its header uses instead (as some exports do)."""
+    with path.open(encoding="utf-8-sig", errors="replace") as stream:
+        header = stream.readline()
+    if "," in header:
+        return ","
+    return next((candidate for candidate in (";", "\t", "|") if candidate in header), ",")
+
+
 def _read_header(path: Path, suffix: str) -> list[str]:
     """Read the column names as they are in the file (pandas would rename duplicates)."""
     try:
         if suffix in (".csv", ".txt"):
             with path.open(newline="", encoding="utf-8-sig") as stream:
-                return next(csv.reader(stream), [])
+                return next(csv.reader(stream, delimiter=csv_delimiter(path)), [])
         if suffix in (".parquet", ".pq"):
             import pyarrow.parquet as pq
 
@@ -197,7 +206,7 @@ def _read_frame(path: Path, suffix: str, columns: Sequence[str] | None) -> pd.Da
     usecols = list(columns) if columns is not None else None
     try:
         if suffix in (".csv", ".txt"):
-            return pd.read_csv(path, usecols=usecols, encoding="utf-8-sig", low_memory=False)
+            return pd.read_csv(path, usecols=usecols, encoding="utf-8-sig", low_memory=False, sep=csv_delimiter(path))
         if suffix in (".parquet", ".pq"):
             return pd.read_parquet(path, columns=usecols)
         return pd.read_excel(path, usecols=usecols, engine="openpyxl")
@@ -720,7 +729,7 @@ def _read_head(path: Path, suffix: str) -> pd.DataFrame:
 
         batch = next(pq.ParquetFile(path).iter_batches(batch_size=HEAD_ROWS), None)
         return batch.to_pandas() if batch is not None else pd.read_parquet(path)
-    return pd.read_csv(path, nrows=HEAD_ROWS, encoding="utf-8-sig", low_memory=False)
+    return pd.read_csv(path, nrows=HEAD_ROWS, encoding="utf-8-sig", low_memory=False, sep=csv_delimiter(path))
 
 
 def _arrow_types(head: pd.DataFrame) -> dict[str, object]:
@@ -766,7 +775,7 @@ def _arrow_batches(path: Path, suffix: str, columns: list[str], types: dict[str,
     from pandas._libs.parsers import STR_NA_VALUES  # the same empty-value words as a whole read
 
     reader = pacsv.open_csv(
-        path, read_options=pacsv.ReadOptions(block_size=_block_bytes(path, batch_rows), encoding="utf8"),
+        path, parse_options=pacsv.ParseOptions(delimiter=csv_delimiter(path)), read_options=pacsv.ReadOptions(block_size=_block_bytes(path, batch_rows), encoding="utf8"),
         convert_options=pacsv.ConvertOptions(
             include_columns=columns, column_types={c: types[c] for c in columns},
             null_values=sorted(STR_NA_VALUES), strings_can_be_null=True, quoted_strings_can_be_null=True,

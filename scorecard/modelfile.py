@@ -152,6 +152,8 @@ def load_model(path: str | os.PathLike[str]) -> SavedModel:
         text = path.read_text(encoding="utf-8")
     except FileNotFoundError:
         raise ModelFileError(f"{path}: model file not found. Give the model.json written by 'scorewright build'.") from None
+    except IsADirectoryError:
+        raise ModelFileError(f"{path}: is a folder. Give the model.json inside the folder 'scorewright build' wrote.") from None
     except (OSError, UnicodeDecodeError) as error:
         raise ModelFileError(f"{path}: cannot read the model file ({error}).") from None
     try:

@@ -36,7 +36,8 @@ class Decision:
     Attributes
     ----------
     step : str
-        'forced', 'screen', 'leakage', 'correlation', 'stepwise' or 'reversal'.
+        'intake' or 'settings' (a column left out before selection), 'forced', 'screen', 'leakage',
+        'correlation', 'stepwise' or 'reversal'.
     characteristic : str
     action : str
         'forced in', 'left out', 'flagged', 'kept', 'entered' or 'removed'.

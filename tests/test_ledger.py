@@ -493,3 +493,12 @@ def test_credit_data(credit_data):
     kinds = {c.name: c.kind for c in ledger.characteristics}
     assert kinds["Income"] == NUMERIC and kinds["Home"] == CATEGORICAL
     assert len(kinds) == 13  # 15 columns less rownames and Status (counted from the data)
+
+
+def test_a_semicolon_separated_csv_is_read_as_such(tmp_path):
+    # some spreadsheet exports separate fields with ';' (common practice, no source)
+    path = tmp_path / "ledger.csv"
+    path.write_text("months;home;outcome\n" + "\n".join(f"{i};{'own' if i % 2 else 'rent'};{i % 3 == 0:d}" for i in range(30)))
+    frame = read_ledger(path)
+    assert list(frame.columns) == ["months", "home", "outcome"]
+    assert frame["months"].sum() == sum(range(30))
