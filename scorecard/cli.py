@@ -253,7 +253,7 @@ def _add_build(commands) -> None:
         "build", help="build the scorecard from a settings file (or straight from a ledger)",
         description=(
             "Build the scorecard the settings file describes: classing, selection, fit, points, checks. "
-            "Writes model.json, the resolved settings.toml, report.html and workbook.xlsx into the output folder. "
+            "Writes model.json, the resolved settings.toml, summary.txt, report.html and workbook.xlsx into the output folder. "
             "Given a ledger instead of a settings file, builds with the default settings and the proposed classing."
         ),
         formatter_class=argparse.RawDescriptionHelpFormatter,

@@ -161,9 +161,6 @@ def psi(expected, actual, *, labels=None, empty_cell: float = EMPTY_CELL, watch:
     _check_options(empty_cell, watch, act, caller="psi")
     return _index(expected, actual, labels, empty_cell=empty_cell, watch=watch, act=act)
 
-    expected_share = _shares(expected + np.where(adjusted, empty_cell, 0.0))
-    actual_share = _shares(actual + np.where(adjusted, empty_cell, 0.0))
-
 
 def psi_status(value: float, *, watch: float = WATCH_PSI, act: float = ACT_PSI) -> str:
     """Return the status word of a PSI value: "ok", "watch" or "act".

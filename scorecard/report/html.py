@@ -856,12 +856,17 @@ def _cautions(build) -> list[str]:
 # 12. Reproducibility
 
 
-def _reproducibility(build, generated_by: str) -> dict:
-    import jinja2
-    import pandas
+def library_versions() -> list[tuple[str, str]]:
+    """The versions of the tool, Python and every library the figures depend on."""
+    from importlib import metadata
 
-    versions = [("scorewright", __version__), ("Python", platform.python_version()), ("NumPy", np.__version__),
-                ("pandas", pandas.__version__), ("Jinja2", jinja2.__version__)]
+    libraries = ["numpy", "pandas", "scipy", "pyarrow", "openpyxl", "jinja2"]
+    return [("scorewright", __version__), ("Python", platform.python_version()),
+            *((name, metadata.version(name)) for name in libraries)]
+
+
+def _reproducibility(build, generated_by: str) -> dict:
+    versions = library_versions()
     command = "scorewright build settings.toml --out REBUILD_FOLDER"
     return {
         "versions": versions,

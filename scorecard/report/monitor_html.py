@@ -16,7 +16,6 @@ The words on how statuses are set and what to do about each (``status_rules``, `
 
 from __future__ import annotations
 
-import platform
 import shlex
 from collections.abc import Sequence
 from dataclasses import replace
@@ -35,6 +34,7 @@ from ..settings import CheckSettings
 from . import CAUTION, charts
 from .html import (
     Cell, Figure, Table, calibration_figures, captioned_chart, count_text, fixed_text, interval_text, level_text,
+    library_versions,
     p_value_text, percent_text, psi_table, signed_text, span_text, status_cell, text_table,
 )
 from .templates import environment
@@ -549,9 +549,6 @@ def _rules(checks: CheckSettings) -> dict:
 
 def _reproducibility(result: MonitorResult, saved: SavedModel, model_path, ledger_fingerprint: Fingerprint | None,
                      generated_by: str) -> dict:
-    import jinja2
-    import pandas
-
     document = saved.document
     built = document.get("ledger", {})
     built_print = built.get("fingerprint", {})
@@ -566,7 +563,6 @@ def _reproducibility(result: MonitorResult, saved: SavedModel, model_path, ledge
     if ledger_fingerprint is not None:
         ledger = [("Ledger", result.source, False), ("Rows", count_text(ledger_fingerprint.n_rows), False),
                   (f"SHA-256 of the {ledger_fingerprint.of}", ledger_fingerprint.sha256, True)]
-    versions = [("scorewright", __version__), ("Python", platform.python_version()), ("NumPy", np.__version__),
-                ("pandas", pandas.__version__), ("Jinja2", jinja2.__version__)]
+    versions = library_versions()
     command = shlex.join(["scorewright", "monitor", str(model_path), result.source, "--out", "MONITOR_FOLDER"])
     return {"model": model, "ledger": ledger, "versions": versions, "command": command, "generated_by": generated_by}
