@@ -23,7 +23,7 @@ from .classing import (
     NUMERIC, Binning, binning_from_settings, check_constraints, classing_settings_values, code_rows, coarse_classing,
     fine_classing, resolve_fallback, unseen_levels,
 )
-from .counting import BinCounts, PatternTable, count_bins, merge_pattern_tables, pattern_table
+from .counting import MERGE_LIMIT, BinCounts, PatternTable, count_bins, merge_pattern_tables, pattern_table, row_table
 from .errors import ScorecardWarning
 from .evidence import EvidenceTable, evidence_table
 from .ledger import (
@@ -514,6 +514,8 @@ def _pattern_tables(classed: ClassedLedger, ledger: Ledger, batches: Batches, fi
     names = classed.names
 
     def table(rows: np.ndarray, columns: Sequence[str]) -> PatternTable:
+        if len(rows) > MERGE_LIMIT:  # a larger table stays rows: merging would only cost memory
+            return _row_table(classed, ledger, batches, rows, columns)
         parts = []
         for first_row, codes in _coded_batches(classed, batches, columns):
             inside = rows[(rows >= first_row) & (rows < first_row + len(codes))]
@@ -526,6 +528,21 @@ def _pattern_tables(classed: ClassedLedger, ledger: Ledger, batches: Batches, fi
     if len(chosen) == len(fitting):
         return choice, choice.subset
     return choice, lambda columns: table(fitting, tuple(columns))
+
+
+def _row_table(classed: ClassedLedger, ledger: Ledger, batches: Batches, rows: np.ndarray,
+               columns: Sequence[str]) -> PatternTable:
+    """The rows' codes, goods and bads, filled in batch by batch into arrays made once."""
+    outcome, weight = ledger.outcome[rows], ledger.weight[rows]
+    codes = np.empty((len(rows), len(columns)), dtype=np.uint16 if any(
+        classed.get(name).binning.n_bins > 255 for name in columns) else np.uint8)
+    filled = 0
+    for first_row, batch in _coded_batches(classed, batches, columns):
+        inside = rows[filled:np.searchsorted(rows, first_row + len(batch))]  # rows are ascending
+        codes[filled:filled + len(inside)] = batch[inside - first_row]
+        filled += len(inside)
+    return row_table(codes, np.where(outcome == GOOD, weight, 0.0), np.where(outcome == BAD, weight, 0.0),
+                     characteristics=columns)
 
 
 def _coded_batches(classed: ClassedLedger, batches: Batches, names: Sequence[str]):

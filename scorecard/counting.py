@@ -18,6 +18,7 @@ from .ledger import BAD, GOOD, OUTCOME_NAMES, SAMPLE_NAMES
 N_SAMPLES = len(SAMPLE_NAMES)
 N_OUTCOMES = len(OUTCOME_NAMES)
 KEY_LIMIT = 2**62  # pattern keys are compacted before they could overflow int64
+MERGE_LIMIT = 1_000_000  # tables of more rows are kept as rows (see row_table)
 
 
 @dataclass(frozen=True)
@@ -120,9 +121,23 @@ class PatternTable:
         return self.codes[:, self.characteristics.index(characteristic)]
 
     def subset(self, characteristics: Sequence[str]) -> PatternTable:
-        """Return the pattern table of fewer characteristics (patterns merged, counts added)."""
+        """Return the pattern table of fewer characteristics (patterns merged, counts added; not above ``MERGE_LIMIT``)."""
         columns = [self.characteristics.index(c) for c in characteristics]
+        if self.n_patterns > MERGE_LIMIT:
+            return row_table(self.codes[:, columns], self.goods, self.bads, characteristics=characteristics)
         return pattern_table(self.codes[:, columns], self.goods, self.bads, characteristics=characteristics)
+
+
+def row_table(codes: np.ndarray, goods: np.ndarray, bads: np.ndarray, *, characteristics: Sequence[str]) -> PatternTable:
+    """Return a table of rows as they are, not merged into distinct patterns.
+
+    Fitting it gives the same likelihood, so the same estimates, as fitting its pattern table.
+    Above ``MERGE_LIMIT`` rows the patterns are nearly all distinct, and merging them would only
+    cost memory (sorting keys of every row) without making the fit any cheaper.
+    """
+    for array in (codes, goods, bads):
+        array.setflags(write=False)
+    return PatternTable(tuple(characteristics), codes, goods, bads)
 
 
 def pattern_table(codes: np.ndarray, goods: np.ndarray, bads: np.ndarray, *,

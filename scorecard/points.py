@@ -278,12 +278,19 @@ def reasons(codes: np.ndarray, table: PointsTable, *, count: int = 4) -> np.ndar
     """
     n_rows, k = codes.shape
     count = min(count, k)
-    lost = np.empty((n_rows, k), dtype=float)
+    if count == 0:
+        return np.zeros((n_rows, 0), dtype=np.int64)
+    # points lost in whole units of the table's last decimal, so that one integer key per cell
+    # sorts by loss (largest first) and, within a loss, by position: ties stay in table order
+    unit = 10.0**table.decimals
+    key = np.empty((n_rows, k), dtype=np.int64)
     for column, char in enumerate(table.characteristics):
-        lost[:, column] = char.best - char.points[codes[:, column]]
-    order = np.argsort(-lost, axis=1, kind="stable")[:, :count]
-    chosen_loss = np.take_along_axis(lost, order, axis=1)
-    return np.where(chosen_loss > 0, order, -1)
+        lost = np.rint((char.best - char.points) * unit).astype(np.int64)
+        key[:, column] = -lost[codes[:, column]] * k + column
+    top = np.argpartition(key, count - 1, axis=1)[:, :count] if count < k else np.arange(k)[None, :].repeat(n_rows, 0)
+    order = np.take_along_axis(top, np.argsort(np.take_along_axis(key, top, axis=1), axis=1), axis=1)
+    lost_most = -(np.take_along_axis(key, order, axis=1) - order) // k
+    return np.where(lost_most > 0, order, -1)
 
 
 def _frozen(values) -> np.ndarray:

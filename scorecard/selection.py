@@ -18,7 +18,7 @@ import numpy as np
 import pandas as pd
 from scipy import special
 
-from .counting import PatternTable
+from .counting import MERGE_LIMIT, PatternTable
 from .errors import FitError, ScorecardWarning
 from .logistic import FitResult, fit_logistic, fit_logistic_by_parts
 from .settings import FitSettings, SelectionSettings
@@ -26,7 +26,7 @@ from .settings import FitSettings, SelectionSettings
 
 # a table of more patterns than this is fitted a part at a time, so that no design matrix of all of
 # them is ever held (above a million rows the Newton steps cost the same either way)
-BY_PARTS_ABOVE = 1_000_000
+BY_PARTS_ABOVE = MERGE_LIMIT
 
 
 @dataclass(frozen=True)

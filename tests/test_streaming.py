@@ -100,3 +100,25 @@ def test_score_and_monitor_stream_the_same_way(ledgers, tmp_path):
                     stdout=out, stderr=io.StringIO()) == 0
         summaries.append(out.getvalue().split("written:")[0].replace("monitor--stream", "monitor"))
     assert summaries[0] == summaries[1]
+
+
+def test_large_tables_kept_as_rows_and_fitted_by_parts_give_the_same_model(ledgers, monkeypatch):
+    # Above MERGE_LIMIT rows the final table stays rows and the fit runs part by part; lowered
+    # here so a small ledger takes that path. Same likelihood, so the same estimates to rounding.
+    import scorecard.build
+    import scorecard.counting
+    import scorecard.selection
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        merged = build_scorecard(ledgers[1], _settings(), stream=False)
+        for module, name in ((scorecard.build, "MERGE_LIMIT"), (scorecard.counting, "MERGE_LIMIT"),
+                             (scorecard.selection, "BY_PARTS_ABOVE")):
+            monkeypatch.setattr(module, name, 1_000)
+        rows = build_scorecard(ledgers[1], _settings(), stream=False)
+        streamed = build_scorecard(ledgers[1], _settings(), stream=True, batch_rows=BATCH_ROWS)
+    assert rows.selection.fit.solver == "newton (by parts)"
+    assert json.dumps(model_document(rows), sort_keys=True) == json.dumps(model_document(streamed), sort_keys=True)
+    assert rows.selection.chosen == merged.selection.chosen
+    np.testing.assert_allclose(rows.selection.fit.coefficients, merged.selection.fit.coefficients, rtol=1e-8)
+    np.testing.assert_allclose(rows.selection.fit.std_errors, merged.selection.fit.std_errors, rtol=1e-8)
