@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-import os
-import tempfile
 from collections.abc import Sequence
 from pathlib import Path
+
+from scorecard.files import write_text_atomically
 
 from . import results as r
 from .measure import Run, median
@@ -21,16 +21,7 @@ PROCESSES = {
 
 def write_results(results: r.Results, path: Path) -> Path:
     """Write RESULTS.md under a temporary name in the same folder, then rename it into place."""
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(handle, "w", encoding="utf-8") as stream:
-            stream.write(markdown(results))
-        os.chmod(temporary, 0o644)
-        os.replace(temporary, path)
-    except BaseException:
-        Path(temporary).unlink(missing_ok=True)
-        raise
-    return path
+    return write_text_atomically(path, markdown(results))
 
 
 def markdown(results: r.Results) -> str:
@@ -38,9 +29,15 @@ def markdown(results: r.Results) -> str:
     parts = [
         _heading(results), _machine(results), _targets(results), _processes(results), _auc(results),
         _engines(results), _help(results), _scoring(results), _reports(results), _streaming(results),
-        _where_time_goes(results), _every_run(results),
+        _where_time_goes(results), _profile(), _every_run(results),
     ]
     return "\n\n".join(part.rstrip() for part in parts if part) + "\n"
+
+
+def _profile() -> str:
+    """The profiling notes kept by hand in PROFILE.md: where the time went, and what was changed."""
+    notes = Path(__file__).with_name("PROFILE.md")
+    return notes.read_text(encoding="utf-8") if notes.exists() else ""
 
 
 def table(header: Sequence[str], rows: Sequence[Sequence[object]], numeric: Sequence[int] = ()) -> str:
