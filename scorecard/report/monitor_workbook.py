@@ -39,9 +39,8 @@ from ..monitor import CheckStatus, MonitorResult, PeriodMonitor
 from . import CAUTION
 from .monitor_html import MEANING, WHAT_TO_DO, driving_checks, monitoring_limits, status_rules
 from .workbook import (
-    COUNT, FIRST_ROW, HEADER_ROW, NOTE_ROW, RATE, SMALL_P_VALUE, STATISTIC, WEIGHTED_COUNT, WRAP, Formula, Placed,
-    bar_chart, fit_widths, freeze_header, print_across, save_workbook, sheet_heading, text_cell, write_frame,
-    write_pairs,
+    COUNT, FIRST_ROW, HEADER_ROW, NOTE_ROW, RATE, SMALL_P_VALUE, STATISTIC, WEIGHTED_COUNT, Formula, Placed, bar_chart,
+    fit_widths, freeze_header, save_workbook, sheet_heading, text_cell, text_sections, write_frame, write_pairs,
 )
 
 OVERVIEW, STABILITY, DISCRIMINATION, CALIBRATION, QUARTERS, CAUTIONS = (
@@ -458,19 +457,9 @@ def _cautions_sheet(sheet: Worksheet, result: MonitorResult) -> None:
     rules = [f"{check}: {figure}; watch {watch}, act {act}. {how}" for check, figure, watch, act, how
              in status_rules(result.checks)]
     todo = [f"{word}: {text}" for word, text in WHAT_TO_DO.items()]
-    row = NOTE_ROW + 2
-    for caption, lines in (("Caution", [CAUTION]), ("How statuses are set", rules), ("What to do", todo),
-                           ("Limits of these checks", monitoring_limits(result)),
-                           ("Notes of this run", list(result.notes) or ["none"])):
-        text_cell(sheet, row, 1, caption, bold=True)
-        row += 1
-        for line in lines:
-            text_cell(sheet, row, 1, line).alignment = WRAP
-            row += 1
-        row += 1
-    sheet.column_dimensions["A"].width = 120
-    sheet.freeze_panes = "A3"
-    print_across(sheet)
+    text_sections(sheet, [("Caution", [CAUTION]), ("How statuses are set", rules), ("What to do", todo),
+                          ("Limits of these checks", monitoring_limits(result)),
+                          ("Notes of this run", list(result.notes) or ["none"])], first_row=NOTE_ROW + 2)
 
 
 # --------------------------------------------------------------------------------------------

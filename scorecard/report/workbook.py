@@ -1008,9 +1008,14 @@ LIMITS = (
 def _cautions_sheet(sheet: Worksheet, build, validation) -> None:
     sheet_heading(sheet, "Cautions", "What this workbook does not replace, the limits of its figures, and the notes "
                                      "of this build.")
-    row = CAPTION_ROW + 1
-    for caption, lines in (("Caution", [CAUTION]), ("Limits of these figures", LIMITS),
-                           ("Notes of this build", _build_notes(build, validation))):
+    text_sections(sheet, [("Caution", [CAUTION]), ("Limits of these figures", LIMITS),
+                          ("Notes of this build", _build_notes(build, validation))], first_row=CAPTION_ROW + 1)
+
+
+def text_sections(sheet: Worksheet, sections: Sequence[tuple[str, Sequence[str]]], *, first_row: int) -> None:
+    """Write captioned paragraphs down column A (a bold caption, then one wrapped line a row), ready to print."""
+    row = first_row
+    for caption, lines in sections:
         text_cell(sheet, row, 1, caption, bold=True)
         row += 1
         for line in lines:
