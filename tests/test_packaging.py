@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import shutil
 import subprocess
 import sys
 import venv
@@ -18,8 +19,12 @@ pytestmark = pytest.mark.slow
 def installed(tmp_path_factory):
     """Build the wheel and install it, without its dependencies, into a fresh virtual environment."""
     folder = tmp_path_factory.mktemp("wheel")
+    # build from a copy, so that the build's own folders never land in the checkout
+    source = folder / "source"
+    shutil.copytree(ROOT, source, ignore=shutil.ignore_patterns(".venv", ".git", "build", "dist", "*.egg-info",
+                                                                "demo-run", "benchmarks", ".pytest_cache", "__pycache__"))
     subprocess.run(
-        [sys.executable, "-m", "build", "--wheel", "--no-isolation", "--outdir", str(folder / "dist"), str(ROOT)],
+        [sys.executable, "-m", "build", "--wheel", "--no-isolation", "--outdir", str(folder / "dist"), str(source)],
         check=True, capture_output=True, cwd=folder,
     )
     wheel = next((folder / "dist").glob("scorewright-*.whl"))
