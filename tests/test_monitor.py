@@ -19,22 +19,10 @@ from scorecard.points import ScoreHistogram
 from scorecard.settings import Settings
 from scorecard.validation import band_edges
 
+import ledgers  # tests/ledgers.py: the invented process these tests monitor
+
 N_DEVELOPMENT = 30_000
 N_QUARTER = 8_000
-
-
-def _frame(n, seed, *, shift=0.0, bad_factor=1.0, start="2024-01-01", days=90):
-    """Invented process: income and enquiries drive the outcome; housing a little."""
-    rng = np.random.default_rng(seed)
-    income = rng.lognormal(8 + shift, 0.4, n).round(-1)
-    enquiries = rng.poisson(1.2, n)
-    housing = rng.choice(["own", "rent", "family"], n, p=[0.5, 0.35, 0.15])
-    log_odds_bad = -2.2 - 1.1 * (np.log(income) - 8) + 0.35 * enquiries + np.where(housing == "rent", 0.3, 0.0)
-    p_bad = np.minimum(bad_factor / (1 + np.exp(-log_odds_bad)), 1.0)
-    outcome = np.where(rng.random(n) < p_bad, "bad", "good")
-    dates = pd.Timestamp(start) + pd.to_timedelta(rng.integers(0, days, n), unit="D")
-    return pd.DataFrame({"income": income, "enquiries": enquiries, "housing": housing, "outcome": outcome,
-                         "date": dates.strftime("%Y-%m-%d")})
 
 
 @pytest.fixture(scope="module")
@@ -44,7 +32,7 @@ def saved(tmp_path_factory):
                                   ledger={"date_column": "date"})
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        build = build_scorecard(_frame(N_DEVELOPMENT, 1, days=360), settings)
+        build = build_scorecard(ledgers.monitor_frame(N_DEVELOPMENT, 1, days=360), settings)
     path = save_model(model_document(build), folder / "model.json")
     return load_model(path), path
 
@@ -59,7 +47,7 @@ def _status(period, check):
 
 
 def test_a_quarter_from_the_same_process_is_ok(saved):
-    result = _monitor(saved[0], _frame(N_QUARTER, 2))
+    result = _monitor(saved[0], ledgers.monitor_frame(N_QUARTER, 2))
     assert _status(result.overall, "score stability") == "ok"
     assert all(_status(result.overall, f"stability of {n}") == "ok" for n in saved[0].scorecard.table.names)
     assert _status(result.overall, "calibration") == "ok"
@@ -67,14 +55,14 @@ def test_a_quarter_from_the_same_process_is_ok(saved):
 
 
 def test_a_shifted_population_is_act_on_its_characteristic_and_the_score(saved):
-    result = _monitor(saved[0], _frame(N_QUARTER, 3, shift=0.5))
+    result = _monitor(saved[0], ledgers.monitor_frame(N_QUARTER, 3, shift=0.5))
     assert _status(result.overall, "stability of income") == "act"
     assert _status(result.overall, "score stability") == "act"
     assert _status(result.overall, "stability of enquiries") == "ok"
 
 
 def test_a_doubled_bad_rate_is_act_on_calibration_but_not_discrimination(saved):
-    result = _monitor(saved[0], _frame(N_QUARTER, 4, bad_factor=2.0))
+    result = _monitor(saved[0], ledgers.monitor_frame(N_QUARTER, 4, bad_factor=2.0))
     assert _status(result.overall, "calibration") == "act"
     assert _status(result.overall, "discrimination") == "ok"
     large = result.overall.outcomes.in_the_large
@@ -113,7 +101,7 @@ def _run(*argv):
 
 
 def test_quarter_without_outcomes_checks_stability_only(saved, tmp_path):
-    frame = _frame(2000, 5).drop(columns="outcome")
+    frame = ledgers.monitor_frame(2000, 5).drop(columns="outcome")
     frame.to_csv(tmp_path / "q.csv", index=False)
     code, out, err = _run("monitor", str(saved[1]), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"))
     assert code == 0, err
@@ -122,7 +110,7 @@ def test_quarter_without_outcomes_checks_stability_only(saved, tmp_path):
 
 
 def test_per_quarter_trend_and_fail_on(saved, tmp_path):
-    frame = pd.concat([_frame(3000, 6, start="2025-01-01"), _frame(3000, 7, start="2025-04-01", bad_factor=2.0)])
+    frame = pd.concat([ledgers.monitor_frame(3000, 6, start="2025-01-01"), ledgers.monitor_frame(3000, 7, start="2025-04-01", bad_factor=2.0)])
     frame.to_csv(tmp_path / "q.csv", index=False)
     code, out, err = _run("monitor", str(saved[1]), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"), "--fail-on", "act")
     assert code == 1, err
@@ -130,7 +118,7 @@ def test_per_quarter_trend_and_fail_on(saved, tmp_path):
 
 
 def test_a_gap_between_quarters_is_bad_input(saved, tmp_path):
-    frame = pd.concat([_frame(500, 8, start="2025-01-01"), _frame(500, 9, start="2025-07-01")])
+    frame = pd.concat([ledgers.monitor_frame(500, 8, start="2025-01-01"), ledgers.monitor_frame(500, 9, start="2025-07-01")])
     frame.to_csv(tmp_path / "q.csv", index=False)
     code, _, err = _run("monitor", str(saved[1]), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"))
     assert code == 2
@@ -138,7 +126,7 @@ def test_a_gap_between_quarters_is_bad_input(saved, tmp_path):
 
 
 def test_a_missing_characteristic_is_named(saved, tmp_path):
-    _frame(500, 10).drop(columns="enquiries").to_csv(tmp_path / "q.csv", index=False)
+    ledgers.monitor_frame(500, 10).drop(columns="enquiries").to_csv(tmp_path / "q.csv", index=False)
     code, _, err = _run("monitor", str(saved[1]), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"))
     assert code == 2 and "column 'enquiries' of the scorecard is not in the ledger" in err
 
@@ -151,7 +139,7 @@ def test_a_damaged_or_newer_model_file_is_bad_input(saved, tmp_path, damage):
     else:
         document["format_version"] = 99
         save_model(document, tmp_path / "model.json")
-    _frame(500, 11).to_csv(tmp_path / "q.csv", index=False)
+    ledgers.monitor_frame(500, 11).to_csv(tmp_path / "q.csv", index=False)
     code, _, err = _run("monitor", str(tmp_path / "model.json"), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"))
     assert code == 2 and "Traceback" not in err
     assert ("not a valid model file" if damage == "corrupt" else "newer than this tool reads") in err

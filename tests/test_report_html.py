@@ -9,7 +9,6 @@ import shutil
 import subprocess
 import time
 import warnings
-from html.parser import HTMLParser
 
 import numpy as np
 import pandas as pd
@@ -21,6 +20,8 @@ from scorecard.build import build_scorecard
 from scorecard.report import CAUTION
 from scorecard.report.html import CUTOFF_ROWS, SECTIONS, render_report, write_report
 from scorecard.validation import validate_build
+
+import pages  # tests/pages.py: reading the reports
 
 SCRIPT_LEVEL = "<script>alert(1)</script>"
 FORMULA_LEVEL = '=1+2&"x"'
@@ -79,43 +80,6 @@ def page(built):
     return render_report(build, validation, generated_by="pytest")
 
 
-class _Page(HTMLParser):
-    """The text of a page, its tables as lists of rows of cell text, and every tag seen."""
-
-    def __init__(self, html: str):
-        super().__init__(convert_charrefs=True)
-        self.text: list[str] = []
-        self.tables: list[list[list[str]]] = []
-        self.tags: set[str] = set()
-        self._cell: list[str] | None = None
-        self.feed(html)
-        self.close()
-
-    def handle_starttag(self, tag, attrs):
-        self.tags.add(tag)
-        if tag == "table":
-            self.tables.append([])
-        elif tag == "tr" and self.tables:
-            self.tables[-1].append([])
-        elif tag in ("td", "th"):
-            self._cell = []
-
-    def handle_endtag(self, tag):
-        if tag in ("td", "th") and self._cell is not None:
-            self.tables[-1][-1].append("".join(self._cell).strip())
-            self._cell = None
-
-    def handle_data(self, data):
-        self.text.append(data)
-        if self._cell is not None:
-            self._cell.append(data)
-
-    def table(self, *head: str) -> list[list[str]]:
-        """Rows (without the header) of the first table whose header starts with ``head``."""
-        for table in self.tables:
-            if table and tuple(table[0][:len(head)]) == head:
-                return table[1:]
-        raise AssertionError(f"no table with header {head}")
 
 
 # --------------------------------------------------------------------------------------------
@@ -130,7 +94,7 @@ def test_every_section_has_its_id_and_is_in_the_contents(page):
 
 def test_headline_figures_equal_the_validation(built, page):
     _, validation = built
-    rows = {row[0]: row for row in _Page(page).table("sample", "goods", "bads", "bad rate", "AUC")}
+    rows = {row[0]: row for row in pages.Page(page).table("sample", "goods", "bads", "bad rate", "AUC")}
     assert set(rows) == set(validation.samples) == {"development", "hold-out", "out-of-time"}
     for name, checks in validation.samples.items():
         area = checks.auc
@@ -142,7 +106,7 @@ def test_headline_figures_equal_the_validation(built, page):
 def test_the_points_table_lists_every_bin_with_its_points(built, page):
     build, _ = built
     rows, current = [], ""
-    for characteristic, label, points in _Page(page).table("characteristic", "bin", "points"):
+    for characteristic, label, points in pages.Page(page).table("characteristic", "bin", "points"):
         current = characteristic or current
         rows.append((current, label, points))
     expected = [(row.characteristic, row.bin, f"{row.points:.0f}") for row in build.scorecard.table.to_frame().itertuples()]
@@ -151,18 +115,18 @@ def test_the_points_table_lists_every_bin_with_its_points(built, page):
 
 def test_hosmer_lemeshow_and_psi_figures_appear_as_computed(built, page):
     build, validation = built
-    text = " ".join(_Page(page).text)
+    text = " ".join(pages.Page(page).text)
     for checks in validation.samples.values():
         test = checks.hosmer_lemeshow
         assert f"df {test.df}, p-value " in text
         assert f"{test.statistic:,.2f}" in text
     for name, result in validation.score_stability.items():
-        assert [name, f"{result.value:.4f}", result.status] in _Page(page).table("sample", "score PSI", "status")
+        assert [name, f"{result.value:.4f}", result.status] in pages.Page(page).table("sample", "score PSI", "status")
 
 
 def test_every_note_of_the_build_is_listed(built, page):
     build, _ = built
-    text = _Page(page).text
+    text = pages.Page(page).text
     assert build.notes
     assert all(note in text for note in build.notes)  # each note is one list item
 
@@ -170,7 +134,7 @@ def test_every_note_of_the_build_is_listed(built, page):
 def test_the_cutoff_rows_shown_are_rows_of_the_holdout_table(built, page):
     _, validation = built
     table = validation.samples["hold-out"].cutoffs
-    shown = _Page(page).table("approve at or above", "approval rate", "bad rate among approved")
+    shown = pages.Page(page).table("approve at or above", "approval rate", "bad rate among approved")
     assert 3 <= len(shown) <= CUTOFF_ROWS + 1  # the KS cut-off may come on top of the round scores
     for cells in shown:
         # Approving from a score approves from the first cut-off at or above it.
@@ -182,7 +146,7 @@ def test_the_cutoff_rows_shown_are_rows_of_the_holdout_table(built, page):
 
 
 def test_the_caution_is_at_the_top_in_its_section_and_at_the_bottom(page):
-    text = _Page(page).text
+    text = pages.Page(page).text
     assert sum(CAUTION in chunk for chunk in text) == 3
 
 
@@ -206,14 +170,14 @@ def test_non_model_characteristics_are_folded_away_and_model_ones_come_first(bui
     build, _ = built
     model = build.scorecard.table.names
     others = [c.name for c in build.characteristics if c.name not in model]
-    overview = _Page(page).table("characteristic", "in the model", "IV")
+    overview = pages.Page(page).table("characteristic", "in the model", "IV")
     assert [row[0] for row in overview[:len(model)]] == list(model)
     assert page.count('<details class="characteristic"') == len(others)
 
 
 def test_the_settings_are_shown_as_toml_with_the_tool_version(built, page):
     build, _ = built
-    text = "".join(_Page(page).text)
+    text = "".join(pages.Page(page).text)
     assert scorecard.settings.settings_to_toml(build.settings) in text
     assert scorecard.__version__ in text and build.fingerprint.sha256 in text
     assert "scorewright build settings.toml" in text and "pytest" in text
@@ -224,7 +188,7 @@ def test_the_settings_are_shown_as_toml_with_the_tool_version(built, page):
 
 
 def test_hostile_category_labels_show_as_text_and_the_page_has_no_script(page):
-    parsed = _Page(page)
+    parsed = pages.Page(page)
     text = "".join(parsed.text)
     assert SCRIPT_LEVEL in text and FORMULA_LEVEL in text
     assert TITLE in text
@@ -235,7 +199,7 @@ def test_hostile_category_labels_show_as_text_and_the_page_has_no_script(page):
 
 def test_the_page_refers_to_nothing_outside_itself(page):
     assert not EXTERNAL.search(page)
-    assert not {"link", "img", "iframe", "object", "embed", "script"} & _Page(page).tags
+    assert not {"link", "img", "iframe", "object", "embed", "script"} & pages.Page(page).tags
 
 
 # --------------------------------------------------------------------------------------------

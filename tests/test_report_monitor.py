@@ -17,9 +17,7 @@ import re
 import shutil
 import subprocess
 import warnings
-from html.parser import HTMLParser
 
-import numpy as np
 import openpyxl
 import pandas as pd
 import pytest
@@ -35,6 +33,8 @@ from scorecard.report.monitor_html import WHAT_TO_DO, driving_checks, figure_tex
 from scorecard.report.monitor_workbook import monitor_workbook, sheet_names, write_monitor_workbook
 from scorecard.settings import Settings
 
+import ledgers  # tests/ledgers.py: the invented process these tests monitor
+import pages  # tests/pages.py: reading the reports
 import spreadsheet  # tests/spreadsheet.py: the LibreOffice recalculation
 
 N_DEVELOPMENT = 8_000
@@ -49,23 +49,9 @@ RECALC_RTOL = 1e-9
 RECALC_ATOL = 1e-12  # a contribution of exactly 0 has no relative scale
 
 
-def _frame(n, seed, *, shift=0.0, bad_factor=1.0, start="2024-01-01", days=90):
-    """Invented process: income and enquiries drive the outcome; housing a little."""
-    rng = np.random.default_rng(seed)
-    income = rng.lognormal(8 + shift, 0.4, n).round(-1)
-    enquiries = rng.poisson(1.2, n)
-    housing = rng.choice(["own", "rent", "family"], n, p=[0.5, 0.35, 0.15]).astype(object)
-    log_odds_bad = -2.2 - 1.1 * (np.log(income) - 8) + 0.35 * enquiries + np.where(housing == "rent", 0.3, 0.0)
-    p_bad = np.minimum(bad_factor / (1 + np.exp(-log_odds_bad)), 1.0)
-    outcome = np.where(rng.random(n) < p_bad, "bad", "good")
-    dates = pd.Timestamp(start) + pd.to_timedelta(rng.integers(0, days, n), unit="D")
-    return pd.DataFrame({"income": income, "enquiries": enquiries, "housing": housing, "outcome": outcome,
-                         "date": dates.strftime("%Y-%m-%d")})
-
-
 def _drifted() -> pd.DataFrame:
-    first = _frame(N_QUARTER, 3, shift=0.5, start="2025-01-01")
-    second = _frame(N_QUARTER, 4, bad_factor=2.0, start="2025-04-01")
+    first = ledgers.monitor_frame(N_QUARTER, 3, shift=0.5, start="2025-01-01")
+    second = ledgers.monitor_frame(N_QUARTER, 4, bad_factor=2.0, start="2025-04-01")
     frame = pd.concat([first, second], ignore_index=True)
     frame.loc[:6, "housing"] = HOSTILE_LEVEL
     frame.loc[7:9, "housing"] = FORMULA_LEVEL
@@ -83,7 +69,7 @@ def saved(folder):
                                   ledger={"date_column": "date"}, report={"title": "Invented <loans>"})
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")  # classing notes; not under test here
-        build = build_scorecard(_frame(N_DEVELOPMENT, 1, days=360), settings)
+        build = build_scorecard(ledgers.monitor_frame(N_DEVELOPMENT, 1, days=360), settings)
     path = save_model(model_document(build), folder / "model.json")
     return load_model(path), path
 
@@ -133,63 +119,6 @@ def book(saved, drifted):
     return monitor_workbook(result, saved[0], model_path=saved[1], ledger_fingerprint=fingerprint)
 
 
-class _Page(HTMLParser):
-    """The text of a page, its tables as rows of cell text, every tag, and the text of each section."""
-
-    def __init__(self, html: str):
-        super().__init__(convert_charrefs=True)
-        self.text: list[str] = []
-        self.tables: list[list[list[str]]] = []
-        self.tags: set[str] = set()
-        self.sections: dict[str, list[str]] = {}
-        self.status_words: list[tuple[str, str]] = []  # (class, text) of every status badge
-        self._cell: list[str] | None = None
-        self._section: str | None = None
-        self._badge: str | None = None
-        self.feed(html)
-        self.close()
-
-    def handle_starttag(self, tag, attrs):
-        attrs = dict(attrs)
-        self.tags.add(tag)
-        if tag == "section":
-            self._section = attrs.get("id")
-            self.sections[self._section] = []
-        elif tag == "table":
-            self.tables.append([])
-        elif tag == "tr" and self.tables:
-            self.tables[-1].append([])
-        elif tag in ("td", "th"):
-            self._cell = []
-        elif tag == "span" and "status" in (attrs.get("class") or "").split():
-            self._badge = attrs["class"]
-
-    def handle_endtag(self, tag):
-        if tag in ("td", "th") and self._cell is not None:
-            self.tables[-1][-1].append(" ".join("".join(self._cell).split()))
-            self._cell = None
-        elif tag == "section":
-            self._section = None
-
-    def handle_data(self, data):
-        self.text.append(data)
-        if self._cell is not None:
-            self._cell.append(data)
-        if self._section is not None:
-            self.sections[self._section].append(data)
-        if self._badge is not None:
-            self.status_words.append((self._badge, data))
-            self._badge = None
-
-    def table(self, *head: str) -> list[list[str]]:
-        """Rows (without the header) of the first table whose header starts with ``head``."""
-        for table in self.tables:
-            if table and tuple(table[0][:len(head)]) == head:
-                return table[1:]
-        raise AssertionError(f"no table with header {head}")
-
-    def section(self, name: str) -> str:
-        return " ".join("".join(self.sections[name]).split())
 
 
 # --------------------------------------------------------------------------------------------
@@ -209,7 +138,7 @@ def test_the_drifted_ledger_is_act_on_income_the_score_and_calibration(drifted):
 
 def test_the_page_leads_with_the_overall_status_and_the_checks_that_set_it(drifted, page):
     result = drifted[0]
-    parsed = _Page(page)
+    parsed = pages.Page(page)
     assert list(parsed.sections)[0] == "status"
     status = parsed.section("status")
     assert status.startswith(f"1 Status Overall status {result.status}")
@@ -226,9 +155,9 @@ def test_the_page_leads_with_the_overall_status_and_the_checks_that_set_it(drift
 
 
 def test_an_all_ok_quarter_shows_the_headline_checks_with_their_thresholds(saved, folder):
-    result, fingerprint, _ = _monitored(saved, _frame(N_QUARTER, 2), folder, "calm.csv")
+    result, fingerprint, _ = _monitored(saved, ledgers.monitor_frame(N_QUARTER, 2), folder, "calm.csv")
     assert result.status == "ok"
-    parsed = _Page(render_monitor(result, saved[0], ledger_fingerprint=fingerprint))
+    parsed = pages.Page(render_monitor(result, saved[0], ledger_fingerprint=fingerprint))
     rows = parsed.table("status", "check", "figure", "threshold")
     assert [row[1] for row in rows] == ["score stability", "discrimination", "calibration"]
     assert all(row[0] == "ok" and row[3] for row in rows)
@@ -236,14 +165,14 @@ def test_an_all_ok_quarter_shows_the_headline_checks_with_their_thresholds(saved
 
 
 def test_status_words_are_exactly_ok_watch_and_act(page):
-    badges = _Page(page).status_words
+    badges = pages.Page(page).status_words
     assert len(badges) > 40
     for css, word in badges:
         assert word in STATUSES and css.split()[-1] == word
 
 
 def test_the_page_says_how_statuses_are_set(drifted, page):
-    rules = _Page(page).section("rules")
+    rules = pages.Page(page).section("rules")
     checks = drifted[0].checks
     assert f"{checks.psi_watch:g} and above" in rules and f"below {checks.p_act:g}" in rules
     assert "common practice, no source (defaults 0.10 and 0.25)" in rules
@@ -260,7 +189,7 @@ def test_the_page_says_how_statuses_are_set(drifted, page):
 
 def test_stability_shows_baseline_and_new_bands_and_every_characteristic(drifted, page):
     result = drifted[0]
-    parsed = _Page(page)
+    parsed = pages.Page(page)
     bands = parsed.table("scores", "development", "share", "new", "share", "PSI contribution")
     score = result.overall.score_stability
     assert [row[0] for row in bands] == [*score.labels, "all"]
@@ -275,14 +204,14 @@ def test_stability_shows_baseline_and_new_bands_and_every_characteristic(drifted
 
 
 def test_an_unseen_level_is_named_with_its_count_and_escaped(drifted, page):
-    unseen = _Page(page).table("characteristic", "level never seen at build time", "rows")
+    unseen = pages.Page(page).table("characteristic", "level never seen at build time", "rows")
     assert ["housing", HOSTILE_LEVEL, "7"] in unseen and ["housing", FORMULA_LEVEL, "3"] in unseen
     assert "&lt;b&gt;x&lt;/b&gt;" in page and HOSTILE_LEVEL not in page
     assert "Invented &lt;loans&gt;" in page
 
 
 def test_discrimination_and_calibration_are_shown_with_outcomes(drifted, page):
-    parsed = _Page(page)
+    parsed = pages.Page(page)
     outcomes = drifted[0].overall.outcomes
     comparison = parsed.table("figure", "development", "new", "change")
     assert [row[0] for row in comparison] == ["AUC", "Gini", "KS"]
@@ -298,7 +227,7 @@ def test_discrimination_and_calibration_are_shown_with_outcomes(drifted, page):
 def test_without_outcomes_the_page_says_stability_only_and_shows_no_calibration_figures(saved, no_outcomes):
     result = no_outcomes[0]
     assert result.overall.outcomes is None
-    parsed = _Page(_page(saved, no_outcomes))
+    parsed = pages.Page(_page(saved, no_outcomes))
     status = parsed.section("status")
     assert "Stability only." in status and "discrimination and calibration were not checked" in status
     calibration = parsed.section("calibration")
@@ -310,7 +239,7 @@ def test_without_outcomes_the_page_says_stability_only_and_shows_no_calibration_
 
 def test_a_dated_ledger_has_the_trend_of_every_check_by_quarter(drifted, page):
     result = drifted[0]
-    parsed = _Page(page)
+    parsed = pages.Page(page)
     trend = next(t for t in parsed.tables if t and t[0][:2] == ["check", "whole ledger"])
     assert trend[0] == ["check", "whole ledger", "2025Q1", "2025Q2"]
     by_check = {row[0]: row[1:] for row in trend[1:]}
@@ -323,13 +252,13 @@ def test_a_dated_ledger_has_the_trend_of_every_check_by_quarter(drifted, page):
 
 
 def test_an_undated_ledger_says_why_there_is_no_trend(saved, undated):
-    parsed = _Page(_page(saved, undated))
+    parsed = pages.Page(_page(saved, undated))
     assert "No trend by quarter: the ledger has no date column 'date'" in parsed.section("quarters")
     assert not any(t and t[0][:2] == ["check", "whole ledger"] for t in parsed.tables)
 
 
 def test_the_page_carries_the_caution_and_identifies_model_and_ledger(saved, drifted, page):
-    parsed = _Page(page)
+    parsed = pages.Page(page)
     assert CAUTION in parsed.section("cautions")
     reproducibility = parsed.section("reproducibility")
     document = saved[0].document
@@ -342,7 +271,7 @@ def test_the_page_carries_the_caution_and_identifies_model_and_ledger(saved, dri
 def test_the_page_has_no_script_and_refers_to_nothing_outside_itself(page):
     assert "<script" not in page.lower()
     assert not EXTERNAL.search(page)
-    assert not {"script", "link", "img", "iframe", "object", "embed"} & _Page(page).tags
+    assert not {"script", "link", "img", "iframe", "object", "embed"} & pages.Page(page).tags
 
 
 def test_write_monitor_writes_the_page_and_leaves_no_temporary_file(saved, drifted, tmp_path):
