@@ -96,13 +96,14 @@ def class_ledger(ledger: Ledger, settings: Settings, *,
         Development WoE per characteristic, the bin code of every row, and notes of every repair
         and broken constraint.
     """
-    fitting = (ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD))
-    sample_rows = _fine_sample(np.flatnonzero(fitting), settings)
-    return class_batches(
-        lambda names: iter([(0, ledger.frame)]), ledger.characteristics, ledger.outcome, ledger.weight, ledger.sample,
-        settings, fine_rows=ledger.frame.iloc[sample_rows], fine_weights=ledger.weight[sample_rows],
-        keep_codes=True, progress=progress,
-    )
+    fine_rows, fine_weights = _fine_rows(ledger, _whole(ledger), _fitting_rows(ledger), settings, in_memory=True)
+    return class_batches(_whole(ledger), ledger.characteristics, ledger.outcome, ledger.weight, ledger.sample, settings,
+                         fine_rows=fine_rows, fine_weights=fine_weights, keep_codes=True, progress=progress)
+
+
+def _fitting_rows(ledger: Ledger) -> np.ndarray:
+    """The development rows with a good or bad outcome: the rows every fit and classing is made on."""
+    return np.flatnonzero((ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD)))
 
 
 Batches = Callable[[Sequence[str]], Iterator[tuple[int, pd.DataFrame]]]
@@ -446,7 +447,7 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
         else:
             ledger = load_ledger(data, settings)
             batches, in_memory = _whole(ledger), True
-    fitting = np.flatnonzero((ledger.sample == DEVELOPMENT) & ((ledger.outcome == GOOD) | (ledger.outcome == BAD)))
+    fitting = _fitting_rows(ledger)
     with clock("classing"):
         fine_rows, fine_weights = _fine_rows(ledger, batches, fitting, settings, in_memory=in_memory)
         classed = class_batches(batches, ledger.characteristics, ledger.outcome, ledger.weight, ledger.sample, settings,

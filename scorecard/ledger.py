@@ -676,9 +676,9 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, batch_r
                     if c and c in head.columns]
 
     def batches(columns: Sequence[str]):
-        wanted = [c.name for c in characteristics if c.name in columns]
+        read = [c for c in characteristics if c.name in columns]
         for first_row, frame in _file_batches(path, suffix, list(columns), types, batch_rows):
-            check_finite(frame, [c for c in characteristics if c.name in wanted], source_name, first_row=first_row)
+            check_finite(frame, read, source_name, first_row=first_row)
             yield first_row, frame
 
     parts = [role_values(frame, settings, source_name, first_row=first_row)
