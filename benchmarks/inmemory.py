@@ -62,8 +62,8 @@ def scoring_seconds(frame: pd.DataFrame, model: str, *, repeats: int) -> dict:
 def report_seconds(frame: pd.DataFrame, settings_path: str, *, repeats: int) -> dict:
     """Build and validate on ``frame``, then time the HTML report and the workbook."""
     try:
-        from scorecard.report.html import render_report
-        from scorecard.report.workbook import workbook
+        from scorecard.report.build_page import render_report
+        from scorecard.report.build_sheets import workbook
     except ImportError as error:
         return {"unavailable": f"{type(error).__name__}: {error}"}
     from scorecard.build import build_scorecard

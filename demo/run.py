@@ -14,8 +14,10 @@ import tomllib
 from importlib import resources
 from pathlib import Path
 
+from scorecard.commands import check_output_folder
 from scorecard.demo import generator
-from scorecard.errors import ScorecardError
+from scorecard.errors import ScorecardError, SettingsError
+from scorecard.options import DemoOptions, Streams
 from scorecard.settings import toml_value
 
 BUILD_QUARTERS = 6  # 2024Q1 to 2025Q2: the history the scorecard is built on
@@ -23,10 +25,14 @@ OUT_OF_TIME_FROM = "2025-01-01"  # the last two of those quarters are kept out o
 SPECIAL = ("months_since_delinquency=-1", "months_since_last_enquiry=999")
 
 
-def run_demo(out: Path, *, rows: int, seed: int, streams) -> int:
-    """Run the demo into folder ``out``; return 0 when every step succeeded."""
-    from scorecard.cli import main
+def run_demo(options: DemoOptions, streams: Streams) -> int:
+    """Run the demo into folder ``options.out``; return 0 when every step succeeded (``scorewright demo``)."""
+    from scorecard.cli import main  # the demo types the commands an analyst would
 
+    if options.rows < 8_000:
+        raise SettingsError(f"--rows {options.rows}: the demo needs at least 8000 applications (1000 a quarter).")
+    check_output_folder(options.out, options.force)
+    out, rows, seed = options.out, options.rows, options.seed
     started = time.perf_counter()
     data = out / "data"
     data.mkdir(parents=True, exist_ok=True)

@@ -4,142 +4,37 @@
 maps our exceptions to exit codes: 0 done (warnings allowed), 1 a check failed that the user
 asked to fail on, 2 bad input or usage. Bad input never shows a traceback (``--traceback`` does,
 for developers). Results go to stdout; messages, warnings and errors to stderr.
+
+The work of each command is in ``commands`` (one table, ``COMMANDS``, from name to function);
+the options, streams and exit codes both use are in ``options``.
 """
 
 from __future__ import annotations
 
 import argparse
 import contextlib
+import importlib
 import sys
 import warnings
-from collections.abc import Iterable, Sequence
-from dataclasses import dataclass
+from collections.abc import Sequence
 from pathlib import Path
 from typing import IO
 
-EXIT_OK, EXIT_CHECK_FAILED, EXIT_BAD_INPUT = 0, 1, 2
+from .options import (
+    EXIT_BAD_INPUT, EXIT_CODES, EXIT_OK, BuildOptions, DemoOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions,
+    Streams,
+)
 
-EXIT_CODES = """exit codes:
-  0  done (warnings allowed)
-  1  a check reached the status given with --fail-on
-  2  bad input or usage: the message says what, where and what to do"""
-
-
-@dataclass(frozen=True)
-class Streams:
-    """Where a command writes: results to ``out``, messages to ``err``."""
-
-    out: IO[str]
-    err: IO[str]
-    quiet: bool = False
-
-    def say(self, text: str = "") -> None:
-        """Write a result line to stdout."""
-        print(text, file=self.out)
-
-    def note(self, text: str) -> None:
-        """Write a progress or information line to stderr (hidden by --quiet)."""
-        if not self.quiet:
-            print(f"scorewright: {text}", file=self.err)
-
-    def warn(self, text: str) -> None:
-        """Write a warning to stderr (hidden by --quiet)."""
-        if not self.quiet:
-            print(f"scorewright: warning: {text}", file=self.err)
-
-    def progress(self, items: Iterable, description: str) -> Iterable:
-        """Wrap a loop in a progress bar when stderr is a terminal, else return it unchanged."""
-        if self.quiet or not getattr(self.err, "isatty", lambda: False)():
-            return items
-        from tqdm import tqdm
-
-        return tqdm(items, desc=description, file=self.err, leave=False, unit="")
-
-
-# --------------------------------------------------------------------------------------------
-# Options of each command
-
-
-@dataclass(frozen=True)
-class InitOptions:
-    """Options of ``scorewright init``."""
-
-    ledger: Path
-    target: str
-    bad: tuple[str, ...] = ()
-    good: tuple[str, ...] = ()
-    indeterminate: tuple[str, ...] = ()
-    id_column: str | None = None
-    date_column: str | None = None
-    weight_column: str | None = None
-    special: tuple[str, ...] = ()
-    leave_out: tuple[str, ...] = ()
-    out_of_time_from: str = ""
-    holdout: float | None = None
-    out: Path = Path("scorecard.toml")
-    force: bool = False
-
-
-@dataclass(frozen=True)
-class BuildOptions:
-    """Options of ``scorewright build``."""
-
-    source: Path
-    target: str | None = None
-    bad: tuple[str, ...] = ()
-    good: tuple[str, ...] = ()
-    indeterminate: tuple[str, ...] = ()
-    out: Path | None = None
-    force: bool = False
-    reports: bool = True
-    timings: bool = False
-    stream: bool = False
-
-
-@dataclass(frozen=True)
-class ScoreOptions:
-    """Options of ``scorewright score``."""
-
-    model: Path
-    ledger: Path
-    out: Path
-    reasons: int | None = None
-    force: bool = False
-    stream: bool = False
-
-
-@dataclass(frozen=True)
-class MonitorOptions:
-    """Options of ``scorewright monitor``."""
-
-    model: Path
-    ledger: Path
-    out: Path | None = None
-    fail_on: str | None = None
-    force: bool = False
-    stream: bool = False
-
-
-@dataclass(frozen=True)
-class DemoOptions:
-    """Options of ``scorewright demo``."""
-
-    out: Path = Path("demo-run")
-    rows: int = 40_000
-    seed: int = 2024
-    force: bool = False
-
-
-@dataclass(frozen=True)
-class SetOptions:
-    """Options of ``scorewright set``."""
-
-    settings: Path
-    assignments: tuple[str, ...]
-
-
-# --------------------------------------------------------------------------------------------
-# The parser
+# Each command's work: module and function. The demo is a script over the other commands, so
+# it sits above this module (scorecard.demo.run calls main); this lazy look-up is its only way in.
+COMMANDS = {
+    "init": "commands:run_init",
+    "set": "commands:run_set",
+    "build": "commands:run_build",
+    "score": "commands:run_score",
+    "monitor": "commands:run_monitor",
+    "demo": "demo.run:run_demo",
+}
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -204,7 +99,7 @@ def _add_init(commands) -> None:
     parser.add_argument("--out", type=Path, default=Path("scorecard.toml"), help="settings file to write (default: scorecard.toml)")
     parser.add_argument("--force", action="store_true", help="overwrite the settings file if it exists")
     _add_common(parser)
-    parser.set_defaults(make_options=_init_options, run=_run_init)
+    parser.set_defaults(make_options=_init_options)
 
 
 def _init_options(args: argparse.Namespace) -> InitOptions:
@@ -214,12 +109,6 @@ def _init_options(args: argparse.Namespace) -> InitOptions:
         weight_column=args.weight_column, special=tuple(args.special), leave_out=tuple(args.leave_out),
         out_of_time_from=args.out_of_time_from, holdout=args.holdout, out=args.out, force=args.force,
     )
-
-
-def _run_init(options: InitOptions, streams: Streams) -> int:
-    from .commands import run_init
-
-    return run_init(options, streams)
 
 
 def _add_set(commands) -> None:
@@ -239,13 +128,7 @@ def _add_set(commands) -> None:
     parser.add_argument("settings", type=Path, help="the settings file to change")
     parser.add_argument("assignments", nargs="+", metavar="KEY=VALUE", help="dotted key and its new value")
     _add_common(parser)
-    parser.set_defaults(make_options=lambda a: SetOptions(a.settings, tuple(a.assignments)), run=_run_set)
-
-
-def _run_set(options: SetOptions, streams: Streams) -> int:
-    from .commands import run_set
-
-    return run_set(options, streams)
+    parser.set_defaults(make_options=lambda a: SetOptions(a.settings, tuple(a.assignments)))
 
 
 def _add_build(commands) -> None:
@@ -277,14 +160,7 @@ def _add_build(commands) -> None:
     parser.set_defaults(
         make_options=lambda a: BuildOptions(a.source, a.target, tuple(a.bad), tuple(a.good), tuple(a.indeterminate), a.out,
                                             a.force, a.reports, a.timings, a.stream),
-        run=_run_build,
     )
-
-
-def _run_build(options: BuildOptions, streams: Streams) -> int:
-    from .commands import run_build
-
-    return run_build(options, streams)
 
 
 def _add_score(commands) -> None:
@@ -307,7 +183,7 @@ def _add_score(commands) -> None:
     parser.add_argument("--force", action="store_true", help="overwrite FILE if it exists")
     parser.add_argument("--stream", action="store_true", help="read and write in batches (automatic above ledger.stream_above_mb)")
     _add_common(parser)
-    parser.set_defaults(make_options=lambda a: ScoreOptions(a.model, a.ledger, a.out, a.reasons, a.force, a.stream), run=_run_score)
+    parser.set_defaults(make_options=lambda a: ScoreOptions(a.model, a.ledger, a.out, a.reasons, a.force, a.stream))
 
 
 def _add_monitor(commands) -> None:
@@ -332,13 +208,7 @@ def _add_monitor(commands) -> None:
     parser.add_argument("--force", action="store_true", help="write into the output folder even if it exists")
     parser.add_argument("--stream", action="store_true", help="read the ledger in batches (automatic above ledger.stream_above_mb)")
     _add_common(parser)
-    parser.set_defaults(make_options=lambda a: MonitorOptions(a.model, a.ledger, a.out, a.fail_on, a.force, a.stream), run=_run_monitor)
-
-
-def _run_monitor(options: MonitorOptions, streams: Streams) -> int:
-    from .commands import run_monitor
-
-    return run_monitor(options, streams)
+    parser.set_defaults(make_options=lambda a: MonitorOptions(a.model, a.ledger, a.out, a.fail_on, a.force, a.stream))
 
 
 def _add_demo(commands) -> None:
@@ -358,19 +228,7 @@ def _add_demo(commands) -> None:
     parser.add_argument("--seed", type=int, default=2024, help="seed of the generator (default 2024)")
     parser.add_argument("--force", action="store_true", help="write into the output folder even if it exists")
     _add_common(parser)
-    parser.set_defaults(make_options=lambda a: DemoOptions(a.out, a.rows, a.seed, a.force), run=_run_demo)
-
-
-def _run_demo(options: DemoOptions, streams: Streams) -> int:
-    from .commands import run_demo
-
-    return run_demo(options, streams)
-
-
-def _run_score(options: ScoreOptions, streams: Streams) -> int:
-    from .commands import run_score
-
-    return run_score(options, streams)
+    parser.set_defaults(make_options=lambda a: DemoOptions(a.out, a.rows, a.seed, a.force))
 
 
 # --------------------------------------------------------------------------------------------
@@ -403,9 +261,10 @@ def main(argv: Sequence[str] | None = None, *, stdout: IO[str] | None = None, st
 
     try:
         options = args.make_options(args)
+        run = _command(args.command)
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always", ScorecardWarning)
-            code = args.run(options, streams)
+            code = run(options, streams)
         _show_warnings(caught, streams)
         return code
     except ScorecardError as error:
@@ -425,6 +284,12 @@ def main(argv: Sequence[str] | None = None, *, stdout: IO[str] | None = None, st
     except KeyboardInterrupt:
         print("scorewright: interrupted; no output was left half-written.", file=err)
         return 130
+
+
+def _command(name: str):
+    """The function that does a command's work, imported on first use (so that --help stays fast)."""
+    module, _, function = COMMANDS[name].partition(":")
+    return getattr(importlib.import_module(f".{module}", __package__), function)
 
 
 def _show_warnings(caught: list, streams: Streams) -> None:
@@ -464,4 +329,3 @@ def _version() -> str:
     from . import __version__
 
     return __version__
-

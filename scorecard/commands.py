@@ -17,19 +17,20 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .build import ClassedLedger, Stopwatch, build_scorecard, class_ledger
-from .classing import classing_settings_values
-from .cli import (
-    EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, DemoOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions, Streams,
-)
+from .build import Stopwatch, build_scorecard
+from .classing import ClassedLedger, class_ledger, classing_settings_values
 from .errors import LedgerError, SettingsError
 from .files import replacing, write_text_atomically
-from .ledger import (
-    NUMERIC, closest_names, default_outcome_mapping, detect_kind, fingerprint_of,
-    ledger_columns, looks_like_identifier_or_date, outcome_key, prepare_ledger, read_batches, read_ledger, should_stream,
-    stream_ledger,
+from .intake import (
+    closest_names, default_outcome_mapping, detect_kind, fingerprint_of, ledger_columns, looks_like_identifier_or_date,
+    open_ledger, outcome_key, prepare_ledger, read_batches, read_ledger,
 )
 from .modelfile import load_model, model_document, save_model
+from .options import (
+    EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions, Streams,
+)
+from .report.text import build_summary, iv_table, monitor_summary
+from .rows import reads_in_batches, tally_unseen
 from .settings import (
     CharacteristicSettings, Settings, edit_settings, read_settings, settings_from_mapping, settings_to_mapping, write_settings,
 )
@@ -195,24 +196,6 @@ def _proposals(ledger, classed: ClassedLedger, settings: Settings):
     return characteristics, comments
 
 
-def iv_table(classed: ClassedLedger, left_out: dict[str, str] | None = None) -> str:
-    """Return an aligned text table of characteristics sorted by IV, strongest first."""
-    rows = [("characteristic", "kind", "bins", "IV", "strength", "flag")]
-    ranked = sorted(classed.characteristics, key=lambda c: -c.evidence.iv)
-    for char in ranked:
-        flag = "check for leakage" if char.evidence.leakage_flag else ""
-        kind = "numeric" if char.binning.kind == NUMERIC else "categorical"
-        rows.append((char.name, kind, str(char.binning.n_bins), f"{char.evidence.iv:.4f}", char.evidence.strength, flag))
-    widths = [max(len(row[i]) for row in rows) for i in range(len(rows[0]))]
-    aligned = ["  ".join(cell.rjust(w) if i in (2, 3) else cell.ljust(w) for i, (cell, w) in enumerate(zip(row, widths))).rstrip()
-               for row in rows]
-    lines = [aligned[0], "  ".join("-" * w for w in widths).rstrip(), *aligned[1:]]
-    for name, why in (left_out or {}).items():
-        lines.append(f"{name}: left out ({why})")
-    return "\n".join(lines)
-
-
-
 # --------------------------------------------------------------------------------------------
 # build
 
@@ -224,17 +207,15 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     settings, ledger_path = _build_settings(options)
     out = options.out or ledger_path.parent / f"{options.source.stem}-build"
     check_output_folder(out, options.force)
-    if options.stream or should_stream(ledger_path, settings):
+    in_batches = reads_in_batches(ledger_path, settings.ledger.stream_above_mb, asked=options.stream or None)
+    if in_batches:
         streams.note(f"reading {ledger_path.name} in batches of about {settings.ledger.batch_rows:,} rows")
-        data = ledger_path
-    else:
-        with clock("read"):
-            frame = read_ledger(ledger_path)
-        streams.note(f"read {len(frame):,} rows and {frame.shape[1]} columns from {ledger_path.name}")
-        with clock("intake"):
-            data = prepare_ledger(frame, settings, source=ledger_path.name, fingerprint=fingerprint_of(ledger_path, len(frame)))
-    build = build_scorecard(data, settings, progress=lambda items: streams.progress(items, "classing"), timings=timings,
-                            stream=bool(options.stream) or None, batch_rows=settings.ledger.batch_rows)
+    with clock("intake"):
+        ledger, rows = open_ledger(ledger_path, settings, stream=in_batches)
+    if not in_batches:
+        streams.note(f"read {ledger.n_rows:,} rows and {rows.frame.shape[1]} columns from {ledger_path.name}")
+    build = build_scorecard(ledger, settings, rows=rows, progress=lambda items: streams.progress(items, "classing"),
+                            timings=timings)
     resolved = replace(build.settings, ledger=replace(build.settings.ledger, path=os.path.relpath(ledger_path.resolve(), out.resolve())))
     with clock("model file"):
         document = model_document(replace(build, settings=resolved))
@@ -259,8 +240,8 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
 
 def _write_build_reports(build, out: Path, clock, options: BuildOptions) -> list[Path]:
     """Run every validation check and write the HTML report and the workbook."""
-    from .report.html import write_report
-    from .report.workbook import write_workbook
+    from .report.build_page import write_report
+    from .report.build_sheets import write_workbook
     from .validation import validate_build
 
     with clock("checks"):
@@ -300,38 +281,6 @@ def check_output_folder(out: Path, force: bool) -> None:
         raise SettingsError(f"{out}: the output folder exists and is not empty. Pass --force to write into it, or choose another --out.")
 
 
-def build_summary(build) -> str:
-    """Return the short text summary of a build: samples, characteristics with coefficients, figures per sample."""
-    samples = build.samples
-    counts = ", ".join(f"{name} {int(samples.loc[name, 'rows']):,}" for name in samples.index if samples.loc[name, "rows"] > 0)
-    fit = build.selection.fit
-    lines = [f"scorecard built from {build.source} ({build.fingerprint.n_rows:,} rows: {counts})", ""]
-    rows = [("characteristic", "coefficient", "std error", "IV", "flag")]
-    for name, coefficient, error in zip(fit.names[1:], fit.coefficients[1:], fit.std_errors[1:]):
-        evidence = build.characteristic(name).evidence
-        flag = "check for leakage" if evidence.leakage_flag else ""
-        rows.append((name, f"{coefficient:.4f}", f"{error:.4f}", f"{evidence.iv:.4f}", flag))
-    lines += _aligned(rows, numeric=(1, 2, 3))
-    flagged = [name for name in fit.names[1:] if build.characteristic(name).evidence.leakage_flag]
-    if flagged:
-        lines += ["", f"FLAGGED: {', '.join(flagged)} {'has' if len(flagged) == 1 else 'have'} an IV above "
-                  f"{build.settings.selection.leakage_iv} and {'is' if len(flagged) == 1 else 'are'} in the model. Check each is "
-                  "known at the time of application; if not, set use = \"never\" and build again."]
-    lines += ["", f"intercept {fit.coefficients[0]:.4f}; {len(fit.names) - 1} characteristics; scores from "
-              f"{build.scorecard.table.min_score:g} to {build.scorecard.table.max_score:g}", ""]
-    figures = [("sample", "AUC", "Gini", "KS")]
-    for sample, values in build.performance().items():
-        figures.append((sample, f"{values['auc']:.4f}", f"{values['gini']:.4f}", f"{values['ks']:.4f}"))
-    lines += _aligned(figures, numeric=(1, 2, 3))
-    return "\n".join(lines)
-
-
-def _aligned(rows, *, numeric=()) -> list[str]:
-    widths = [max(len(row[i]) for row in rows) for i in range(len(rows[0]))]
-    return ["  ".join(cell.rjust(w) if i in numeric else cell.ljust(w) for i, (cell, w) in enumerate(zip(row, widths))).rstrip()
-            for row in rows]
-
-
 # --------------------------------------------------------------------------------------------
 # score
 
@@ -354,7 +303,7 @@ def run_score(options: ScoreOptions, streams: Streams) -> int:
     wanted = [b.characteristic for b in scorecard.binnings] + ([scorecard.id_column] if scorecard.id_column in columns else [])
     if any(b.characteristic not in columns for b in scorecard.binnings):
         scorecard.codes(pd.DataFrame(columns=columns), source=source)  # raises, naming the missing columns
-    if options.stream or should_stream(options.ledger, saved.settings):
+    if reads_in_batches(options.ledger, saved.settings.ledger.stream_above_mb, asked=options.stream or None):
         batches = read_batches(options.ledger, wanted, batch_rows=saved.settings.ledger.batch_rows)
     else:  # only the columns scoring needs are read
         batches = iter([(0, read_ledger(options.ledger, columns=wanted))])
@@ -364,9 +313,7 @@ def run_score(options: ScoreOptions, streams: Streams) -> int:
     def scored_batches():
         for first_row, frame in batches:
             scored = scorecard.score(frame, reason_count=count, source=source)
-            for name, levels in scorecard.unseen(frame).items():
-                for level, n in levels.items():
-                    unseen.setdefault(name, {})[level] = unseen.get(name, {}).get(level, 0) + n
+            tally_unseen(unseen, scorecard.unseen(frame))
             if scorecard.id_column and scorecard.id_column in frame.columns:
                 scored.insert(0, scorecard.id_column, frame[scorecard.id_column].to_numpy())
             else:  # as a spreadsheet numbers them: the header is row 1
@@ -419,25 +366,22 @@ def write_tables_atomically(frames, path: Path) -> Path:
 
 def run_monitor(options: MonitorOptions, streams: Streams) -> int:
     """Check a new ledger against a saved model's baseline; write the monitoring reports."""
-    from .monitor import monitor_batches, monitor_ledger
-    from .report.monitor_html import write_monitor
-    from .report.monitor_workbook import write_monitor_workbook
+    from .monitor import monitor_rows
+    from .report.monitor_page import write_monitor
+    from .report.monitor_sheets import write_monitor_workbook
 
     out = options.out or options.ledger.parent / f"{options.ledger.stem}-monitor"
     check_output_folder(out, options.force)
     saved = load_model(options.model)
     source = options.ledger.name
-    if options.stream or should_stream(options.ledger, saved.settings):
-        settings = monitoring_settings(saved.settings, ledger_columns(options.ledger))
+    settings = monitoring_settings(saved.settings, ledger_columns(options.ledger))
+    in_batches = reads_in_batches(options.ledger, settings.ledger.stream_above_mb, asked=options.stream or None)
+    if in_batches:
         streams.note(f"reading {source} in batches of about {settings.ledger.batch_rows:,} rows")
-        ledger, batches = stream_ledger(options.ledger, settings, require_outcome=False, batch_rows=settings.ledger.batch_rows)
-        result = monitor_batches(saved, batches, ledger.outcome, ledger.weight, ledger.dates, source=source)
-    else:
-        frame = read_ledger(options.ledger)
-        streams.note(f"read {len(frame):,} rows from {source}")
-        ledger = prepare_ledger(frame, monitoring_settings(saved.settings, frame.columns), source=source,
-                                fingerprint=fingerprint_of(options.ledger, len(frame)), require_outcome=False)
-        result = monitor_ledger(saved, frame, ledger.outcome, ledger.weight, ledger.dates, source=source)
+    ledger, rows = open_ledger(options.ledger, settings, stream=in_batches, require_outcome=False)
+    if not in_batches:
+        streams.note(f"read {ledger.n_rows:,} rows from {source}")
+    result = monitor_rows(saved, rows, ledger.dates, source=source)
     for note in (*ledger.notes, *result.notes):
         if note not in ledger.left_out.values() and "left out:" not in note:
             streams.note(note)
@@ -474,48 +418,6 @@ def monitoring_settings(settings: Settings, columns) -> Settings:
         # a characteristic the new ledger lacks is named by the scorecard's own check, which says why it matters
         characteristics={name: spec for name, spec in settings.characteristics.items() if name in columns},
     )
-
-
-def monitor_summary(result, *, model: Path) -> str:
-    """Return the short text summary of a monitoring run: overall status first, then each check."""
-    from .monitor import STATUSES
-    overall = result.overall
-    lines = [
-        f"monitoring {result.source} with {model}",
-        f"{overall.rows:,.0f} rows: {overall.goods:,.0f} good, {overall.bads:,.0f} bad, "
-        f"{overall.indeterminate:,.0f} indeterminate, {overall.unknown:,.0f} with no outcome yet",
-        "",
-        f"overall status: {result.status}",
-    ]
-    ranked = sorted(overall.statuses, key=lambda s: -STATUSES.index(s.status))
-    raised = [s for s in ranked if s.status != "ok"]
-    rows = [(s.status, s.check, f"{s.figure} {s.value:.3g}", s.thresholds) for s in raised]
-    for line, status in zip(_aligned(rows) if rows else [], raised):
-        lines += ["  " + line, f"         {status.detail}"]
-    calm = [s.check for s in ranked if s.status == "ok"]
-    if calm:
-        lead = f"ok on the other {len(calm)} checks" if raised else f"ok on all {len(calm)} checks"
-        lines.append(f"  {lead}: {', '.join(calm[:4])}{', ...' if len(calm) > 4 else ''}")
-    if overall.outcomes is None:
-        lines += ["", "stability only: no row has a known outcome, so discrimination and calibration are not checked"]
-    if result.quarters:
-        lines += ["", "per quarter: " + ", ".join(f"{q.period} {q.status}" for q in result.quarters)]
-    return "\n".join(lines)
-
-
-
-# --------------------------------------------------------------------------------------------
-# demo
-
-
-def run_demo(options: DemoOptions, streams: Streams) -> int:
-    """Run the whole flow on the invented demo scenario."""
-    from .demo.run import run_demo as run
-
-    if options.rows < 8_000:
-        raise SettingsError(f"--rows {options.rows}: the demo needs at least 8000 applications (1000 a quarter).")
-    check_output_folder(options.out, options.force)
-    return run(options.out, rows=options.rows, seed=options.seed, streams=streams)
 
 
 # --------------------------------------------------------------------------------------------

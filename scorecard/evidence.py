@@ -20,9 +20,9 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-EMPTY_CELL = 0.5
+from .terms import EMPTY_CELL, LEAKAGE_IV, frozen
+
 STRENGTH_BOUNDS = ((0.02, "unpredictive"), (0.1, "weak"), (0.3, "medium"), (np.inf, "strong"))
-LEAKAGE_IV = 0.5
 
 
 def woe_values(goods: np.ndarray, bads: np.ndarray, total_goods: float, total_bads: float,
@@ -138,7 +138,7 @@ def evidence_table(goods: Sequence[float], bads: Sequence[float], *, labels: Seq
     >>> round(t.iv, 4)
     0.9593
     """
-    goods, bads = _frozen(goods), _frozen(bads)
+    goods, bads = frozen(goods), frozen(bads)
     total_goods, total_bads = goods.sum(), bads.sum()
     woe = woe_values(goods, bads, total_goods, total_bads, empty_cell=empty_cell)
     share_goods, share_bads = goods / total_goods, bads / total_bads
@@ -148,14 +148,9 @@ def evidence_table(goods: Sequence[float], bads: Sequence[float], *, labels: Seq
     iv = float(contributions.sum())
     return EvidenceTable(
         characteristic=characteristic, sample=sample, labels=tuple(labels), goods=goods, bads=bads,
-        n_goods=_frozen(goods if n_goods is None else n_goods), n_bads=_frozen(bads if n_bads is None else n_bads),
-        share_goods=_frozen(share_goods), share_bads=_frozen(share_bads), bad_rate=_frozen(bad_rate),
-        woe=_frozen(woe), iv_contributions=_frozen(contributions), adjusted=_frozen((goods <= 0) | (bads <= 0)),
+        n_goods=frozen(goods if n_goods is None else n_goods), n_bads=frozen(bads if n_bads is None else n_bads),
+        share_goods=frozen(share_goods), share_bads=frozen(share_bads), bad_rate=frozen(bad_rate),
+        woe=frozen(woe), iv_contributions=frozen(contributions), adjusted=frozen((goods <= 0) | (bads <= 0)),
         iv=iv, strength=iv_strength(iv), leakage_flag=iv > leakage_iv,
     )
 
-
-def _frozen(values) -> np.ndarray:
-    array = np.array(values, dtype=float if not isinstance(values, np.ndarray) or values.dtype != bool else bool)
-    array.setflags(write=False)
-    return array

@@ -1,7 +1,7 @@
 """Writing outputs safely: every file goes to a temporary name in its folder and is renamed into place.
 
 A failed or interrupted run therefore leaves either the old file or the new one, never half of
-one; the temporary file is removed on failure. Only the modules that write files use this
+one; the temporary file is removed on failure. Every module that writes a file uses this
 (``settings``, ``modelfile``, ``report``, ``commands``, the demo generator).
 """
 

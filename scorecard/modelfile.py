@@ -25,9 +25,11 @@ from . import __version__
 from .classing import Binning
 from .errors import ModelFileError
 from .files import write_text_atomically
-from .ledger import SAMPLE_NAMES
-from .points import CharacteristicPoints, PointsTable, Scaling, Scorecard, ScoreHistogram
+from .points import CharacteristicPoints, PointsTable, Scaling
+from .rows import ScoreHistogram
+from .scoring import Scorecard
 from .settings import Settings, settings_from_mapping, settings_to_mapping
+from .terms import NUMERIC, SAMPLE_NAMES, frozen
 
 FORMAT = "scorewright-model"
 FORMAT_VERSION = 1
@@ -185,9 +187,9 @@ def _saved_model(document: Mapping[str, Any], path: Path) -> SavedModel:
             binnings.append(Binning.from_dict(char["name"], char["binning"]))
             bins = char["bins"]
             characteristics.append(CharacteristicPoints(
-                name=char["name"], labels=tuple(b["label"] for b in bins), woe=_frozen([b["woe"] for b in bins]),
-                coefficient=float(char["coefficient"]), exact_points=_frozen([b["exact_points"] for b in bins]),
-                points=_frozen([b["points"] for b in bins]), reason_code=char["reason_code"], reason_label=char["reason_label"],
+                name=char["name"], labels=tuple(b["label"] for b in bins), woe=frozen([b["woe"] for b in bins]),
+                coefficient=float(char["coefficient"]), exact_points=frozen([b["exact_points"] for b in bins]),
+                points=frozen([b["points"] for b in bins]), reason_code=char["reason_code"], reason_label=char["reason_label"],
             ))
             samples = bins[0]["counts"].keys() if bins else []
             bin_counts[char["name"]] = {
@@ -207,7 +209,7 @@ def _bounds(binning: Binning, index: int) -> dict[str, Any]:
     """The values a bin holds: an interval, levels, a special value, or missing."""
     held: dict[str, Any] = {}
     if index < binning.n_chain:
-        if binning.kind == "numeric":
+        if binning.kind == NUMERIC:
             edges = [-math.inf, *binning.cuts, math.inf]
             held["lower"] = None if math.isinf(edges[index]) else edges[index]
             held["upper"] = None if math.isinf(edges[index + 1]) else edges[index + 1]
@@ -239,8 +241,3 @@ def _plain(value: Any) -> Any:
         return bool(value)
     return value
 
-
-def _frozen(values) -> np.ndarray:
-    array = np.array(values, dtype=float)
-    array.setflags(write=False)
-    return array

@@ -1,4 +1,4 @@
-"""Scaling log-odds to points, the points table, scoring rows, and reasons.
+"""Scaling log-odds to points, and the points table.
 
 Conventions of the trade (DESIGN.md):
 
@@ -6,13 +6,10 @@ Conventions of the trade (DESIGN.md):
   score = offset + factor × ln(odds good:bad), so scores rise with creditworthiness.
 - Points of a bin = round(factor × (β_j × WoE_bin + β_0 / k) + offset / k) for k characteristics.
 - Probability of default of a score = 1 / (1 + odds(score)).
-
-Scoring is a look-up and a sum: one ``take`` per characteristic, no loop over rows.
 """
 
 from __future__ import annotations
 
-import concurrent.futures
 import math
 import re
 from collections.abc import Mapping, Sequence
@@ -22,8 +19,8 @@ import numpy as np
 import pandas as pd
 from scipy import special
 
-from .classing import Binning, code_rows, unseen_levels
-from .errors import LedgerError, ScorecardError
+from .errors import ScorecardError
+from .terms import frozen
 
 
 @dataclass(frozen=True)
@@ -216,11 +213,11 @@ def points_table(coefficients: Mapping[str, float], intercept: float, woe: Mappi
     reason_labels = reason_labels or {}
     characteristics = []
     for position, (name, beta) in enumerate(coefficients.items(), start=1):
-        bin_woe = _frozen(woe[name])
+        bin_woe = frozen(woe[name])
         exact = scale.factor * (beta * bin_woe + intercept / k) + scale.offset / k
         characteristics.append(CharacteristicPoints(
             name=name, labels=tuple(labels[name]), woe=bin_woe, coefficient=float(beta),
-            exact_points=_frozen(exact), points=_frozen(round_half_away(exact, decimals)),
+            exact_points=frozen(exact), points=frozen(round_half_away(exact, decimals)),
             reason_code=reason_codes.get(name) or f"R{position:02d}",
             reason_label=reason_labels.get(name) or default_reason_label(name),
         ))
@@ -241,204 +238,3 @@ def default_reason_label(name: str) -> str:
     words = re.sub(r"(?<=[a-z0-9])(?=[A-Z])", " ", name).replace("_", " ").replace(".", " ").split()
     text = " ".join(words).lower() or name
     return text[0].upper() + text[1:]
-
-
-def score_codes(codes: np.ndarray, table: PointsTable) -> np.ndarray:
-    """Return every row's score: the sum of the points of its bins.
-
-    Parameters
-    ----------
-    codes : numpy.ndarray
-        Rows × characteristics bin codes, columns in the table's order.
-    table : PointsTable
-
-    Returns
-    -------
-    numpy.ndarray
-        int64 scores when points are whole, else float64.
-    """
-    dtype = np.int64 if table.decimals == 0 else np.float64
-    scores = np.zeros(codes.shape[0], dtype=dtype)
-    for column, char in enumerate(table.characteristics):
-        scores += np.take(char.points.astype(dtype), codes[:, column])
-    return scores
-
-
-def reasons(codes: np.ndarray, table: PointsTable, *, count: int = 4) -> np.ndarray:
-    """Return, per row, the positions of the characteristics that cost it the most points.
-
-    A characteristic's cost is the points of its best bin minus the points the row got. The
-    ``count`` costliest are the row's reasons, largest first (ties in table order); a
-    characteristic that cost nothing is not a reason (-1).
-
-    Returns
-    -------
-    numpy.ndarray
-        Rows × count positions into ``table.characteristics``; -1 where there is no reason.
-    """
-    n_rows, k = codes.shape
-    count = min(count, k)
-    if count == 0:
-        return np.zeros((n_rows, 0), dtype=np.int64)
-    # points lost in whole units of the table's last decimal, so that one integer key per cell
-    # sorts by loss (largest first) and, within a loss, by position: ties stay in table order
-    unit = 10.0**table.decimals
-    key = np.empty((n_rows, k), dtype=np.int64)
-    for column, char in enumerate(table.characteristics):
-        lost = np.rint((char.best - char.points) * unit).astype(np.int64)
-        key[:, column] = -lost[codes[:, column]] * k + column
-    top = np.argpartition(key, count - 1, axis=1)[:, :count] if count < k else np.arange(k)[None, :].repeat(n_rows, 0)
-    order = np.take_along_axis(top, np.argsort(np.take_along_axis(key, top, axis=1), axis=1), axis=1)
-    lost_most = -(np.take_along_axis(key, order, axis=1) - order) // k
-    return np.where(lost_most > 0, order, -1)
-
-
-def _frozen(values) -> np.ndarray:
-    array = np.array(values, dtype=float)
-    array.setflags(write=False)
-    return array
-
-
-# --------------------------------------------------------------------------------------------
-# Score histograms: what every check is computed from
-
-
-@dataclass(frozen=True)
-class ScoreHistogram:
-    """Weighted goods, bads and other rows at each distinct score of one sample.
-
-    Scores of a points scorecard come from a finite set, so every discrimination, calibration
-    and stability figure is computed exactly from this table.
-    """
-
-    sample: str
-    scores: np.ndarray
-    goods: np.ndarray
-    bads: np.ndarray
-    others: np.ndarray  # indeterminate and unknown outcomes: counted for stability only
-
-    @property
-    def everyone(self) -> np.ndarray:
-        """Weighted rows of any outcome at each score."""
-        return self.goods + self.bads + self.others
-
-    def to_dict(self) -> dict[str, list[float]]:
-        """Return the histogram as plain lists (for the model file)."""
-        return {"scores": self.scores.tolist(), "goods": self.goods.tolist(), "bads": self.bads.tolist(),
-                "others": self.others.tolist()}
-
-    @classmethod
-    def from_dict(cls, sample: str, data: Mapping[str, Sequence[float]]) -> ScoreHistogram:
-        """Rebuild a histogram from ``to_dict`` output."""
-        return cls(sample, *(_frozen(data[key]) for key in ("scores", "goods", "bads", "others")))
-
-
-def score_histogram(scores: np.ndarray, is_good: np.ndarray, is_bad: np.ndarray, weight: np.ndarray, *,
-                    sample: str) -> ScoreHistogram:
-    """Return the histogram of the given rows' scores, split by outcome.
-
-    Parameters
-    ----------
-    scores : numpy.ndarray
-        Score of each row.
-    is_good, is_bad : numpy.ndarray
-        Boolean outcome of each row (neither: indeterminate or unknown).
-    weight : numpy.ndarray
-        Case weight of each row.
-    sample : str
-        The sample's name.
-    """
-    distinct, inverse = np.unique(scores, return_inverse=True)
-    size = len(distinct)
-    goods = np.bincount(inverse, weights=weight * is_good, minlength=size)
-    bads = np.bincount(inverse, weights=weight * is_bad, minlength=size)
-    others = np.bincount(inverse, weights=weight * ~(is_good | is_bad), minlength=size)
-    return ScoreHistogram(sample, _frozen(distinct), _frozen(goods), _frozen(bads), _frozen(others))
-
-
-def merge_histograms(histograms: Sequence[ScoreHistogram]) -> ScoreHistogram:
-    """Return the histogram of several batches of one sample together."""
-    if len(histograms) == 1:
-        return histograms[0]
-    distinct, inverse = np.unique(np.concatenate([h.scores for h in histograms]), return_inverse=True)
-
-    def added(field: str) -> np.ndarray:
-        return _frozen(np.bincount(inverse, weights=np.concatenate([getattr(h, field) for h in histograms]), minlength=len(distinct)))
-
-    return ScoreHistogram(histograms[0].sample, _frozen(distinct), added("goods"), added("bads"), added("others"))
-
-
-# --------------------------------------------------------------------------------------------
-# The scorecard as an object that scores a DataFrame
-
-
-@dataclass(frozen=True)
-class Scorecard:
-    """A fitted, scaled scorecard: the binnings of its characteristics and their points.
-
-    ``scorecard.score(frame)`` codes each row's characteristics to bins, looks up the points,
-    sums them, and returns score, probability of default and reasons.
-    """
-
-    table: PointsTable
-    binnings: tuple[Binning, ...]  # aligned with table.characteristics
-    id_column: str = ""
-
-    def codes(self, frame: pd.DataFrame, *, source: str = "ledger") -> np.ndarray:
-        """Return the bin codes of the model's characteristics for every row.
-
-        Raises
-        ------
-        LedgerError
-            A characteristic of the model is not a column of ``frame``.
-        """
-        missing = [b.characteristic for b in self.binnings if b.characteristic not in frame.columns]
-        if missing:
-            raise LedgerError(
-                f"{source}: column{'s' if len(missing) > 1 else ''} {', '.join(map(repr, missing))} "
-                f"of the scorecard {'are' if len(missing) > 1 else 'is'} not in the ledger. "
-                "Every characteristic in the model is needed to score; add the column(s) with the same names."
-            )
-        codes = np.empty((len(frame), len(self.binnings)), dtype=np.uint16, order="F")
-        if len(self.binnings):
-            # one column per characteristic, stored column after column; coded on two threads, since
-            # numpy and pyarrow release the interpreter lock while they search
-            with concurrent.futures.ThreadPoolExecutor(max_workers=2) as pool:
-                for column, coded in enumerate(pool.map(lambda b: code_rows(frame[b.characteristic], b), self.binnings)):
-                    codes[:, column] = coded
-        return codes
-
-    def unseen(self, frame: pd.DataFrame) -> dict[str, dict[str, int]]:
-        """Return, per categorical characteristic, the levels the scorecard never saw, with row counts."""
-        found = {b.characteristic: unseen_levels(frame[b.characteristic], b) for b in self.binnings}
-        return {name: levels for name, levels in found.items() if levels}
-
-    def score(self, frame: pd.DataFrame, *, reason_count: int = 0, source: str = "DataFrame") -> pd.DataFrame:
-        """Score every row of ``frame``.
-
-        Parameters
-        ----------
-        frame : pandas.DataFrame
-            Holds at least the model's characteristics (same column names as at build time).
-        reason_count : int
-            Reasons per row (0: none).
-        source : str
-            Name of the data, for messages.
-
-        Returns
-        -------
-        pandas.DataFrame
-            ``score`` and ``pd`` per row, then ``reason_1`` … with codes and ``reason_1_text`` …
-            with their text, aligned with ``frame``'s index.
-        """
-        codes = self.codes(frame, source=source)
-        scores = score_codes(codes, self.table)
-        result = pd.DataFrame({"score": scores, "pd": self.table.scaling.pd_of_score(scores)}, index=frame.index)
-        if reason_count:
-            positions = reasons(codes, self.table, count=reason_count)
-            codes_text = np.array([c.reason_code for c in self.table.characteristics] + [""], dtype=object)
-            labels_text = np.array([c.reason_label for c in self.table.characteristics] + [""], dtype=object)
-            for rank in range(positions.shape[1]):
-                result[f"reason_{rank + 1}"] = codes_text[positions[:, rank]]  # -1 picks the blank
-                result[f"reason_{rank + 1}_text"] = labels_text[positions[:, rank]]
-        return result

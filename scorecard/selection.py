@@ -18,9 +18,9 @@ import numpy as np
 import pandas as pd
 from scipy import special
 
-from .counting import MERGE_LIMIT, PatternTable
 from .errors import FitError, ScorecardWarning
-from .logistic import FitResult, fit_logistic, fit_logistic_by_parts
+from .fitter import INTERCEPT_NAME, FitResult, fit_logistic, fit_logistic_by_parts
+from .rows import MERGE_LIMIT, PatternTable
 from .settings import FitSettings, SelectionSettings
 
 
@@ -162,7 +162,7 @@ class _WoeDesign:
             settings = self.fit_settings
             table = self.patterns.subset(names) if len(names) < len(self.patterns.characteristics) else self.patterns
             warm = self.last and not self.guard  # trial fits start from the last one; final fits from the intercept alone
-            start = [self.last.get("(intercept)", 0.0), *(self.last.get(name, 0.0) for name in names)] if warm else None
+            start = [self.last.get(INTERCEPT_NAME, 0.0), *(self.last.get(name, 0.0) for name in names)] if warm else None
             with warnings.catch_warnings():
                 if not self.guard:  # a trial fit that does not converge is only ranked, not reported
                     warnings.simplefilter("ignore", ScorecardWarning)

@@ -21,10 +21,10 @@ from .checks import (
     points_shift, psi, roc_points, score_bands, score_psi,
 )
 from .errors import ScorecardError
-from .points import Scaling, ScoreHistogram
+from .points import Scaling
+from .rows import ScoreHistogram
 from .settings import CheckSettings
-
-DEVELOPMENT = "development"
+from .terms import DEVELOPMENT_NAME, SAMPLE_NAMES
 
 
 @dataclass(frozen=True)
@@ -171,13 +171,13 @@ def validate(histograms: Mapping[str, ScoreHistogram], scale: Scaling, *,
     -------
     Validation
     """
-    baseline = histograms[DEVELOPMENT]
+    baseline = histograms[DEVELOPMENT_NAME]
     edges = band_edges(baseline, checks)
     samples = {
-        name: sample_checks(h, scale, edges, in_sample=name == DEVELOPMENT, cutoff_step=checks.cutoff_step)
+        name: sample_checks(h, scale, edges, in_sample=name == DEVELOPMENT_NAME, cutoff_step=checks.cutoff_step)
         for name, h in histograms.items() if h.goods.sum() > 0 and h.bads.sum() > 0
     }
-    others = [name for name in histograms if name != DEVELOPMENT]
+    others = [name for name in histograms if name != DEVELOPMENT_NAME]
     score_stability = {
         name: score_psi(baseline.scores, baseline.everyone, histograms[name].scores, histograms[name].everyone,
                         edges=edges, watch=checks.psi_watch, act=checks.psi_act)
@@ -185,7 +185,7 @@ def validate(histograms: Mapping[str, ScoreHistogram], scale: Scaling, *,
     }
     per_characteristic = {
         name: tuple(
-            characteristic_stability(char, name, bin_counts[char][DEVELOPMENT], bin_counts[char][name], points[char],
+            characteristic_stability(char, name, bin_counts[char][DEVELOPMENT_NAME], bin_counts[char][name], points[char],
                                      labels[char], missing_bin=missing_bins[char], checks=checks)
             for char in points
         )
@@ -199,7 +199,7 @@ def validate_build(build) -> Validation:
     table = build.scorecard.table
     names = table.names
     counts = {name: {sample: build.characteristic(name).counts.everyone(index)
-                     for index, sample in enumerate(("development", "hold-out", "out-of-time")) if sample in build.histograms}
+                     for index, sample in enumerate(SAMPLE_NAMES) if sample in build.histograms}
               for name in names}
     return validate(
         build.histograms, table.scaling, bin_counts=counts,

@@ -11,10 +11,11 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from scorecard.classing import (
-    CATEGORICAL, NUMERIC, Binning, GroupingLimits, binning_from_settings, categorical_binning, check_constraints,
-    code_rows, coarse_classing, fine_classing, numeric_binning, optimal_grouping, quantile_cuts, roundest_between,
-    unseen_levels,
+    Binning, GroupingLimits, binning_from_settings, categorical_binning, check_constraints, coarse_classing,
+    fine_classing, numeric_binning, optimal_grouping, quantile_cuts, roundest_between,
 )
+from scorecard.rows import code_rows, unseen_levels
+from scorecard.terms import CATEGORICAL, NUMERIC
 from scorecard.errors import ClassingError
 from scorecard.evidence import information_value, woe_values
 

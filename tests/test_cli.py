@@ -14,7 +14,8 @@ import pytest
 import scorecard.commands  # noqa: F401  loaded once here, so the first test does not pay for importing the stages
 from scorecard import LedgerError, read_settings
 from scorecard.cli import main
-from scorecard.ledger import BAD, DEVELOPMENT, GOOD, split_samples
+from scorecard.intake import split_samples
+from scorecard.terms import BAD, DEVELOPMENT, GOOD
 
 
 def run(*argv: str | Path) -> tuple[int, str, str]:

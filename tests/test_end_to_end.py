@@ -14,7 +14,7 @@ import pandas as pd
 import pytest
 
 from scorecard.cli import main
-from scorecard.ledger import prepare_ledger
+from scorecard.intake import prepare_ledger
 from scorecard.modelfile import load_model
 
 AUC_ATOL = 1e-9  # the same exact area computed two ways

@@ -8,11 +8,11 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from scorecard import build
-from scorecard.classing import categorical_binning, code_rows
-from scorecard.counting import count_bins
+from scorecard import classing
+from scorecard.classing import categorical_binning
 from scorecard.evidence import evidence_table, information_value, iv_strength, woe_values
-from scorecard.ledger import prepare_ledger
+from scorecard.intake import prepare_ledger
+from scorecard.rows import code_rows, count_bins
 from scorecard.settings import Settings
 
 EXACT = 1e-12  # the same arithmetic in another order
@@ -94,7 +94,7 @@ def test_credit_data_classed_counts_add_up_to_the_samples():
     frame = _credit_data()
     settings = Settings().replace(outcome={"column": "Status", "bad": ("bad",), "good": ("good",)})
     ledger = prepare_ledger(frame, settings, source="credit_data")
-    classed = build.class_ledger(ledger, settings)
+    classed = classing.class_ledger(ledger, settings)
     # the small missing bins merged by the proposal are noted for the report, not warned about
     assert any("'Income'" in note or "missing bin" in note for note in classed.notes)
     summary = ledger.sample_summary()

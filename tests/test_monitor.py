@@ -12,10 +12,10 @@ import pytest
 
 from scorecard.build import build_scorecard
 from scorecard.cli import main
-from scorecard.ledger import BAD, GOOD, UNKNOWN
+from scorecard.terms import BAD, GOOD, UNKNOWN
 from scorecard.modelfile import load_model, model_document, save_model
 from scorecard.monitor import check_period, monitor_ledger
-from scorecard.points import ScoreHistogram
+from scorecard.rows import ScoreHistogram
 from scorecard.settings import Settings
 from scorecard.validation import band_edges
 

@@ -10,9 +10,9 @@ import pytest
 
 from scorecard.classing import numeric_binning, categorical_binning
 from scorecard.errors import LedgerError, ScorecardError
-from scorecard.points import (
-    Scorecard, default_reason_label, points_table, reasons, scaling, score_codes, score_histogram,
-)
+from scorecard.points import default_reason_label, points_table, scaling
+from scorecard.rows import score_codes, score_histogram
+from scorecard.scoring import Scorecard, reasons
 
 SCALING_ATOL = 5e-5  # the published figures are printed to four or three decimals
 POINTS_ATOL = 0.5  # points are rounded to whole numbers

@@ -25,12 +25,12 @@ import pytest
 from scorecard.build import build_scorecard
 from scorecard.cli import main
 from scorecard.commands import monitoring_settings
-from scorecard.ledger import fingerprint_of, prepare_ledger
+from scorecard.intake import fingerprint_of, prepare_ledger
 from scorecard.modelfile import load_model, model_document, save_model
-from scorecard.monitor import STATUSES, monitor_ledger
+from scorecard.monitor import STATUSES, WHAT_TO_DO, driving_checks, monitor_ledger
 from scorecard.report import CAUTION
-from scorecard.report.monitor_html import WHAT_TO_DO, driving_checks, figure_text, render_monitor, write_monitor
-from scorecard.report.monitor_workbook import monitor_workbook, sheet_names, write_monitor_workbook
+from scorecard.report.monitor_page import figure_text, render_monitor, write_monitor
+from scorecard.report.monitor_sheets import monitor_workbook, sheet_names, write_monitor_workbook
 from scorecard.settings import Settings
 
 import ledgers  # tests/ledgers.py: the invented process these tests monitor

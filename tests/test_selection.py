@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from scorecard.counting import pattern_table
+from scorecard.rows import pattern_table
 from scorecard.evidence import evidence_table
 from scorecard.errors import FitError
 from scorecard.selection import (

@@ -13,7 +13,7 @@ from scorecard.build import build_scorecard
 from scorecard.cli import main
 from scorecard.demo.generator import generate_ledger, write_ledger
 from scorecard.errors import LedgerError
-from scorecard.ledger import stream_ledger
+from scorecard.intake import stream_ledger
 from scorecard.modelfile import model_document
 from scorecard.settings import Settings
 
@@ -23,7 +23,8 @@ BATCH_ROWS = 1_700  # small, so that a 9000-row ledger is read in several batche
 def _settings():
     return Settings().replace(
         outcome={"column": "outcome", "bad": ("bad",), "good": ("good",), "indeterminate": ("indeterminate",)},
-        ledger={"id_column": "application_id", "date_column": "application_date", "leave_out": ("collections_status",)},
+        ledger={"id_column": "application_id", "date_column": "application_date", "leave_out": ("collections_status",),
+                "batch_rows": BATCH_ROWS},
         samples={"out_of_time_from": "2025-07-01"},
         selection={"sample_rows": 2_000},  # the choice on a sample: its rows must be the same ones too
     )
@@ -42,14 +43,14 @@ def test_streamed_build_equals_the_build_in_memory(ledgers, kind):
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         whole = model_document(build_scorecard(path, _settings(), stream=False))
-        streamed = model_document(build_scorecard(path, _settings(), stream=True, batch_rows=BATCH_ROWS))
+        streamed = model_document(build_scorecard(path, _settings(), stream=True))
     # the model file's content, to the last decimal (integer weights make every sum exact)
     assert json.dumps(streamed, sort_keys=True) == json.dumps(whole, sort_keys=True)
 
 
 def test_the_ledger_is_really_read_in_several_batches(ledgers):
     for path in ledgers:
-        ledger, batches = stream_ledger(path, _settings(), batch_rows=BATCH_ROWS)
+        ledger, batches = stream_ledger(path, _settings())
         sizes = [len(frame) for _, frame in batches(["monthly_income"])]
         assert len(sizes) >= 3 and sum(sizes) == ledger.n_rows == 9000
         assert ledger.frame.empty  # no characteristic values are held
@@ -61,7 +62,7 @@ def test_bad_values_in_a_later_batch_name_their_rows(tmp_path):
     frame.loc[5000, "outcome"] = "maybe"
     path = write_ledger(frame, tmp_path / "ledger.parquet")
     with pytest.raises(LedgerError, match=r"column 'outcome', row 5002: value 'maybe' \(1 row\)"):
-        stream_ledger(path, _settings(), batch_rows=BATCH_ROWS)
+        stream_ledger(path, _settings())
 
 
 def test_build_command_streams_on_request(ledgers, tmp_path):
@@ -105,18 +106,18 @@ def test_score_and_monitor_stream_the_same_way(ledgers, tmp_path):
 def test_large_tables_kept_as_rows_and_fitted_by_parts_give_the_same_model(ledgers, monkeypatch):
     # Above MERGE_LIMIT rows the final table stays rows and the fit runs part by part; lowered
     # here so a small ledger takes that path. Same likelihood, so the same estimates to rounding.
-    import scorecard.build
-    import scorecard.counting
+    import scorecard.rows.inprocess
+    import scorecard.rows.tables
     import scorecard.selection
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         merged = build_scorecard(ledgers[1], _settings(), stream=False)
-        for module, name in ((scorecard.build, "MERGE_LIMIT"), (scorecard.counting, "MERGE_LIMIT"),
+        for module, name in ((scorecard.rows.inprocess, "MERGE_LIMIT"), (scorecard.rows.tables, "MERGE_LIMIT"),
                              (scorecard.selection, "BY_PARTS_ABOVE")):
             monkeypatch.setattr(module, name, 1_000)
         rows = build_scorecard(ledgers[1], _settings(), stream=False)
-        streamed = build_scorecard(ledgers[1], _settings(), stream=True, batch_rows=BATCH_ROWS)
+        streamed = build_scorecard(ledgers[1], _settings(), stream=True)
     assert rows.selection.fit.solver == "newton (by parts)"
     assert json.dumps(model_document(rows), sort_keys=True) == json.dumps(model_document(streamed), sort_keys=True)
     assert rows.selection.chosen == merged.selection.chosen

@@ -27,7 +27,7 @@ from scorecard.checks.discrimination import (
     validated_histogram,
 )
 from scorecard.errors import FitError, ScorecardError, ScorecardWarning, describe_rows
-from scorecard.logistic import fit_logistic
+from scorecard.fitter import fit_logistic
 
 __all__ = [
     "CalibrationInTheLarge",

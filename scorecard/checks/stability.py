@@ -24,6 +24,7 @@ from scorecard.checks.discrimination import (
     validated_levels,
 )
 from scorecard.errors import ScorecardError
+from scorecard.terms import ACT_PSI, EMPTY_CELL, WATCH_PSI
 
 __all__ = [
     "ACT_PSI",
@@ -37,9 +38,6 @@ __all__ = [
     "score_psi",
 ]
 
-EMPTY_CELL = 0.5
-WATCH_PSI = 0.10
-ACT_PSI = 0.25
 
 
 @dataclass(frozen=True, eq=False)  # eq=False: arrays have no single truth value to compare by

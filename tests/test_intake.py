@@ -15,8 +15,9 @@ import pandas as pd
 import pytest
 
 from scorecard import LedgerError, ScorecardWarning, Settings, prepare_ledger, read_ledger, split_samples
-from scorecard.ledger import (
-    BAD, CATEGORICAL, DEVELOPMENT, GOOD, HOLDOUT, INDETERMINATE, NUMERIC, OUT_OF_TIME, UNKNOWN, fingerprint_of,
+from scorecard.intake import fingerprint_of
+from scorecard.terms import (
+    BAD, CATEGORICAL, DEVELOPMENT, GOOD, HOLDOUT, INDETERMINATE, NUMERIC, OUT_OF_TIME, UNKNOWN,
 )
 from scorecard.settings import CharacteristicSettings
 

@@ -25,7 +25,6 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
 from openpyxl import Workbook
 from openpyxl.styles import PatternFill
@@ -33,14 +32,14 @@ from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.worksheet import Worksheet
 
 from .. import __version__
-from ..ledger import Fingerprint
+from ..intake import Fingerprint
 from ..modelfile import SavedModel
-from ..monitor import CheckStatus, MonitorResult, PeriodMonitor
+from ..monitor import MEANING, WHAT_TO_DO, CheckStatus, MonitorResult, PeriodMonitor, driving_checks, monitoring_limits, status_rules
 from . import CAUTION
-from .monitor_html import MEANING, WHAT_TO_DO, driving_checks, monitoring_limits, status_rules
-from .workbook import (
-    COUNT, FIRST_ROW, HEADER_ROW, NOTE_ROW, RATE, SMALL_P_VALUE, STATISTIC, WEIGHTED_COUNT, Formula, Placed, bar_chart,
-    fit_widths, freeze_header, save_workbook, sheet_heading, text_cell, text_sections, write_frame, write_pairs,
+from .sheet_kit import (
+    FIRST_ROW, HEADER_ROW, NOTE_ROW, RATE, SMALL_P_VALUE, STATISTIC, WEIGHTED_COUNT, Formula, Placed, bar_chart,
+    count_number_format, fit_widths, freeze_header, save_workbook, sheet_heading, text_cell, text_sections, write_frame,
+    write_pairs,
 )
 
 OVERVIEW, STABILITY, DISCRIMINATION, CALIBRATION, QUARTERS, CAUTIONS = (
@@ -48,9 +47,13 @@ OVERVIEW, STABILITY, DISCRIMINATION, CALIBRATION, QUARTERS, CAUTIONS = (
 WHOLE_LEDGER = "whole ledger"
 POINTS = "0.00"
 STATUS_WIDTH = 12  # the Status column of Overview; the long values of the pairs below it run on to the right
+
+
 # Pale fills of our own for the status words, in the order ok, watch, act.
 STATUS_FILLS = {"ok": PatternFill("solid", fgColor="DCEBDD"), "watch": PatternFill("solid", fgColor="F5E2C0"),
                 "act": PatternFill("solid", fgColor="F1D0CB")}
+
+
 CHARACTERISTIC_COLUMNS = ["Characteristic", "PSI", "Status", "Mean points (development)", "Mean points (new)",
                           "Points shift", "Missing share (development)", "Missing share (new)", "Rows with unseen levels"]
 NO_OUTCOMES = ("Not checked: no row of the ledger has a known outcome (good or bad), and this check compares scores "
@@ -85,7 +88,7 @@ def monitor_workbook(result: MonitorResult, saved: SavedModel, *, model_path: st
     book = Workbook()
     book.remove(book.active)
     sheets = {name: book.create_sheet(name) for name in sheet_names(result)}
-    counts = _counts_format(result)
+    counts = count_number_format((result.baseline, result.overall.histogram))
     _overview_sheet(sheets[OVERVIEW], result, saved, model_path, ledger_fingerprint)
     _stability_sheet(sheets[STABILITY], result, counts)
     _discrimination_sheet(sheets[DISCRIMINATION], result, counts)
@@ -119,10 +122,6 @@ def write_monitor_workbook(result: MonitorResult, saved: SavedModel, path: str |
     """
     book = monitor_workbook(result, saved, model_path=model_path, ledger_fingerprint=ledger_fingerprint)
     return save_workbook(book, path)
-
-
-# --------------------------------------------------------------------------------------------
-# Overview
 
 
 def _overview_sheet(sheet: Worksheet, result: MonitorResult, saved: SavedModel, model_path,
@@ -195,10 +194,6 @@ def _fill_statuses(sheet: Worksheet, column: int, first_row: int, last_row: int)
         cell = sheet.cell(row=row, column=column)
         if cell.value in STATUS_FILLS:
             cell.fill = STATUS_FILLS[cell.value]
-
-
-# --------------------------------------------------------------------------------------------
-# Stability: shares are values, contributions and indices formulas
 
 
 def _stability_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> None:
@@ -294,10 +289,6 @@ def _psi_block(sheet: Worksheet, groups, *, column: int, label: str, counts: str
     return _PsiBlock(placed.sheet, placed.header_row, placed.first_row, placed.last_row, placed.columns, tuple(blocks))
 
 
-# --------------------------------------------------------------------------------------------
-# Discrimination
-
-
 def _discrimination_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> None:
     sheet_heading(sheet, "Discrimination", "Development figures as saved in the model file beside the new ledger's, "
                                            "whole ledger and each quarter. AUC interval: DeLong. Fall test: one-sided, "
@@ -330,10 +321,6 @@ def _discrimination_sheet(sheet: Worksheet, result: MonitorResult, counts: str) 
         text_cell(sheet, FIRST_ROW, 1, NO_OUTCOMES)
     freeze_header(sheet, columns=1)
     fit_widths(sheet)
-
-
-# --------------------------------------------------------------------------------------------
-# Calibration
 
 
 def _calibration_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> None:
@@ -404,10 +391,6 @@ def _calibration_bands(period: PeriodMonitor) -> list[dict[str, object]]:
     } for band, test in zip(frame.itertuples(index=False), period.calibration_tests[2:])]
 
 
-# --------------------------------------------------------------------------------------------
-# Quarters
-
-
 def _quarters_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> None:
     sheet_heading(sheet, "Quarters", "Each calendar quarter of the ledger on its own against the development sample; "
                                      "every check's status and figure per quarter.")
@@ -447,10 +430,6 @@ def _quarters_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> Non
     fit_widths(sheet, maximum=70)
 
 
-# --------------------------------------------------------------------------------------------
-# Cautions
-
-
 def _cautions_sheet(sheet: Worksheet, result: MonitorResult) -> None:
     sheet_heading(sheet, "Cautions", "What this workbook does not replace, how the statuses are set, what to do about "
                                      "each, the limits of these checks, and the notes of this run.")
@@ -460,10 +439,6 @@ def _cautions_sheet(sheet: Worksheet, result: MonitorResult) -> None:
     text_sections(sheet, [("Caution", [CAUTION]), ("How statuses are set", rules), ("What to do", todo),
                           ("Limits of these checks", monitoring_limits(result)),
                           ("Notes of this run", list(result.notes) or ["none"])], first_row=NOTE_ROW + 2)
-
-
-# --------------------------------------------------------------------------------------------
-# Small helpers
 
 
 def _periods(result: MonitorResult) -> list[PeriodMonitor]:
@@ -476,10 +451,3 @@ def _period_name(period: PeriodMonitor) -> str:
 
 def _status_of(period: PeriodMonitor, check: str) -> CheckStatus | None:
     return next((s for s in period.statuses if s.check == check), None)
-
-
-def _counts_format(result: MonitorResult) -> str:
-    """Whole-number counts show as such; weighted counts keep two decimals."""
-    histograms = (result.baseline, result.overall.histogram)
-    values = np.concatenate([np.concatenate([h.goods, h.bads, h.others]) for h in histograms])
-    return COUNT if np.all(values == np.round(values)) else WEIGHTED_COUNT

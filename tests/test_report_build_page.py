@@ -18,7 +18,7 @@ import scorecard
 from scorecard import Settings
 from scorecard.build import build_scorecard
 from scorecard.report import CAUTION
-from scorecard.report.html import CUTOFF_ROWS, SECTIONS, render_report, write_report
+from scorecard.report.build_page import CUTOFF_ROWS, SECTIONS, render_report, write_report
 from scorecard.validation import validate_build
 
 import pages  # tests/pages.py: reading the reports

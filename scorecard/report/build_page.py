@@ -2,8 +2,8 @@
 
 ``render_report`` turns a build and its validation into the page; ``write_report`` writes it.
 The page carries its own style and its charts as inline SVG, and refers to nothing outside
-itself, so it opens offline in any browser. Every value is formatted here and escaped by the
-template (Jinja2 autoescaping), so a category label such as ``<b>`` shows as text.
+itself, so it opens offline in any browser. Every value is formatted with the page kit and
+escaped by the template (Jinja2 autoescaping), so a category label such as ``<b>`` shows as text.
 
 The page is made from count tables, score histograms and small results only, never from rows,
 so its rendering time does not grow with the ledger's rows.
@@ -12,21 +12,23 @@ so its rendering time does not grow with the ledger's rows.
 from __future__ import annotations
 
 import math
-import platform
-from collections.abc import Collection, Sequence
-from dataclasses import dataclass
+from collections.abc import Sequence
 from pathlib import Path
 
 import numpy as np
 from markupsafe import Markup
 
 from .. import __version__
-from ..checks import ACT_PSI, WATCH_PSI
 from ..files import write_text_atomically
 from ..settings import settings_to_toml
-from . import CAUTION
-from . import charts
-from .templates import environment
+from ..terms import ACT_PSI, DEVELOPMENT_NAME, WATCH_PSI, most_honest
+from . import CAUTION, charts
+from .page_kit import (
+    ADJUSTED_MARK, DASH, Cell, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text,
+    interval_text, level_text, library_versions, p_value_text, percent_text, psi_table, score_text, signed_text,
+    span_text, status_cell, text_table,
+)
+
 
 SECTIONS = (
     ("summary", "Summary"),
@@ -42,13 +44,12 @@ SECTIONS = (
     ("cautions", "Cautions and limits"),
     ("reproducibility", "Reproducibility"),
 )
-DEVELOPMENT = "development"
+
+
 CUTOFF_ROWS = 25  # most rows of the cut-off table the page shows; the workbook holds every cut-off
 CUTOFF_STEPS = (1, 2, 5, 10, 20, 25, 50, 100, 200, 500, 1000)  # score steps tried for the shown rows
 CUTOFF_SPAN = (0.02, 0.98)  # approval rates the shown rows cover: the cut-offs a lender would consider
 SCORE_MEANING_ROWS = 10  # most rows of the table of odds and PD per score
-DASH = "—"
-ADJUSTED_MARK = "†"
 
 
 def render_report(build, validation, *, generated_by: str = "") -> str:
@@ -121,101 +122,6 @@ def write_report(build, validation, path, *, generated_by: str = "") -> Path:
 
 
 # --------------------------------------------------------------------------------------------
-# What the template draws: tables, figures and charts, every value already text
-# (public: the monitoring report draws with them too)
-
-
-@dataclass(frozen=True)
-class Cell:
-    """One table cell: its text (or safe markup) and its CSS classes."""
-
-    text: str
-    css: str = ""
-
-
-@dataclass(frozen=True)
-class Row:
-    """One table row of cells, with the row's CSS classes."""
-
-    cells: tuple[Cell, ...]
-    css: str = ""
-
-
-@dataclass(frozen=True)
-class Table:
-    """A table as the templates' ``data_table`` macro draws it (see ``text_table``)."""
-
-    head: tuple[Cell, ...]
-    rows: tuple[Row, ...]
-    caption: str = ""
-    css: str = ""
-
-
-@dataclass(frozen=True)
-class Figure:
-    """A headline figure: a label, the value as text and a line of detail."""
-
-    label: str
-    value: str
-    detail: str = ""
-
-
-@dataclass(frozen=True)
-class Chart:
-    """An SVG chart with its caption."""
-
-    svg: Markup
-    caption: str
-
-
-def text_table(columns: Sequence[str], rows, *, numeric: Collection[int] = (), caption: str = "",
-               row_css: Sequence[str] | None = None, css: str = "") -> Table:
-    """Return a table of text cells; columns listed in ``numeric`` are right-aligned.
-
-    Parameters
-    ----------
-    columns : sequence of str
-        The header of each column.
-    rows : sequence of sequences
-        Cell texts (or ``Cell`` values, to add CSS classes), one sequence per row.
-    numeric : collection of int
-        Positions of the columns to right-align.
-    caption : str
-        Shown under the table.
-    row_css : sequence of str, optional
-        CSS classes of each row (e.g. 'total').
-    css : str
-        CSS classes of the table.
-
-    Returns
-    -------
-    Table
-    """
-    def cell(value, column):
-        number = "number" if column in numeric else ""
-        if isinstance(value, Cell):
-            return Cell(value.text, " ".join(filter(None, (number, value.css))))
-        return Cell(value, number)
-
-    row_css = row_css or [""] * len(rows)
-    head = tuple(cell(label, column) for column, label in enumerate(columns))
-    body = tuple(Row(tuple(cell(value, column) for column, value in enumerate(row)), style)
-                 for row, style in zip(rows, row_css))
-    return Table(head, body, caption, css)
-
-
-def captioned_chart(svg: str, caption: str) -> Chart:
-    """Return an SVG chart from ``scorecard.report.charts`` with its caption."""
-    # The chart helpers escape every text they draw, so their output is safe markup.
-    return Chart(Markup(svg), caption)
-
-
-def status_cell(word: str) -> Cell:
-    """Return a cell that shows a status word (ok, watch or act) in its colour."""
-    return Cell(Markup('<span class="status {0}">{0}</span>').format(word))
-
-
-# --------------------------------------------------------------------------------------------
 # 1. Summary
 
 
@@ -232,13 +138,13 @@ def _summary(build, validation) -> dict:
     figures = [
         Figure("Characteristics in the model", f"{len(table.names)} of {len(build.characteristics)}",
                "classed characteristics"),
-        Figure("Score range", f"{_score(table.min_score, table.decimals)} to {_score(table.max_score, table.decimals)}",
+        Figure("Score range", f"{score_text(table.min_score, table.decimals)} to {score_text(table.max_score, table.decimals)}",
                "lowest and highest possible"),
         Figure(f"AUC, {honest} sample", fixed_text(checks.auc.auc, 4),
                f"{level_text(checks.auc.level)} interval {interval_text(checks.auc.lower, checks.auc.upper, 4)}"),
         Figure(f"Gini, {honest} sample", fixed_text(checks.auc.gini, 4), "2 × AUC − 1"),
         Figure(f"KS, {honest} sample", fixed_text(checks.ks.statistic, 4),
-               f"widest at score {_score(checks.ks.score, table.decimals)}"),
+               f"widest at score {score_text(checks.ks.score, table.decimals)}"),
     ]
     return {
         "purpose": _purpose(build),
@@ -258,8 +164,8 @@ def _purpose(build) -> str:
         f"This report documents “{report.title}”, an application scorecard{lender}: a table of points that ranks "
         f"new credit applications by how likely the loan is to be repaid as agreed. An application earns points "
         f"on each of {len(table.names)} characteristics, according to the bin its answer falls into (section 6), "
-        f"and the points add up to a score from {_score(table.min_score, table.decimals)} to "
-        f"{_score(table.max_score, table.decimals)}: the higher the score, the lower the risk. The scorecard was "
+        f"and the points add up to a score from {score_text(table.min_score, table.decimals)} to "
+        f"{score_text(table.max_score, table.decimals)}: the higher the score, the lower the risk. The scorecard was "
         f"fitted on past applications in the ledger {build.source} whose outcome is known. What follows is the evidence a "
         f"model reviewer needs: how the data were split, how each characteristic was grouped and chosen, how "
         f"well the score separates good loans from bad ones, and how well its predicted default rates "
@@ -275,10 +181,7 @@ def _fingerprint(build) -> list[tuple[str, str]]:
 
 def _honest_sample(validation) -> str:
     """The sample whose figures say most about new applications: out-of-time, else hold-out."""
-    for name in ("out-of-time", "hold-out"):
-        if name in validation.samples:
-            return name
-    return DEVELOPMENT
+    return most_honest(validation.samples) or DEVELOPMENT_NAME
 
 
 def _headline_table(validation, decimals: int) -> Table:
@@ -288,7 +191,7 @@ def _headline_table(validation, decimals: int) -> Table:
         rows.append([name, count_text(checks.goods), count_text(checks.bads), percent_text(checks.bad_rate), fixed_text(area.auc, 4),
                      interval_text(area.lower, area.upper, 4), fixed_text(area.gini, 4),
                      interval_text(area.gini_lower, area.gini_upper, 4), fixed_text(checks.ks.statistic, 4),
-                     _score(checks.ks.score, decimals)])
+                     score_text(checks.ks.score, decimals)])
     level = level_text(next(iter(validation.samples.values())).auc.level) if validation.samples else "95%"
     return text_table(["sample", "goods", "bads", "bad rate", "AUC", f"AUC {level} interval", "Gini",
                        f"Gini {level} interval", "KS", "KS at score"], rows, numeric=range(1, 10),
@@ -563,7 +466,7 @@ def _points(build) -> dict:
     rows, css = [], []
     for characteristic in table.characteristics:
         for number, (label, points) in enumerate(zip(characteristic.labels, characteristic.points)):
-            rows.append([characteristic.name if number == 0 else "", label, _score(points, table.decimals)])
+            rows.append([characteristic.name if number == 0 else "", label, score_text(points, table.decimals)])
             css.append("group-start" if number == 0 else "")
     points = text_table(["characteristic", "bin", "points"], rows, numeric=(2,), row_css=css, css="points-table")
     k = len(table.names)
@@ -674,27 +577,6 @@ def _sample_calibration(name: str, checks, decimals: int) -> dict:
     return {"name": name, "chart": chart, "bands": bands, "figures": calibration_figures(checks), "notes": list(checks.notes)}
 
 
-def calibration_figures(checks) -> list[Figure]:
-    """Return the Hosmer–Lemeshow, calibration-in-the-large, intercept, slope and Brier figures of a sample."""
-    test = checks.hosmer_lemeshow
-    large = checks.in_the_large
-    figures = [
-        Figure("Hosmer–Lemeshow", fixed_text(test.statistic, 2), f"df {test.df}, p-value {p_value_text(test.p_value)}"),
-        Figure("Overall bad rate, observed", percent_text(large.observed_rate),
-               f"predicted {percent_text(large.expected_rate)}, z {fixed_text(large.z, 2)}, p-value {p_value_text(large.p_two_sided)}"),
-    ]
-    line = checks.calibration_line
-    if line is not None:
-        figures += [
-            Figure("Calibration intercept", fixed_text(line.intercept, 3),
-                   f"standard error {fixed_text(line.intercept_std_error, 3)}; p-value against 0: {p_value_text(line.intercept_p_value)}"),
-            Figure("Calibration slope", fixed_text(line.slope, 3),
-                   f"standard error {fixed_text(line.slope_std_error, 3)}; p-value against 1: {p_value_text(line.slope_p_value)}"),
-        ]
-    figures.append(Figure("Brier score", fixed_text(checks.brier, 4), "mean squared error of the PD"))
-    return figures
-
-
 # --------------------------------------------------------------------------------------------
 # 9. Stability
 
@@ -716,22 +598,6 @@ def _stability(build, validation) -> dict:
             "defaults": (checks.psi_watch, checks.psi_act) == (WATCH_PSI, ACT_PSI)}
 
 
-def psi_table(result, sample: str, label: str) -> Table:
-    """Return a PSI's bins: counts and shares on development and on ``sample``, and each contribution."""
-    rows = [[bin_label + (f" {ADJUSTED_MARK}" if adjusted else ""), count_text(expected), percent_text(expected_share, 1),
-             count_text(actual), percent_text(actual_share, 1), fixed_text(contribution, 4)]
-            for bin_label, expected, expected_share, actual, actual_share, contribution, adjusted in zip(
-                result.labels, result.expected_counts, result.expected_share, result.actual_counts,
-                result.actual_share, result.contributions, result.adjusted)]
-    rows.append(["all", count_text(result.expected_counts.sum()), percent_text(1.0, 1), count_text(result.actual_counts.sum()),
-                 percent_text(1.0, 1), fixed_text(result.value, 4)])
-    caption = f"Score bands fixed on development against the {sample} sample; every application counts, whatever its outcome."
-    if result.adjusted.any():
-        caption += f" {ADJUSTED_MARK} empty in one sample: 0.5 added to both counts."
-    return text_table([label, "development", "share", sample, "share", "PSI contribution"], rows, numeric=range(1, 6),
-                      row_css=[""] * (len(rows) - 1) + ["total"], caption=caption)
-
-
 def _characteristic_stability_table(items, sample: str) -> Table:
     rows = [[item.characteristic, fixed_text(item.psi.value, 4), status_cell(item.psi.status),
              fixed_text(item.shift.expected_mean, 2), fixed_text(item.shift.actual_mean, 2), signed_text(item.shift.shift, 2),
@@ -749,7 +615,7 @@ def _characteristic_stability_table(items, sample: str) -> Table:
 
 
 def _cutoffs(validation, decimals: int, *, every_level: bool) -> dict | None:
-    sample = "hold-out" if "hold-out" in validation.samples else DEVELOPMENT
+    sample = "hold-out" if "hold-out" in validation.samples else DEVELOPMENT_NAME
     checks = validation.samples.get(sample)
     if checks is None:
         return None
@@ -757,13 +623,13 @@ def _cutoffs(validation, decimals: int, *, every_level: bool) -> dict | None:
     shown, step = _shown_cutoffs(table.cutoffs, table.approval_rate, checks.ks.score, every_level=every_level)
     rows, css = [], []
     for score, i, marked in shown:
-        rows.append([_score(score, decimals), percent_text(table.approval_rate[i], 1), percent_text(table.approved_bad_rate[i]),
+        rows.append([score_text(score, decimals), percent_text(table.approval_rate[i], 1), percent_text(table.approved_bad_rate[i]),
                      count_text(table.goods_declined[i]), count_text(table.bads_declined[i]),
                      percent_text(table.bads_declined_share[i], 1)])
         css.append("marked" if marked else "")
     caption = (f"Cut-offs on the {sample} sample, every {step:g} points where between "
                f"{percent_text(CUTOFF_SPAN[0], 0)} and {percent_text(CUTOFF_SPAN[1], 0)} of applications are approved. "
-               f"The marked row is the first cut-off above the KS score {_score(checks.ks.score, decimals)}. "
+               f"The marked row is the first cut-off above the KS score {score_text(checks.ks.score, decimals)}. "
                f"Rates count goods and bads only.")
     shown_table = text_table(["approve at or above", "approval rate", "bad rate among approved", "goods declined",
                               "bads declined", "share of bads declined"], rows, numeric=range(0, 6), row_css=css,
@@ -856,15 +722,6 @@ def _cautions(build) -> list[str]:
 # 12. Reproducibility
 
 
-def library_versions() -> list[tuple[str, str]]:
-    """The versions of the tool, Python and every library the figures depend on."""
-    from importlib import metadata
-
-    libraries = ["numpy", "pandas", "scipy", "pyarrow", "openpyxl", "jinja2"]
-    return [("scorewright", __version__), ("Python", platform.python_version()),
-            *((name, metadata.version(name)) for name in libraries)]
-
-
 def _reproducibility(build, generated_by: str) -> dict:
     versions = library_versions()
     command = "scorewright build settings.toml --out REBUILD_FOLDER"
@@ -875,66 +732,3 @@ def _reproducibility(build, generated_by: str) -> dict:
         "command": command,
         "generated_by": generated_by,
     }
-
-
-# --------------------------------------------------------------------------------------------
-# Numbers as text
-
-
-def count_text(value: float) -> str:
-    """Return a count with thousands separators; weighted counts keep one decimal."""
-    value = float(value)
-    if not math.isfinite(value):
-        return DASH
-    return f"{value:,.0f}" if abs(value - round(value)) < 1e-9 else f"{value:,.1f}"
-
-
-def fixed_text(value: float, decimals: int) -> str:
-    """Return a number with fixed decimals and thousands separators ('—' when not finite)."""
-    value = float(value)
-    if not math.isfinite(value):
-        return DASH
-    text = f"{value:,.{decimals}f}"
-    return text[1:] if text.startswith("-") and text.strip("-0.,") == "" else text  # no "-0.00"
-
-
-def signed_text(value: float, decimals: int) -> str:
-    """Return ``fixed_text`` with a '+' before a positive number."""
-    text = fixed_text(value, decimals)
-    return text if text.startswith("-") or text == DASH or text.strip("0.,") == "" else "+" + text
-
-
-def percent_text(value: float, decimals: int = 2) -> str:
-    """Return a share as a percentage."""
-    value = float(value)
-    return DASH if not math.isfinite(value) else f"{100 * value:.{decimals}f}%"
-
-
-def p_value_text(value: float) -> str:
-    """Return a p-value: three significant digits, and '< 0.001' below that."""
-    value = float(value)
-    if not math.isfinite(value):
-        return DASH
-    return "< 0.001" if value < 0.001 else f"{value:#.3g}"
-
-
-def interval_text(low: float, high: float, decimals: int) -> str:
-    """Return an interval as 'low to high'."""
-    return f"{fixed_text(low, decimals)} to {fixed_text(high, decimals)}"
-
-
-def level_text(level: float) -> str:
-    """Return a confidence level as a percentage, e.g. '95%'."""
-    return f"{100 * level:g}%"
-
-
-def _score(value: float, decimals: int) -> str:
-    value = float(value)
-    if not math.isfinite(value):
-        return DASH
-    return f"{value:.{decimals}f}" if decimals else f"{value:.0f}"
-
-
-def span_text(low: float, high: float, decimals: int) -> str:
-    """Return a score range as 'low–high' (one score when they are equal)."""
-    return f"{_score(low, decimals)}–{_score(high, decimals)}" if low != high else _score(low, decimals)

@@ -16,7 +16,7 @@ import statsmodels.api as sm
 from scipy import special
 
 from scorecard.errors import FitError, ScorecardWarning
-from scorecard.logistic import (
+from scorecard.fitter import (
     INTERCEPT_NAME,
     FitResult,
     fit_logistic,
@@ -529,7 +529,7 @@ BY_PARTS_RTOL = 1e-9  # the same sums, added part by part: only rounding may dif
 
 def test_fit_by_parts_equals_the_whole_fit():
     # reference: fit_logistic on the same rows (itself checked against statsmodels above)
-    from scorecard.logistic import fit_logistic_by_parts
+    from scorecard.fitter import fit_logistic_by_parts
 
     rng = np.random.default_rng(21)
     features = rng.normal(size=(20_000, 3))
@@ -544,7 +544,7 @@ def test_fit_by_parts_equals_the_whole_fit():
 
 
 def test_fit_by_parts_names_dependent_columns():
-    from scorecard.logistic import fit_logistic_by_parts
+    from scorecard.fitter import fit_logistic_by_parts
 
     rng = np.random.default_rng(22)
     a = rng.normal(size=5_000)
@@ -555,7 +555,7 @@ def test_fit_by_parts_names_dependent_columns():
 
 
 def test_fit_by_parts_names_a_separating_characteristic():
-    from scorecard.logistic import fit_logistic_by_parts
+    from scorecard.fitter import fit_logistic_by_parts
 
     rng = np.random.default_rng(23)
     x = rng.normal(size=4_000)

@@ -10,8 +10,8 @@ Like the build report, the page carries its own style and its charts as inline S
 nothing outside itself, and is made from score histograms and count tables only. Every value is
 formatted here (with the build report's helpers) and escaped by the template.
 
-The words on how statuses are set and what to do about each (``status_rules``, ``WHAT_TO_DO``,
-``monitoring_limits``) are shared with the monitoring workbook, so the two always say the same.
+The words on how statuses are set and what to do about each are monitoring's own
+(``scorecard.monitor.wording``), shared with the monitoring workbook.
 """
 
 from __future__ import annotations
@@ -21,23 +21,24 @@ from collections.abc import Sequence
 from dataclasses import replace
 from pathlib import Path
 
-import numpy as np
 from markupsafe import Markup
 
 from .. import __version__
 from ..checks import roc_points
-from ..ledger import Fingerprint
-from ..modelfile import SavedModel
-from ..monitor import STATUSES, CheckStatus, MonitorResult, PeriodMonitor
 from ..files import write_text_atomically
+from ..intake import Fingerprint
+from ..modelfile import SavedModel
+from ..monitor import (
+    MEANING, STATUSES, WHAT_TO_DO, CheckStatus, MonitorResult, driving_checks, monitoring_limits,
+    status_rules,
+)
 from ..settings import CheckSettings
 from . import CAUTION, charts
-from .html import (
-    Cell, Figure, Table, calibration_figures, captioned_chart, count_text, fixed_text, interval_text, level_text,
-    library_versions,
-    p_value_text, percent_text, psi_table, signed_text, span_text, status_cell, text_table,
+from .page_kit import (
+    DASH, Cell, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text, interval_text,
+    level_text, library_versions, p_value_text, percent_text, psi_table, signed_text, span_text, status_cell, text_table,
 )
-from .templates import environment
+
 
 SECTIONS = (
     ("status", "Status"),
@@ -49,26 +50,15 @@ SECTIONS = (
     ("cautions", "Cautions and limits"),
     ("reproducibility", "Reproducibility"),
 )
+
+
 NEW = "new"  # the monitored ledger's name in tables beside "development"
 DRIVING_ROWS = 8  # most raised checks listed under the status; the rest are counted
 CALM_NAMES = 4  # checks named in the line that counts the calm ones
-DASH = "—"
+
+
 # The status colours of templates/style.css (--ok, --watch, --act), for the SVG bars.
 STATUS_COLOURS = {"ok": "#3b7d4f", "watch": "#a86b12", "act": "#b23b3b"}
-
-MEANING = {
-    "ok": "Every check is inside its thresholds.",
-    "watch": "At least one check has crossed its watch threshold; none has crossed its act threshold.",
-    "act": "At least one check has crossed its act threshold.",
-}
-WHAT_TO_DO = {
-    "ok": "Nothing beyond the routine: file this report with the model's records and check the next quarter.",
-    "watch": "Look closer: read the detail of each watch check below, see whether it persists from quarter to "
-             "quarter, and note it, with what you found, in the model's monitoring record.",
-    "act": "Investigate the cause now. Consider recalibrating the scorecard (refitting how scores map to "
-           "default rates) or rebuilding it, and tell model risk management before relying on its scores "
-           "unchanged.",
-}
 
 
 def render_monitor(result: MonitorResult, saved: SavedModel, *, model_path: str | Path = "model.json",
@@ -84,7 +74,7 @@ def render_monitor(result: MonitorResult, saved: SavedModel, *, model_path: str 
     model_path : path-like
         The model file as the user named it.
     ledger_fingerprint : Fingerprint, optional
-        Rows and SHA-256 of the monitored ledger (``scorecard.ledger.fingerprint_of``).
+        Rows and SHA-256 of the monitored ledger (``scorecard.intake.fingerprint_of``).
     generated_by : str
         The command that made the report.
 
@@ -141,72 +131,10 @@ def write_monitor(result: MonitorResult, saved: SavedModel, path, *, model_path:
     return write_text_atomically(Path(path), page)
 
 
-def driving_checks(period: PeriodMonitor) -> list[CheckStatus]:
-    """Return the checks that set a period's status: every raised one, most serious first.
-
-    When every check is ok, the three headline checks (score stability, discrimination and
-    calibration, where computed) are returned instead, so their figures and thresholds still show.
-    """
-    raised = [s for s in period.statuses if s.status != "ok"]
-    if raised:
-        return sorted(raised, key=lambda s: (-STATUSES.index(s.status), -_severity(s)))
-    return [s for s in period.statuses if s.check in ("score stability", "discrimination", "calibration")]
-
-
 def figure_text(status: CheckStatus) -> str:
     """Return a check's figure as text: 'PSI 0.4831' or 'p-value < 0.001'."""
     value = fixed_text(status.value, 4) if status.direction == "above" else p_value_text(status.value)
     return f"{status.figure} {value}"
-
-
-def status_rules(checks: CheckSettings) -> list[tuple[str, str, str, str, str]]:
-    """Return (check, figure, watch, act, source and rule) for each kind of check, in words."""
-    psi = ("PSI", f"{checks.psi_watch:g} and above", f"{checks.psi_act:g} and above")
-    p = ("p-value", f"below {checks.p_watch:g}", f"below {checks.p_act:g}")
-    defaults = CheckSettings()
-    psi_source = (f"common practice, no source (defaults {defaults.psi_watch:.2f} and {defaults.psi_act:.2f})"
-                  + ("" if (checks.psi_watch, checks.psi_act) == (defaults.psi_watch, defaults.psi_act)
-                     else "; set under [checks] in the settings"))
-    p_source = (f"common practice, the 5% and 1% test levels, no source (defaults {defaults.p_watch:.2f} and "
-                f"{defaults.p_act:.2f})"
-                + ("" if (checks.p_watch, checks.p_act) == (defaults.p_watch, defaults.p_act)
-                   else "; set under [checks] in the settings"))
-    return [
-        ("score stability", *psi, f"PSI of the score over bands fixed on the development sample; {psi_source}."),
-        ("stability of each characteristic", *psi,
-         f"PSI over the characteristic's bins; {psi_source}. A level never seen at build time makes the "
-         "characteristic at least watch (our rule)."),
-        ("discrimination", *p,
-         "One-sided test that the AUC has fallen below the build's AUC on its most honest sample (out-of-time, "
-         "else hold-out, else development), with DeLong's variance "
-         f"(E. R. DeLong, D. M. DeLong, D. L. Clarke-Pearson, Biometrics 44, 1988); {p_source}."),
-        ("calibration", *p,
-         "One family of tests: calibration-in-the-large (two-sided), Hosmer–Lemeshow, and each score band's "
-         "exact binomial test (two-sided), with Holm's adjustment for testing many at once (S. Holm, "
-         "Scandinavian Journal of Statistics 6, 1979). The smallest adjusted p-value sets the status. "
-         f"Thresholds: {p_source}."),
-    ]
-
-
-def monitoring_limits(result: MonitorResult) -> list[str]:
-    """Return the limits of a monitoring run's figures, in words (the report and the workbook list them)."""
-    limits = [
-        "Outcomes of recent applications may not have run their full course: a loan that is good today can still "
-        "go bad. A young quarter's bad rate is a lower bound, and its calibration can look better than it is.",
-        "A test on many thousands of applications can call a difference too small to matter significant, and one "
-        "on a few hundred can miss one that matters. Read each p-value beside the size of the gap it tests.",
-        "The PSI thresholds are rules of thumb, not tests: a PSI says how far the mix moved, not whether the "
-        "move changes how well the scorecard works.",
-        "Only applications that were scored and approved have outcomes. When the cut-off or the policy changed, "
-        "the approved population moved too, and the outcome checks see only part of the applicants.",
-        "Applications with an indeterminate outcome or none yet count in the stability checks only.",
-        "Each quarter is checked with the same family of tests; over many quarters some watch statuses will come "
-        "by chance alone. A status that persists says more than one that comes and goes.",
-    ]
-    if result.overall.outcomes is None:
-        limits.insert(0, "This ledger has no known outcomes, so only stability was checked: a stable population "
-                         "does not show that the scorecard still ranks or predicts well.")
-    return limits
 
 
 # --------------------------------------------------------------------------------------------
@@ -282,13 +210,6 @@ def _headline_figures(result: MonitorResult) -> list[Figure]:
             Figure("AUC, new", fixed_text(area.auc, 4), f"development {fixed_text(development, 4)}"),
         ]
     return figures
-
-
-def _severity(status: CheckStatus) -> float:
-    """How far past its watch threshold a check is, on a scale that grows with the trouble."""
-    if status.direction == "above":
-        return status.value / status.watch
-    return status.watch / max(status.value, np.finfo(float).tiny)
 
 
 # --------------------------------------------------------------------------------------------
@@ -532,7 +453,7 @@ def _trend_charts(result: MonitorResult) -> list:
 
 
 # --------------------------------------------------------------------------------------------
-# 6. How statuses are set
+# 6. How statuses are set, and reproducibility
 
 
 def _rules(checks: CheckSettings) -> dict:
@@ -541,10 +462,6 @@ def _rules(checks: CheckSettings) -> dict:
                        caption="The thresholds of this run, from the model's settings under [checks].")
     return {"table": table, "todo": [(word, WHAT_TO_DO[word]) for word in STATUSES],
             "watch": f"{checks.p_watch:g}", "watch_share": percent_text(checks.p_watch, 0)}
-
-
-# --------------------------------------------------------------------------------------------
-# 8. Reproducibility
 
 
 def _reproducibility(result: MonitorResult, saved: SavedModel, model_path, ledger_fingerprint: Fingerprint | None,

@@ -1,19 +1,23 @@
-"""Count tables from coded rows: the one small interface to row work.
+"""Count tables: the small tables every stage after intake works on, made from coded rows.
 
 Everything after intake works on count tables, so the statistics never see rows. The functions
-here turn bin codes into those tables with ``numpy.bincount`` and ``numpy.unique``; an engine
-that groups and counts elsewhere (an embedded SQL engine, a cluster) only has to produce the
-same tables.
+here turn bin codes (and scores) into those tables with ``numpy.bincount`` and ``numpy.unique``;
+an engine that groups and counts elsewhere (an embedded SQL engine, a cluster) only has to
+produce the same tables (see ``scorecard.rows``).
+
+- ``BinCounts``: one characteristic's bins × (sample, outcome), weighted and raw.
+- ``PatternTable``: distinct patterns of bin codes across characteristics, with goods and bads.
+- ``ScoreHistogram``: goods, bads and others at each distinct score of one sample.
 """
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 import numpy as np
 
-from .ledger import BAD, GOOD, OUTCOME_NAMES, SAMPLE_NAMES
+from ..terms import BAD, GOOD, OUTCOME_NAMES, SAMPLE_NAMES, frozen
 
 N_SAMPLES = len(SAMPLE_NAMES)
 N_OUTCOMES = len(OUTCOME_NAMES)
@@ -196,3 +200,72 @@ def pattern_keys(codes: np.ndarray) -> np.ndarray:
         key = key * radix + codes[:, column]
         span *= radix
     return key
+
+
+# --------------------------------------------------------------------------------------------
+# Score histograms: what every check is computed from
+
+
+@dataclass(frozen=True)
+class ScoreHistogram:
+    """Weighted goods, bads and other rows at each distinct score of one sample.
+
+    Scores of a points scorecard come from a finite set, so every discrimination, calibration
+    and stability figure is computed exactly from this table.
+    """
+
+    sample: str
+    scores: np.ndarray
+    goods: np.ndarray
+    bads: np.ndarray
+    others: np.ndarray  # indeterminate and unknown outcomes: counted for stability only
+
+    @property
+    def everyone(self) -> np.ndarray:
+        """Weighted rows of any outcome at each score."""
+        return self.goods + self.bads + self.others
+
+    def to_dict(self) -> dict[str, list[float]]:
+        """Return the histogram as plain lists (for the model file)."""
+        return {"scores": self.scores.tolist(), "goods": self.goods.tolist(), "bads": self.bads.tolist(),
+                "others": self.others.tolist()}
+
+    @classmethod
+    def from_dict(cls, sample: str, data: Mapping[str, Sequence[float]]) -> ScoreHistogram:
+        """Rebuild a histogram from ``to_dict`` output."""
+        return cls(sample, *(frozen(data[key]) for key in ("scores", "goods", "bads", "others")))
+
+
+def score_histogram(scores: np.ndarray, is_good: np.ndarray, is_bad: np.ndarray, weight: np.ndarray, *,
+                    sample: str) -> ScoreHistogram:
+    """Return the histogram of the given rows' scores, split by outcome.
+
+    Parameters
+    ----------
+    scores : numpy.ndarray
+        Score of each row.
+    is_good, is_bad : numpy.ndarray
+        Boolean outcome of each row (neither: indeterminate or unknown).
+    weight : numpy.ndarray
+        Case weight of each row.
+    sample : str
+        The sample's name.
+    """
+    distinct, inverse = np.unique(scores, return_inverse=True)
+    size = len(distinct)
+    goods = np.bincount(inverse, weights=weight * is_good, minlength=size)
+    bads = np.bincount(inverse, weights=weight * is_bad, minlength=size)
+    others = np.bincount(inverse, weights=weight * ~(is_good | is_bad), minlength=size)
+    return ScoreHistogram(sample, frozen(distinct), frozen(goods), frozen(bads), frozen(others))
+
+
+def merge_histograms(histograms: Sequence[ScoreHistogram]) -> ScoreHistogram:
+    """Return the histogram of several batches of one sample together."""
+    if len(histograms) == 1:
+        return histograms[0]
+    distinct, inverse = np.unique(np.concatenate([h.scores for h in histograms]), return_inverse=True)
+
+    def added(field: str) -> np.ndarray:
+        return frozen(np.bincount(inverse, weights=np.concatenate([getattr(h, field) for h in histograms]), minlength=len(distinct)))
+
+    return ScoreHistogram(histograms[0].sample, frozen(distinct), added("goods"), added("bads"), added("others"))

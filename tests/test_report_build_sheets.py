@@ -19,11 +19,10 @@ import pandas as pd
 import pytest
 
 from scorecard.build import build_scorecard
-from scorecard.ledger import SAMPLE_NAMES
+from scorecard.terms import SAMPLE_NAMES
 from scorecard.report import CAUTION
-from scorecard.report.workbook import (
-    SHEET_NAMES, Formula, formula_cell, text_cell, value_cell, workbook, write_frame, write_workbook,
-)
+from scorecard.report.build_sheets import SHEET_NAMES, workbook, write_workbook
+from scorecard.report.sheet_kit import Formula, formula_cell, text_cell, value_cell, write_frame
 from scorecard.settings import CharacteristicSettings, Settings
 from scorecard.validation import validate_build
 

@@ -1,0 +1,23 @@
+"""Classing: binning and labels, fine classing, the best classing, the analyst's overrides, and the passes over rows.
+
+- ``bins``: ``Binning`` (where every value of a characteristic goes) and the bins' labels;
+- ``fine``: candidate bins from weighted quantiles or levels;
+- ``best``: the best classing, the monotone partition with the largest information value (exact DP);
+- ``overrides``: a classing fixed in the settings, completed from counts and checked against the limits;
+- ``passes``: classing a whole ledger in passes over its rows (``class_ledger``).
+"""
+
+from .best import CoarseClassing, GroupingLimits, coarse_classing, optimal_grouping, worst_bin
+from .bins import (
+    MISSING_LABEL, RARE_LABEL, Binning, categorical_binning, format_number, group_label, interval_labels, numeric_binning,
+)
+from .fine import fine_classing, quantile_cuts, roundest_between
+from .overrides import binning_from_settings, check_constraints, classing_settings_values, resolve_fallback
+from .passes import ClassedCharacteristic, ClassedLedger, class_ledger
+
+__all__ = [
+    "MISSING_LABEL", "RARE_LABEL", "Binning", "ClassedCharacteristic", "ClassedLedger", "CoarseClassing", "GroupingLimits",
+    "binning_from_settings", "categorical_binning", "check_constraints", "class_ledger", "classing_settings_values",
+    "coarse_classing", "fine_classing", "format_number", "group_label", "interval_labels", "numeric_binning",
+    "optimal_grouping", "quantile_cuts", "resolve_fallback", "roundest_between", "worst_bin",
+]

@@ -1,0 +1,230 @@
+"""Classing a ledger in passes over its rows: only count tables are kept between them.
+
+Pass 1 counts the fine bins of the characteristics the tool proposes a classing for; the best
+classing follows from those counts (``scorecard.classing.best``). Pass 2 counts every
+characteristic's final bins per sample; a classing fixed in the settings is completed from those
+counts (``scorecard.classing.overrides``). The rows themselves are the row source's
+(``scorecard.rows``): this module never loops over them.
+"""
+
+from __future__ import annotations
+
+import warnings
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import ScorecardWarning
+from ..evidence import EvidenceTable, evidence_table
+from ..intake import Characteristic, Ledger, rows_in_memory
+from ..rows import BinCounts, InProcessRows, KeptCodes
+from ..settings import Settings
+from ..terms import LEAKAGE_IV, SAMPLE_NAMES
+from .best import coarse_classing
+from .bins import Binning
+from .fine import fine_classing
+from .overrides import (
+    binning_from_settings, check_constraints, code_mapping, development_counts, resolve_fallback, without_empty_bins,
+)
+
+
+@dataclass(frozen=True)
+class ClassedCharacteristic:
+    """One characteristic after classing: its bins, counts per sample, and development WoE."""
+
+    binning: Binning
+    counts: BinCounts
+    evidence: EvidenceTable
+    origin: str  # "settings" (fixed by the analyst) or "proposed" (optimal grouping)
+    notes: tuple[str, ...]
+
+    @property
+    def name(self) -> str:
+        """The characteristic's name."""
+        return self.binning.characteristic
+
+    def evidence_on(self, sample: int, *, leakage_iv: float = LEAKAGE_IV) -> EvidenceTable:
+        """Return the WoE table on another sample (hold-out, out-of-time)."""
+        return evidence_table(
+            self.counts.goods(sample), self.counts.bads(sample), labels=self.binning.labels,
+            characteristic=self.name, n_goods=self.counts.n_goods(sample), n_bads=self.counts.n_bads(sample),
+            sample=SAMPLE_NAMES[sample], leakage_iv=leakage_iv,
+        )
+
+
+@dataclass(frozen=True)
+class ClassedLedger:
+    """Every characteristic classed, with the bin code of every row."""
+
+    characteristics: tuple[ClassedCharacteristic, ...]
+    codes: np.ndarray  # rows × characteristics
+    notes: tuple[str, ...]
+
+    @property
+    def kept(self) -> KeptCodes:
+        """The kept codes, for the row source's later passes (none when the ledger is read in batches)."""
+        return KeptCodes(self.names, self.codes)
+
+    def get(self, name: str) -> ClassedCharacteristic:
+        """Return one classed characteristic by name."""
+        return next(c for c in self.characteristics if c.name == name)
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        """Characteristic names, in ledger order."""
+        return tuple(c.name for c in self.characteristics)
+
+
+def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | None = None,
+                 progress: Callable[[Iterable], Iterable] = lambda items: items) -> ClassedLedger:
+    """Class every characteristic in passes over the rows: the settings' fixed classing where given, else the best one.
+
+    Parameters
+    ----------
+    ledger : Ledger
+    settings : Settings
+    rows : InProcessRows, optional
+        The ledger's rows (``scorecard.intake.open_ledger``); by default the ledger's own frame,
+        held in memory.
+    progress : callable
+        Wraps the loop over characteristics within a pass (a progress bar in a terminal).
+
+    Returns
+    -------
+    ClassedLedger
+        Development WoE per characteristic, the bin code of every row (when the rows are held in
+        memory), and notes of every repair and broken constraint.
+
+    Notes
+    -----
+    Fine cut points are taken from a seeded sample of the development rows. Pass 1 (only for
+    characteristics without a fixed classing) counts fine bins; the best classing follows from
+    those counts. Pass 2 codes every characteristic and counts its bins, with a bin of its own for
+    values the binning does not know; the settings' classing is then completed from the counts
+    alone: empty missing and special-value bins go, and unseen values join the unseen bin.
+    """
+    rows = rows_in_memory(ledger) if rows is None else rows
+    characteristics = ledger.characteristics
+    proposed = [c for c in characteristics if not _is_fixed(settings, c.name)]
+    fine_rows, fine_weights = rows.gather(_fine_sample(rows.fitting_rows(), settings), [c.name for c in proposed],
+                                          empty=ledger.frame)
+    fine = {c.name: _fine_binning(fine_rows[c.name], fine_weights, c, settings) for c in proposed}
+    binnings, coarse_notes = {}, {}
+    if fine:
+        fine_counts, _, _ = rows.count_bins(fine, keep_codes=False, progress=progress)
+        for name in fine:
+            binnings[name], coarse_notes[name] = _coarse(fine[name], fine_counts[name], settings)
+    binnings.update({c.name: _provisional(c, settings) for c in characteristics if c.name not in fine})
+    binnings = {c.name: binnings[c.name] for c in characteristics}
+    keep_codes = rows.in_memory
+    counts, codes, unseen = rows.count_bins(binnings, keep_codes=keep_codes, progress=progress)
+    classed, columns, notes = [], [], []
+    for char in characteristics:
+        origin = "settings" if char.name not in fine else "proposed"
+        result, mapping = _finish(binnings[char.name], counts[char.name], unseen.get(char.name, {}), origin, settings,
+                                  notes=coarse_notes.get(char.name, ()))
+        classed.append(result)
+        notes.extend(result.notes)
+        if keep_codes:
+            columns.append(mapping.astype(codes[char.name].dtype)[codes[char.name]])
+    n_rows = len(rows.outcome)
+    matrix = np.column_stack(columns) if columns else np.zeros((n_rows if keep_codes else 0, 0), dtype=np.uint8)
+    routine = {note for routine_notes in coarse_notes.values() for note in routine_notes}
+    for note in notes:
+        # what the proposal did by its own rules (a small missing bin merged) goes to the report's
+        # notes only; a warning is for what the analyst should act on
+        if note not in routine:
+            warnings.warn(note, ScorecardWarning, stacklevel=3)
+    return ClassedLedger(tuple(classed), matrix, tuple(notes))
+
+
+def _is_fixed(settings: Settings, name: str) -> bool:
+    spec = settings.characteristic(name)
+    return spec.cuts is not None or spec.groups is not None
+
+
+def _fine_sample(rows: np.ndarray, settings: Settings) -> np.ndarray:
+    """Rows the fine cut points are taken from: all, or a seeded sample when the ledger is large."""
+    limit = settings.classing.fine_sample_rows
+    if len(rows) <= limit:
+        return rows
+    rng = np.random.default_rng(settings.samples.seed + 1)
+    return np.sort(rng.choice(rows, size=limit, replace=False))
+
+
+def _fine_binning(values, weights, char: Characteristic, settings: Settings) -> Binning:
+    classing = settings.classing
+    return fine_classing(values, weights, name=char.name, kind=char.kind, special_values=char.special_values,
+                         max_bins=classing.max_fine_bins, rare_level_share=classing.rare_level_share)
+
+
+def _coarse(fine: Binning, counts: BinCounts, settings: Settings) -> tuple[Binning, tuple[str, ...]]:
+    """The optimal grouping of a fine binning, from its development counts (the unknown bin left aside)."""
+    classing = settings.classing
+    spec = settings.characteristic(fine.characteristic)
+    known = slice(0, fine.n_bins)
+    coarse = coarse_classing(
+        fine, counts.goods()[known], counts.bads()[known], n_goods=counts.n_goods()[known], n_bads=counts.n_bads()[known],
+        min_group_share=classing.min_group_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
+        max_groups=classing.max_groups, min_special_share=classing.min_special_share, trend=spec.trend or classing.trend,
+    )
+    binning = coarse.binning
+    if spec.unseen != "worst":
+        binning = resolve_fallback(binning, [], [], spec.unseen)
+    return binning, coarse.notes
+
+
+def _provisional(char: Characteristic, settings: Settings) -> Binning:
+    """The settings' classing with own bins for every special value and for missing values."""
+    spec = settings.characteristic(char.name)
+    return binning_from_settings(
+        char.name, char.kind, cuts=spec.cuts, groups=spec.groups, special_values=char.special_values,
+        specials=spec.specials, missing=spec.missing, present_specials=char.special_values, has_missing=True,
+        trend=spec.trend or settings.classing.trend,
+    )
+
+
+def _finish(binning: Binning, counts: BinCounts, stray: Mapping[str, int], origin: str, settings: Settings, *,
+            notes: Sequence[str] = ()):
+    """Complete a binning from its counts; return the classed characteristic and the code mapping."""
+    spec = settings.characteristic(binning.characteristic)
+    notes = list(notes)
+    if origin == "settings":
+        final = without_empty_bins(binning, counts)
+        final = resolve_fallback(final, *development_counts(counts, binning, final), spec.unseen)
+    else:
+        final = binning
+    mapping = code_mapping(binning, final)
+    final_counts = counts.regroup(mapping, final.labels)
+    if stray and origin == "settings":
+        shown = ", ".join(f"{level!r} ({n} rows)" for level, n in list(stray.items())[:5])
+        notes.append(
+            f"{binning.characteristic!r}: levels {shown} are in no group of the settings; they go to group "
+            f"{final.fallback_bin + 1} ({final.labels[final.fallback_bin]}). Add them to a group to decide yourself."
+        )
+    if origin == "settings":
+        classing = settings.classing
+        broken = check_constraints(
+            final, final_counts.goods(), final_counts.bads(), n_goods=final_counts.n_goods(), n_bads=final_counts.n_bads(),
+            min_group_share=classing.min_group_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
+            max_groups=classing.max_groups, trend=spec.trend or classing.trend,
+        )
+        notes += [f"the classing written in the settings breaks a constraint on this development sample: {problem}. "
+                  "Change its cuts or groups, or remove them for a new proposal." for problem in broken]
+    return _classed(final, final_counts, origin, tuple(notes), settings), mapping
+
+
+def _classed(binning: Binning, counts: BinCounts, origin: str, notes, settings: Settings) -> ClassedCharacteristic:
+    evidence = evidence_table(
+        counts.goods(), counts.bads(), labels=binning.labels, characteristic=binning.characteristic,
+        n_goods=counts.n_goods(), n_bads=counts.n_bads(), leakage_iv=settings.selection.leakage_iv,
+    )
+    adjusted = [label for label, flag in zip(binning.labels, evidence.adjusted) if flag]
+    notes = list(notes)
+    if adjusted:
+        notes.append(
+            f"{binning.characteristic!r}: bins {', '.join(map(repr, adjusted))} have no goods or no bads in development; "
+            "0.5 was added to both counts to keep their WoE finite. Group them with a neighbour to avoid this."
+        )
+    return ClassedCharacteristic(binning, counts, evidence, origin, tuple(notes))

@@ -1,0 +1,21 @@
+"""The fitter: maximum-likelihood logistic regression of the good:bad odds on weighted rows or pattern tables.
+
+- ``problem``: the problem and its cost (penalised negative log-likelihood per unit weight), its
+  gradient and curvature, and the standardisation of the columns;
+- ``guards``: linear dependence and separation, found and named;
+- ``solvers``: Newton–Raphson with step-halving, gradient descent, L-BFGS; one stopping rule, one result;
+- ``inputs``: the checks at entry;
+- ``fit``: ``fit_logistic``, the entry;
+- ``parts``: ``fit_logistic_by_parts``, for a table too large to hold as one design matrix.
+"""
+
+from .fit import fit_logistic
+from .parts import PART_ROWS, fit_logistic_by_parts
+from .problem import gradient, information_matrix, log_likelihood
+from .inputs import SOLVERS
+from .result import INTERCEPT_NAME, FitResult
+
+__all__ = [
+    "INTERCEPT_NAME", "PART_ROWS", "SOLVERS", "FitResult", "fit_logistic", "fit_logistic_by_parts", "gradient",
+    "information_matrix", "log_likelihood",
+]

@@ -1,0 +1,264 @@
+"""The problem and its cost: the log-likelihood of good:bad odds on weighted rows, its gradient and curvature.
+
+Inner functions work on the cost: the penalised negative log-likelihood per unit weight, which is
+of order one whatever the total weight. Standardisation (columns centred and scaled by their
+weighted mean and standard deviation) changes the coordinates the solvers work in, not the
+problem; it is called standardisation here, never scaling, which is the points scaling's word.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import linalg, special
+
+
+# A column whose weighted standard deviation is below this share of its largest value is constant
+# but for rounding in the mean.
+_CONSTANT_SPREAD = 1e-10
+
+
+def log_likelihood(beta, design, goods, bads, *, l2: float = 0.0, intercept: bool = True) -> float:
+    """Return ``Σ goods·ln p + bads·ln(1 − p)``, less ``l2·Σ b_j²/2`` when ``l2 > 0``.
+
+    Parameters
+    ----------
+    beta : array_like, shape (k,)
+        Coefficients, one per column of ``design``.
+    design : array_like, shape (n_rows, k)
+        Characteristics, with the intercept column of ones first when the model has one.
+    goods, bads : array_like, shape (n_rows,)
+        Weighted counts of goods and of bads per row.
+    l2 : float
+        Ridge penalty on every coefficient but the first when ``intercept`` is true.
+    intercept : bool
+        Whether the first column of ``design`` is the intercept, which the penalty leaves out.
+
+    Returns
+    -------
+    float
+        The (penalised) log-likelihood. Inputs are trusted; :func:`fit_logistic` validates.
+
+    Notes
+    -----
+    ``ln p = −ln(1 + e^{−η})`` and ``ln(1 − p) = −ln(1 + e^{η})`` are evaluated with
+    ``numpy.logaddexp(0, ·)``, which neither overflows nor loses the small terms.
+    """
+    problem = make_problem(design, goods, bads, l2=l2, intercept=intercept)
+    return -cost(problem, np.asarray(beta, dtype=float)) * problem.total_weight
+
+
+def gradient(beta, design, goods, bads, *, l2: float = 0.0, intercept: bool = True) -> np.ndarray:
+    """Return the score, the gradient of :func:`log_likelihood` with respect to ``beta``.
+
+    Parameters
+    ----------
+    beta, design, goods, bads, l2, intercept
+        As for :func:`log_likelihood`.
+
+    Returns
+    -------
+    numpy.ndarray, shape (k,)
+        ``X'(goods·(1 − p) − bads·p) − l2·b`` (the intercept not penalised).
+
+    Notes
+    -----
+    ``1 − p`` is computed as ``expit(−η)``, not by subtraction, so residuals of rows fitted close
+    to 0 or 1 keep their precision (McCullagh and Nelder, 1989, section 4.4, from memory).
+    """
+    problem = make_problem(design, goods, bads, l2=l2, intercept=intercept)
+    return -cost_gradient(problem, np.asarray(beta, dtype=float)) * problem.total_weight
+
+
+def information_matrix(beta, design, goods, bads, *, l2: float = 0.0, intercept: bool = True) -> np.ndarray:
+    """Return the information matrix, minus the Hessian of :func:`log_likelihood`.
+
+    Parameters
+    ----------
+    beta, design, goods, bads, l2, intercept
+        As for :func:`log_likelihood`.
+
+    Returns
+    -------
+    numpy.ndarray, shape (k, k)
+        ``X' diag((goods + bads)·p·(1 − p)) X + l2·diag(0, 1, …, 1)``.
+
+    Notes
+    -----
+    For the logit link the observed and expected information are equal, so Newton's method and
+    Fisher scoring (IRLS) take the same steps (McCullagh and Nelder, 1989, section 4.4, from memory).
+    """
+    problem = make_problem(design, goods, bads, l2=l2, intercept=intercept)
+    return cost_hessian(problem, np.asarray(beta, dtype=float)) * problem.total_weight
+
+
+@dataclass(frozen=True, eq=False)
+class Problem:
+    design: np.ndarray
+    goods: np.ndarray
+    bads: np.ndarray
+    ridge: np.ndarray  # penalty per coefficient: 0 for the intercept, l2 for the others
+    intercept: bool
+
+    @property
+    def weights(self) -> np.ndarray:
+        return self.goods + self.bads
+
+    @property
+    def total_weight(self) -> float:
+        return float(self.goods.sum() + self.bads.sum())
+
+    @property
+    def intercept_only(self) -> np.ndarray:
+        """The intercept-only estimate, ln(total goods / total bads), when there is an intercept."""
+        beta = np.zeros(self.design.shape[1])
+        if self.intercept:
+            beta[0] = np.log(self.goods.sum()) - np.log(self.bads.sum())
+        return beta
+
+
+def make_problem(design, goods, bads, *, l2: float, intercept: bool) -> Problem:
+    design = np.asarray(design, dtype=float)
+    ridge = np.full(design.shape[1], float(l2))
+    if intercept and ridge.size:
+        ridge[0] = 0.0
+    goods, bads = (np.asarray(counts, dtype=float) for counts in (goods, bads))
+    return Problem(design, goods, bads, ridge, intercept)
+
+
+def cost(problem: Problem, beta: np.ndarray) -> float:
+    eta = problem.design @ beta
+    loss = problem.goods @ np.logaddexp(0.0, -eta) + problem.bads @ np.logaddexp(0.0, eta)
+    return float((loss + 0.5 * problem.ridge @ beta**2) / problem.total_weight)
+
+
+def cost_change(problem: Problem, beta: np.ndarray, candidate: np.ndarray) -> float:
+    """cost(candidate) − cost(beta), accurate to the rounding of the change itself."""
+    eta = problem.design @ beta
+    shift = problem.design @ (candidate - beta)
+    loss = problem.goods @ softplus_change(-eta, -shift) + problem.bads @ softplus_change(eta, shift)
+    penalty = 0.5 * problem.ridge @ ((candidate - beta) * (candidate + beta))
+    return float((loss + penalty) / problem.total_weight)
+
+
+def softplus_change(eta: np.ndarray, shift: np.ndarray) -> np.ndarray:
+    """ln(1 + e^(η+δ)) − ln(1 + e^η), as ln(1 + expit(η)·(e^δ − 1)) where δ is small."""
+    # The identity keeps full relative precision for small δ; for large δ the plain difference
+    # loses nothing, and clipping keeps e^δ from overflowing on the rows it is not used for.
+    change = np.log1p(special.expit(eta) * np.expm1(np.clip(shift, -1.0, 1.0)))
+    large = np.abs(shift) > 1
+    if large.any():
+        change[large] = np.logaddexp(0.0, eta[large] + shift[large]) - np.logaddexp(0.0, eta[large])
+    return change
+
+
+def cost_gradient(problem: Problem, beta: np.ndarray) -> np.ndarray:
+    eta = problem.design @ beta
+    residual = problem.goods * special.expit(-eta) - problem.bads * special.expit(eta)
+    return (problem.ridge * beta - problem.design.T @ residual) / problem.total_weight
+
+
+def cost_hessian(problem: Problem, beta: np.ndarray) -> np.ndarray:
+    eta = problem.design @ beta
+    curvature = problem.weights * special.expit(eta) * special.expit(-eta)
+    hessian = (problem.design * curvature[:, None]).T @ problem.design + np.diag(problem.ridge)
+    return hessian / problem.total_weight
+
+
+def design_matrix(features: np.ndarray, intercept: bool) -> np.ndarray:
+    if not intercept:
+        return features.copy()
+    return np.column_stack([np.ones(features.shape[0]), features])
+
+
+# --------------------------------------------------------------------------------------------
+# Standardisation: characteristics x̃_j = (x_j − centre_j) / scale_j, coefficients mapped back.
+
+
+@dataclass(frozen=True, eq=False)
+class Standardisation:
+    centre: np.ndarray  # per design column; 0 for the intercept
+    scale: np.ndarray  # per design column; 1 for the intercept
+    intercept: bool
+
+    def to_original(self, theta: np.ndarray) -> np.ndarray:
+        beta = theta / self.scale
+        if self.intercept:
+            beta[0] = theta[0] - beta[1:] @ self.centre[1:]
+        return beta
+
+    def to_standard(self, beta: np.ndarray) -> np.ndarray:
+        theta = beta * self.scale
+        if self.intercept:
+            theta[0] = beta[0] + beta[1:] @ self.centre[1:]
+        return theta
+
+    def matrix(self) -> np.ndarray:
+        """T with b = T·θ, to carry a covariance of θ over to b."""
+        transform = np.diag(1.0 / self.scale)
+        if self.intercept:
+            transform[0, 1:] = -self.centre[1:] / self.scale[1:]
+        return transform
+
+    def gradient_to_standard(self, gradient_original: np.ndarray) -> np.ndarray:
+        """T'·g: the gradient with respect to θ from the gradient with respect to b."""
+        standard = gradient_original / self.scale
+        if self.intercept:
+            standard[1:] -= gradient_original[0] * self.centre[1:] / self.scale[1:]
+        return standard
+
+
+def standardisation_of(problem: Problem) -> Standardisation:
+    """Weighted mean and standard deviation per column (root mean square without an intercept).
+
+    With a penalty the variance gains 4·l2 / total weight: the penalty's curvature measured in the
+    units of the logistic curvature's bound 1/4, so no standardised coefficient is far stiffer
+    than the others.
+    """
+    weights = problem.weights / problem.total_weight
+    centre = weights @ problem.design if problem.intercept else np.zeros(problem.design.shape[1])
+    spread = np.sqrt(weights @ (problem.design - centre) ** 2 + 4 * problem.ridge / problem.total_weight)
+    # A constant column (up to rounding) has nothing to scale; it only gets here with l2 > 0.
+    size = np.max(np.abs(problem.design), axis=0)
+    scale = np.where(spread > _CONSTANT_SPREAD * size, spread, 1.0)
+    if problem.intercept:
+        centre[0], scale[0] = 0.0, 1.0
+    return Standardisation(centre, scale, problem.intercept)
+
+
+def no_standardisation(problem: Problem) -> Standardisation:
+    columns = problem.design.shape[1]
+    return Standardisation(np.zeros(columns), np.ones(columns), problem.intercept)
+
+
+def standardised(problem: Problem, standardisation: Standardisation) -> Problem:
+    """The same cost as a function of the standardised coefficients θ, with b = T·θ."""
+    design = (problem.design - standardisation.centre) / standardisation.scale
+    # The penalty stays on the original coefficients: b_j = θ_j / scale_j.
+    ridge = problem.ridge / standardisation.scale**2
+    return Problem(design, problem.goods, problem.bads, ridge, problem.intercept)
+
+
+# --------------------------------------------------------------------------------------------
+# Linear algebra of the information matrix.
+
+
+def solve_symmetric(matrix: np.ndarray, right: np.ndarray, problem: Problem, beta: np.ndarray):
+    """Solve with a Cholesky factor of the Jacobi-scaled matrix; name the columns if it is singular."""
+    diagonal = np.sqrt(np.clip(np.diag(matrix), np.finfo(float).tiny, None))
+    scaled = matrix / np.outer(diagonal, diagonal)
+    try:
+        factor = linalg.cho_factor(scaled)
+    except linalg.LinAlgError:
+        raise SingularInformation(scaled, problem, beta) from None
+    row_scale = diagonal[:, None] if right.ndim == 2 else diagonal
+    return linalg.cho_solve(factor, right / row_scale) / row_scale
+
+
+class SingularInformation(Exception):
+    """The information matrix cannot be factored at these coefficients; fit_logistic names the columns."""
+
+    def __init__(self, information: np.ndarray, problem: Problem, beta: np.ndarray):
+        super().__init__("singular information matrix")
+        self.information, self.problem, self.beta = information, problem, beta

@@ -1,0 +1,192 @@
+"""Which columns are characteristics, and of which kind: numeric or categorical.
+
+Identifiers, dates, constant columns and those the settings leave out are set aside with the
+reason; a text column that is numbers but for a few typed-in values is refused, naming the rows.
+"""
+
+from __future__ import annotations
+
+import difflib
+from collections.abc import Sequence
+
+import numpy as np
+import pandas as pd
+
+from ..errors import LedgerError, describe_rows
+from ..settings import Settings
+from ..terms import CATEGORICAL, NUMERIC
+from .ledger import Characteristic
+from .roles import plain
+
+
+# a column with a distinct value on at least this share of its rows looks like an identifier
+# (common practice, no source)
+IDENTIFIER_SHARE = 0.95
+
+
+IDENTIFIER_MIN_ROWS = 20
+NUMBERS_SHARE = 0.95  # a text column whose values are nearly all numbers is numbers with stray text
+
+
+def role_columns(frame: pd.DataFrame, settings: Settings, source: str, require_outcome: bool) -> set[str]:
+    """Check the columns named in settings exist; return the names that are not characteristics."""
+    columns = [str(c) for c in frame.columns]
+    ledger = settings.ledger
+    target = settings.outcome.column
+    if not target and require_outcome:
+        raise LedgerError(f"{source}: no outcome column named. Give it with --target COLUMN or as column under [outcome] in the settings file.")
+    named = {"outcome column": target if require_outcome else "", "id column": ledger.id_column,
+             "date column": ledger.date_column, "weight column": ledger.weight_column}
+    for role, column in named.items():
+        if column and column not in columns:
+            raise LedgerError(f"{source}: {role} {column!r} not found.{closest_names(column, columns)}")
+    for column in ledger.leave_out:
+        if column not in columns:
+            raise LedgerError(f"{source}: column {column!r} listed under ledger.leave_out not found.{closest_names(column, columns)}")
+    for name in settings.characteristics:
+        # a misspelt name would otherwise be ignored in silence, and its decision with it
+        if name not in columns:
+            raise LedgerError(
+                f"{source}: [characteristics.{name}] in the settings names no column of the ledger.{closest_names(name, columns)} "
+                "Correct the name in the settings file (or remove the section)."
+            )
+    return {c for c in (target, ledger.id_column, ledger.date_column, ledger.weight_column, *ledger.leave_out) if c}
+
+
+def choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[str],
+                            source: str) -> tuple[list[Characteristic], dict[str, str]]:
+    """Detect each remaining column's kind; leave out identifiers, dates, constants, and 'never'."""
+    chosen, left_out = [], {}
+    for column in frame.columns:
+        name = str(column)
+        if name in roles:
+            continue
+        spec = settings.characteristic(name)
+        series = frame[column]
+        if spec.use == "never":
+            left_out[name] = "use = never in the settings" + (f" ({spec.note})" if spec.note else "")
+            continue
+        reason = unusable_reason(series)
+        if reason:
+            left_out[name] = reason
+            continue
+        kind = spec.kind or detect_kind(series)
+        if not spec.kind and kind == CATEGORICAL:
+            _refuse_numbers_with_stray_text(series, name, source)
+        if spec.use == "" and (why := looks_like_identifier_or_date(series, kind)):
+            left_out[name] = f"{why}; set use = \"auto\" under [characteristics.{name}] to keep it"
+            continue
+        if kind == NUMERIC and not _numeric_or_empty(series):
+            raise LedgerError(
+                f"{source}, column {name!r}: kind is numeric in the settings but the column holds text "
+                f"(e.g. {plain(series.dropna().iloc[0])!r}). Set kind = \"categorical\" or clean the column."
+            )
+        chosen.append(Characteristic(name, kind, tuple(spec.special_values) if kind == NUMERIC else ()))
+    return chosen, left_out
+
+
+def closest_names(name: str, columns: Sequence[str]) -> str:
+    """Return ' Did you mean ...?' with the closest column names, or the list of columns."""
+    close = difflib.get_close_matches(name, columns, n=3, cutoff=0.5)
+    if not close:
+        lowered = {c.lower(): c for c in columns}
+        close = [lowered[name.lower()]] if name.lower() in lowered else []
+    if close:
+        return " Did you mean " + " or ".join(repr(c) for c in close) + "?"
+    shown = ", ".join(repr(c) for c in columns[:12]) + (", ..." if len(columns) > 12 else "")
+    return f" The ledger's columns are: {shown}."
+
+
+def detect_kind(series: pd.Series) -> str:
+    """Return 'numeric' for number columns (not booleans), else 'categorical'."""
+    if pd.api.types.is_bool_dtype(series) or not pd.api.types.is_numeric_dtype(series):
+        return CATEGORICAL
+    return NUMERIC
+
+
+def unusable_reason(series: pd.Series) -> str:
+    """Say why a column cannot be a characteristic (all missing, constant), or return ''."""
+    missing = series.isna().to_numpy()
+    if missing.all():
+        return "every value is missing"
+    if detect_kind(series) == NUMERIC:  # two comparisons, not a hash of every value
+        values = series.to_numpy(dtype=float, na_value=np.nan)
+        constant = np.nanmin(values) == np.nanmax(values)
+        first = series.iloc[int(np.flatnonzero(~missing)[0])]
+    else:
+        present = series[~missing]
+        first = present.iloc[0]
+        constant = not bool((present != first).any())
+    if not constant:
+        return ""
+    if missing.any():
+        return f"every value present is the same ({plain(first)!r}); only missingness varies"
+    return f"every row has the same value ({plain(first)!r})"
+
+
+def looks_like_identifier_or_date(series: pd.Series, kind: str) -> str:
+    """Say why a column looks like an identifier or a date, or return ''."""
+    if pd.api.types.is_datetime64_any_dtype(series):
+        return "it holds dates"
+    present = series.dropna()
+    if present.empty:
+        return ""
+    if kind == CATEGORICAL and _looks_like_dates(present):
+        return "it holds dates"
+    n_distinct = present.nunique()
+    if len(present) >= IDENTIFIER_MIN_ROWS and n_distinct >= IDENTIFIER_SHARE * len(present):
+        integer_valued = kind == NUMERIC and bool(np.all(np.mod(present.to_numpy(dtype=float), 1) == 0))
+        if kind == CATEGORICAL or integer_valued:
+            return f"it looks like an identifier ({n_distinct} distinct values in {len(present)} rows)"
+    return ""
+
+
+def check_finite(frame: pd.DataFrame, characteristics: Sequence[Characteristic], source: str, *, first_row: int = 0) -> None:
+    """Raise LedgerError naming a numeric characteristic with infinite values, its count and first rows."""
+    for char in characteristics:
+        if char.kind != NUMERIC:
+            continue
+        values = frame[char.name].to_numpy(dtype=float, na_value=np.nan)
+        infinite = np.isinf(values)
+        if infinite.any():
+            rows = describe_rows((np.flatnonzero(infinite) + 2 + first_row).tolist())
+            raise LedgerError(
+                f"{source}, column {char.name!r}, {rows}: {int(infinite.sum())} infinite values. "
+                "Replace them with a number, leave them empty (missing), or declare a special value."
+            )
+
+
+def _refuse_numbers_with_stray_text(series: pd.Series, name: str, source: str) -> None:
+    """Raise LedgerError when a text column holds numbers but for a few values (typed in by hand, say).
+
+    Read as text, such a column would become a category with a level per number: a silent, wrong
+    classing. The first rows holding text are named.
+    """
+    present = series.dropna()
+    if present.empty or pd.api.types.is_bool_dtype(series):
+        return
+    sample = present.iloc[:10_000]
+    if pd.to_numeric(sample, errors="coerce").notna().mean() < NUMBERS_SHARE:
+        return
+    numbers = pd.to_numeric(series, errors="coerce")
+    stray = (numbers.isna() & series.notna()).to_numpy()
+    if stray.mean() > 1 - NUMBERS_SHARE or not stray.any():
+        return
+    rows = np.flatnonzero(stray)
+    shown = ", ".join(repr(plain(v)) for v in pd.unique(series.iloc[rows[:50]])[:3])
+    raise LedgerError(
+        f"{source}, column {name!r}, {describe_rows((rows + 2).tolist())}: the column holds numbers, but these rows "
+        f"hold text ({shown}). Correct them (leave a cell empty for missing), "
+        f"or set kind = \"categorical\" under [characteristics.{name}] if the column is a category."
+    )
+
+
+def _looks_like_dates(present: pd.Series) -> bool:
+    head = present.astype(str).head(200)
+    if not head.str.contains(r"^\d{4}-\d{2}-\d{2}|^\d{1,2}/\d{1,2}/\d{2,4}", regex=True).all():
+        return False
+    return bool(pd.to_datetime(head, errors="coerce", format="mixed").notna().all())
+
+
+def _numeric_or_empty(series: pd.Series) -> bool:
+    return pd.api.types.is_numeric_dtype(series) and not pd.api.types.is_bool_dtype(series)

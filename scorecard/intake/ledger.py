@@ -1,0 +1,106 @@
+"""The checked ledger: what intake hands to the stages, and the fingerprint that identifies it."""
+
+from __future__ import annotations
+
+import hashlib
+import os
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from ..terms import OUTCOME_NAMES, SAMPLE_NAMES
+
+
+@dataclass(frozen=True)
+class Characteristic:
+    """A column used as a characteristic: its name, kind and declared special values."""
+
+    name: str
+    kind: str
+    special_values: tuple[float, ...] = ()
+
+
+@dataclass(frozen=True)
+class Fingerprint:
+    """What identifies a ledger: its row count and a SHA-256 of its content."""
+
+    n_rows: int
+    sha256: str
+    of: str  # "file bytes" or "frame values"
+
+    def to_dict(self) -> dict[str, object]:
+        """Return the fingerprint as plain values (for the model file)."""
+        return {"rows": self.n_rows, "sha256": self.sha256, "of": self.of}
+
+
+@dataclass(frozen=True)
+class Ledger:
+    """A checked ledger: characteristic columns, outcome, weights and samples, aligned by row.
+
+    Attributes
+    ----------
+    source : str
+        The file name, or "DataFrame".
+    frame : pandas.DataFrame
+        The characteristic columns only (ids, dates, outcome and weights are held apart).
+    characteristics : tuple of Characteristic
+        The characteristics, in ledger order.
+    outcome : numpy.ndarray
+        int8 per row: 0 good, 1 bad, 2 indeterminate, 3 unknown (no outcome recorded).
+    weight : numpy.ndarray
+        float64 case weight per row.
+    sample : numpy.ndarray
+        int8 per row: 0 development, 1 hold-out, 2 out-of-time.
+    dates : numpy.ndarray or None
+        datetime64[D] per row when the ledger has a date column.
+    ids : numpy.ndarray or None
+        The id column's values, for output files only.
+    notes : tuple of str
+        What intake left out or repaired, and why (the reports list them).
+    fingerprint : Fingerprint
+    """
+
+    source: str
+    frame: pd.DataFrame
+    characteristics: tuple[Characteristic, ...]
+    outcome: np.ndarray
+    weight: np.ndarray
+    sample: np.ndarray
+    dates: np.ndarray | None
+    ids: np.ndarray | None
+    notes: tuple[str, ...]
+    fingerprint: Fingerprint
+    left_out: Mapping[str, str] = field(default_factory=dict)
+
+    @property
+    def n_rows(self) -> int:
+        """Number of rows."""
+        return len(self.outcome)
+
+    def characteristic(self, name: str) -> Characteristic:
+        """Return the characteristic called ``name``."""
+        return next(c for c in self.characteristics if c.name == name)
+
+    def sample_summary(self) -> pd.DataFrame:
+        """Return rows, goods, bads, indeterminates and unknowns (weighted) per sample."""
+        table = np.zeros((len(SAMPLE_NAMES), len(OUTCOME_NAMES)))
+        np.add.at(table, (self.sample, self.outcome), self.weight)
+        frame = pd.DataFrame(table, index=list(SAMPLE_NAMES), columns=list(OUTCOME_NAMES))
+        frame.insert(0, "rows", np.bincount(self.sample, minlength=len(SAMPLE_NAMES)))
+        frame["bad rate"] = frame["bad"] / (frame["good"] + frame["bad"]).where(lambda s: s > 0)
+        return frame
+
+
+def fingerprint_of(source: str | os.PathLike[str] | pd.DataFrame, n_rows: int) -> Fingerprint:
+    """Return a ledger's fingerprint: row count and SHA-256 of the file's bytes or the frame's values."""
+    digest = hashlib.sha256()
+    if isinstance(source, pd.DataFrame):
+        digest.update(pd.util.hash_pandas_object(source, index=False).to_numpy().tobytes())
+        digest.update("\x1f".join(map(str, source.columns)).encode())
+        return Fingerprint(n_rows, digest.hexdigest(), "frame values")
+    with open(source, "rb") as stream:
+        for block in iter(lambda: stream.read(1 << 22), b""):
+            digest.update(block)
+    return Fingerprint(n_rows, digest.hexdigest(), "file bytes")

@@ -1,0 +1,171 @@
+"""Checking a ledger against the settings: whole in memory, or in batches when it is larger than memory.
+
+``open_ledger`` is the one entry the commands and the build use: it reads (or begins to read) a
+ledger, checks it, and returns it with the source of its rows (``scorecard.rows``).
+"""
+
+from __future__ import annotations
+
+import os
+import warnings
+from collections.abc import Sequence
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from ..errors import LedgerError, ScorecardWarning
+from ..rows import BATCH_READABLE, InProcessRows, reads_in_batches
+from ..settings import Settings
+from .kinds import check_finite, choose_characteristics, role_columns
+from .ledger import Fingerprint, Ledger, fingerprint_of
+from .read import arrow_types, checked_file, file_batches, read_head, read_ledger
+from .roles import check_roles, role_values, unit_weights
+from .samples import split_samples
+
+
+def open_ledger(data: pd.DataFrame | str | os.PathLike[str], settings: Settings, *, stream: bool | None = None,
+                require_outcome: bool = True) -> tuple[Ledger, InProcessRows]:
+    """Read (or begin to read) and check a ledger; return it with the source of its rows.
+
+    Parameters
+    ----------
+    data : pandas.DataFrame or path
+        The ledger.
+    settings : Settings
+    stream : bool, optional
+        Read a file in batches (True), whole (False), or as ``scorecard.rows.reads_in_batches``
+        decides from its size (None, the default). A DataFrame is always in memory.
+    require_outcome : bool
+        As for ``prepare_ledger``.
+
+    Returns
+    -------
+    (Ledger, InProcessRows)
+        A streamed ledger holds the roles of every row but no characteristic values; its rows
+        are read again, batch by batch, by each pass the row source makes.
+    """
+    if not isinstance(data, pd.DataFrame) and reads_in_batches(data, settings.ledger.stream_above_mb, asked=stream):
+        ledger, batches = stream_ledger(data, settings, require_outcome=require_outcome)
+        return ledger, InProcessRows(ledger.outcome, ledger.weight, ledger.sample, batches)
+    frame = read_ledger(data)
+    if isinstance(data, pd.DataFrame):
+        ledger = prepare_ledger(frame, settings, require_outcome=require_outcome)
+    else:
+        ledger = prepare_ledger(frame, settings, source=Path(data).name, fingerprint=fingerprint_of(data, len(frame)),
+                                require_outcome=require_outcome)
+    return ledger, rows_in_memory(ledger)
+
+
+def rows_in_memory(ledger: Ledger) -> InProcessRows:
+    """The row source of a ledger held in memory."""
+    return InProcessRows.from_frame(ledger.frame, ledger.outcome, ledger.weight, ledger.sample)
+
+
+def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "DataFrame",
+                   fingerprint: Fingerprint | None = None, require_outcome: bool = True) -> Ledger:
+    """Check a ledger against the settings and return it ready for classing.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        The ledger as read; it is not modified.
+    settings : Settings
+        Outcome mapping, special columns, kinds, special values and samples.
+    source : str
+        The ledger's name for messages (file name or "DataFrame").
+    fingerprint : Fingerprint, optional
+        Computed from the frame when not given.
+    require_outcome : bool
+        False when scoring or monitoring: the outcome column may then be absent or partly empty.
+
+    Returns
+    -------
+    Ledger
+
+    Raises
+    ------
+    LedgerError
+        The outcome column is missing or holds unmapped values, only one class is present,
+        weights are negative, missing or not finite, a characteristic holds infinite values, or
+        the special columns are wrong.
+    """
+    roles = role_columns(frame, settings, source, require_outcome)
+    characteristics, left_out = choose_characteristics(frame, settings, roles, source)
+    check_finite(frame, characteristics, source)
+    outcome, weight, dates = role_values(frame, settings, source)
+    repairs = check_roles(outcome, weight, settings, source, require_outcome=require_outcome)
+    sample = split_samples(outcome, dates, settings, source=source)
+    ids = frame[settings.ledger.id_column].to_numpy() if settings.ledger.id_column else None
+    kept = frame[[c.name for c in characteristics]]
+    if fingerprint is None:
+        fingerprint = fingerprint_of(frame, len(frame))
+    notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
+    for note in repairs:
+        warnings.warn(note, ScorecardWarning, stacklevel=2)
+    return Ledger(
+        source=source, frame=kept, characteristics=tuple(characteristics), outcome=outcome, weight=weight,
+        sample=sample, dates=dates, ids=ids, notes=tuple(notes), fingerprint=fingerprint, left_out=left_out,
+    )
+
+
+def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require_outcome: bool = True):
+    """Check a ledger read in batches; return the ledger's row-level roles and a way to read its batches.
+
+    Parameters
+    ----------
+    source : path-like
+        A CSV or Parquet file.
+    settings : Settings
+    require_outcome : bool
+        As for ``prepare_ledger``.
+
+    Returns
+    -------
+    (Ledger, callable)
+        The ledger holds outcome, weight, sample and date per row but no characteristic values
+        (its frame has no rows); ``batches(columns)`` returns a fresh iterator of ``(first row,
+        frame)`` over the file, each batch checked as it is read.
+
+    Notes
+    -----
+    Pass 1 reads the outcome, weight and date columns only; the characteristics' kinds and
+    left-out columns are judged on the first ``scorecard.intake.read.HEAD_ROWS`` rows (set them in the settings file to
+    decide yourself). The samples are split exactly as for a ledger held in memory.
+    """
+    path, suffix = checked_file(source)
+    batch_rows = settings.ledger.batch_rows  # rows per batch (Parquet; CSV batches are about that size)
+    if suffix not in BATCH_READABLE:
+        raise LedgerError(f"{path.name}: only CSV and Parquet ledgers can be read in batches. Convert it, or read it whole.")
+    source_name = path.name
+    head = read_head(path, suffix)
+    if len(head) == 0:
+        raise LedgerError(f"{source_name}: the file has a header but no data rows. Export the ledger again with its data.")
+    roles = role_columns(head, settings, source_name, require_outcome)
+    characteristics, left_out = choose_characteristics(head, settings, roles, source_name)
+    types = arrow_types(head)
+    role_names = [c for c in (settings.outcome.column, settings.ledger.weight_column, settings.ledger.date_column)
+                    if c and c in head.columns]
+
+    def batches(columns: Sequence[str]):
+        read = [c for c in characteristics if c.name in columns]
+        for first_row, frame in file_batches(path, suffix, list(columns), types, batch_rows):
+            check_finite(frame, read, source_name, first_row=first_row)
+            yield first_row, frame
+
+    parts = [role_values(frame, settings, source_name, first_row=first_row)
+             for first_row, frame in file_batches(path, suffix, role_names or list(head.columns[:1]), types, batch_rows)]
+    outcome = np.concatenate([p[0] for p in parts])
+    weight = np.concatenate([p[1] for p in parts]) if settings.ledger.weight_column else unit_weights(len(outcome))
+    dates = np.concatenate([p[2] for p in parts]) if settings.ledger.date_column else None
+    repairs = check_roles(outcome, weight, settings, source_name, require_outcome=require_outcome)
+    sample = split_samples(outcome, dates, settings, source=source_name)
+    notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
+    for note in repairs:
+        warnings.warn(note, ScorecardWarning, stacklevel=2)
+    ledger = Ledger(
+        source=source_name, frame=head.iloc[:0][[c.name for c in characteristics]], characteristics=tuple(characteristics),
+        outcome=outcome, weight=weight, sample=sample, dates=dates, ids=None, notes=tuple(notes),
+        fingerprint=fingerprint_of(path, len(outcome)), left_out=left_out,
+    )
+    return ledger, batches

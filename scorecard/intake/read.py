@@ -1,0 +1,223 @@
+"""Reading ledger files: CSV, Parquet or Excel, whole or in batches, checked as they are read.
+
+Messages name the file, the column and the rows as the user sees them: row numbers count the
+header as row 1, as a spreadsheet shows them.
+"""
+
+from __future__ import annotations
+
+import csv
+import os
+from collections.abc import Sequence
+from pathlib import Path
+
+import pandas as pd
+
+from ..errors import LedgerError
+from ..rows import BATCH_READABLE
+from ..terms import NUMERIC
+from .kinds import closest_names, detect_kind
+
+SUFFIXES = (".csv", ".txt", ".parquet", ".pq", ".xlsx", ".xlsm")
+HEAD_ROWS = 20_000  # kinds and left-out columns are judged on the first rows of a streamed ledger
+
+
+# the words a whole read with pandas takes for an empty cell, so that batches read with pyarrow
+# take the same ones (pandas' read_csv documentation, na_values)
+EMPTY_WORDS = (
+    "", "#N/A", "#N/A N/A", "#NA", "-1.#IND", "-1.#QNAN", "-NaN", "-nan", "1.#IND", "1.#QNAN", "<NA>", "N/A", "NA",
+    "NULL", "NaN", "None", "n/a", "nan", "null",
+)
+
+
+def read_ledger(source: str | os.PathLike[str] | pd.DataFrame, *, columns: Sequence[str] | None = None) -> pd.DataFrame:
+    """Read a ledger file (CSV, Parquet or Excel) into a DataFrame, checking it can be used.
+
+    Parameters
+    ----------
+    source : path-like or pandas.DataFrame
+        The ledger. A DataFrame is checked and returned unchanged (never modified).
+    columns : sequence of str, optional
+        Read only these columns.
+
+    Returns
+    -------
+    pandas.DataFrame
+
+    Raises
+    ------
+    LedgerError
+        The file is missing, unreadable, of an unknown type, empty, has only a header, or has
+        duplicate column names.
+    """
+    if isinstance(source, pd.DataFrame):
+        _check_column_names([str(c) for c in source.columns], "DataFrame")
+        if len(source) == 0:
+            raise LedgerError("DataFrame: the ledger has no rows. Pass a ledger with at least one application.")
+        return source
+    path, suffix = checked_file(source)
+    frame = _read_frame(path, suffix, columns)
+    if len(frame) == 0:
+        raise LedgerError(f"{path.name}: the file has a header but no data rows. Export the ledger again with its data.")
+    return frame
+
+
+def ledger_columns(source: str | os.PathLike[str]) -> list[str]:
+    """Return a ledger file's column names, checking the file as ``read_ledger`` does."""
+    path, suffix = checked_file(source)
+    return _read_header(path, suffix)
+
+
+def read_batches(source: str | os.PathLike[str], columns: Sequence[str], *, batch_rows: int):
+    """Yield (first row, frame) over a CSV or Parquet ledger, reading only ``columns``, checked as a whole read is.
+
+    Raises
+    ------
+    LedgerError
+        The file cannot be read, or a named column is not in it.
+    """
+    path, suffix = checked_file(source)
+    if suffix not in BATCH_READABLE:
+        raise LedgerError(f"{path.name}: only CSV and Parquet ledgers can be read in batches. Convert it, or read it whole.")
+    head = read_head(path, suffix)
+    absent = [c for c in columns if c not in head.columns]
+    if absent:
+        raise LedgerError(f"{path.name}: column {absent[0]!r} not found.{closest_names(absent[0], [str(c) for c in head.columns])}")
+    yield from file_batches(path, suffix, list(columns), arrow_types(head), batch_rows)
+
+
+def csv_delimiter(path: Path) -> str:
+    """The CSV file's delimiter: a comma, or the ';', tab or '|' its header uses instead (as some exports do)."""
+    with path.open(encoding="utf-8-sig", errors="replace") as stream:
+        header = stream.readline()
+    if "," in header:
+        return ","
+    return next((candidate for candidate in (";", "\t", "|") if candidate in header), ",")
+
+
+def checked_file(source: str | os.PathLike[str]) -> tuple[Path, str]:
+    """Check a ledger file exists, has a known type, is not empty and has unique column names."""
+    path = Path(source)
+    name = path.name
+    if not path.exists():
+        raise LedgerError(f"{path}: ledger file not found. Check the path (in a settings file, a relative path starts at the file's folder).")
+    if path.is_dir():
+        raise LedgerError(f"{path}: is a folder, not a ledger file. Give the path of a CSV, Parquet or .xlsx file.")
+    suffix = path.suffix.lower()
+    if suffix not in SUFFIXES:
+        raise LedgerError(f"{path}: unknown ledger file type {suffix or '(no suffix)'!r}. Use a .csv, .parquet or .xlsx file.")
+    if path.stat().st_size == 0:
+        raise LedgerError(f"{name}: the file is empty. Export the ledger again with a header row and data rows.")
+    _check_column_names(_read_header(path, suffix), name)
+    return path, suffix
+
+
+def _read_header(path: Path, suffix: str) -> list[str]:
+    """Read the column names as they are in the file (pandas would rename duplicates)."""
+    try:
+        if suffix in (".csv", ".txt"):
+            with path.open(newline="", encoding="utf-8-sig") as stream:
+                return next(csv.reader(stream, delimiter=csv_delimiter(path)), [])
+        if suffix in (".parquet", ".pq"):
+            import pyarrow.parquet as pq
+
+            return list(pq.read_schema(path).names)
+        import openpyxl
+
+        book = openpyxl.load_workbook(path, read_only=True)
+        try:
+            first = next(book.worksheets[0].iter_rows(max_row=1, values_only=True), ())
+        finally:
+            book.close()
+        return ["" if value is None else str(value) for value in first]
+    except UnicodeDecodeError as error:
+        raise LedgerError(f"{path.name}: not UTF-8 text (byte {error.start}). Save the ledger as UTF-8 CSV.") from None
+    except Exception as error:  # any reader failure is the file's fault here
+        raise LedgerError(f"{path.name}: cannot read the file as {suffix[1:]} ({type(error).__name__}: {error}). Check it opens and is not damaged.") from None
+
+
+def _read_frame(path: Path, suffix: str, columns: Sequence[str] | None) -> pd.DataFrame:
+    usecols = list(columns) if columns is not None else None
+    try:
+        if suffix in (".csv", ".txt"):
+            return pd.read_csv(path, usecols=usecols, encoding="utf-8-sig", low_memory=False, sep=csv_delimiter(path))
+        if suffix in (".parquet", ".pq"):
+            return pd.read_parquet(path, columns=usecols)
+        return pd.read_excel(path, usecols=usecols, engine="openpyxl")
+    except pd.errors.EmptyDataError:
+        raise LedgerError(f"{path.name}: the file is empty. Export the ledger again with a header row and data rows.") from None
+    except UnicodeDecodeError as error:
+        raise LedgerError(f"{path.name}: not UTF-8 text (byte {error.start}). Save the ledger as UTF-8 CSV.") from None
+    except Exception as error:  # a reader failure is the file's fault here
+        raise LedgerError(f"{path.name}: cannot read the file ({type(error).__name__}: {error}). Check it opens and is not damaged.") from None
+
+
+def _check_column_names(names: list[str], source: str) -> None:
+    if not names or all(not n.strip() for n in names):
+        raise LedgerError(f"{source}: no header row with column names. The first row must name the columns.")
+    seen: dict[str, int] = {}
+    for position, column in enumerate(names, start=1):
+        if column in seen:
+            raise LedgerError(
+                f"{source}: column name {column!r} appears twice (columns {seen[column]} and {position}). Rename one so every column name is unique."
+            )
+        seen[column] = position
+
+
+def read_head(path: Path, suffix: str) -> pd.DataFrame:
+    if suffix in (".parquet", ".pq"):
+        import pyarrow.parquet as pq
+
+        batch = next(pq.ParquetFile(path).iter_batches(batch_size=HEAD_ROWS), None)
+        return batch.to_pandas() if batch is not None else pd.read_parquet(path)
+    return pd.read_csv(path, nrows=HEAD_ROWS, encoding="utf-8-sig", low_memory=False, sep=csv_delimiter(path))
+
+
+def arrow_types(head: pd.DataFrame) -> dict[str, object]:
+    """Column types for reading batches: numbers as float64, everything else as text."""
+    import pyarrow as pa
+
+    return {str(c): pa.float64() if detect_kind(head[c]) == NUMERIC else pa.string() for c in head.columns}
+
+
+def file_batches(path: Path, suffix: str, columns: list[str], types: dict[str, object], batch_rows: int):
+    """Yield (first row, frame) over a CSV or Parquet file, reading only ``columns``."""
+    first_row = 0
+    try:
+        for batch in _arrow_batches(path, suffix, columns, types, batch_rows):
+            frame = batch.to_pandas()
+            yield first_row, frame
+            first_row += len(frame)
+    except LedgerError:
+        raise
+    except Exception as error:  # a reader failure part-way is the file's fault here
+        raise LedgerError(
+            f"{path.name}, after row {first_row + 1}: cannot read the next rows ({type(error).__name__}: {error}). "
+            "A column may hold text where the first rows hold numbers; fix the file or set the column's kind."
+        ) from None
+
+
+def _block_bytes(path: Path, batch_rows: int) -> int:
+    """Bytes of CSV that hold about ``batch_rows`` rows, judged from the first megabyte."""
+    with path.open("rb") as stream:
+        start = stream.read(1 << 20)
+    per_row = len(start) / max(start.count(b"\n"), 1)
+    return int(min(max(batch_rows * per_row, 1 << 16), 1 << 30))
+
+
+def _arrow_batches(path: Path, suffix: str, columns: list[str], types: dict[str, object], batch_rows: int):
+    if suffix in (".parquet", ".pq"):
+        import pyarrow.parquet as pq
+
+        yield from pq.ParquetFile(path).iter_batches(batch_size=batch_rows, columns=columns)
+        return
+    import pyarrow.csv as pacsv
+
+    reader = pacsv.open_csv(
+        path, parse_options=pacsv.ParseOptions(delimiter=csv_delimiter(path)), read_options=pacsv.ReadOptions(block_size=_block_bytes(path, batch_rows), encoding="utf8"),
+        convert_options=pacsv.ConvertOptions(
+            include_columns=columns, column_types={c: types[c] for c in columns},
+            null_values=sorted(EMPTY_WORDS), strings_can_be_null=True, quoted_strings_can_be_null=True,
+        ),
+    )
+    yield from reader

@@ -1,0 +1,163 @@
+"""The columns with a role: the outcome mapped to good, bad, indeterminate or unknown; weights; dates.
+
+Each value is checked where it enters; a message names the column, the rows and what to do.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+import pandas as pd
+
+from ..errors import LedgerError, describe_rows
+from ..settings import Settings
+from ..terms import BAD, GOOD, INDETERMINATE, UNKNOWN, value_text
+
+
+def role_values(frame: pd.DataFrame, settings: Settings, source: str, *, first_row: int = 0):
+    """Return the outcome code, weight and date (or None) of every row, checking each value."""
+    outcome = map_outcome(frame, settings, source, first_row=first_row)
+    weight = _weights(frame, settings.ledger.weight_column, source, first_row=first_row)
+    column = settings.ledger.date_column
+    dates = _dates(frame, column, source, first_row=first_row) if column and column in frame.columns else None
+    return outcome, weight, dates
+
+
+def check_roles(outcome: np.ndarray, weight: np.ndarray, settings: Settings, source: str, *,
+                require_outcome: bool) -> list[str]:
+    """Check the whole ledger's outcomes and weights; return the notes of what was repaired."""
+    column = settings.outcome.column
+    if settings.ledger.weight_column and len(weight) and weight.sum() <= 0:
+        raise LedgerError(f"{source}, column {settings.ledger.weight_column!r}: every weight is 0. Give the rows positive weights.")
+    if not require_outcome:
+        return []
+    _check_both_classes(outcome, source, column)
+    note = unknown_outcome_note(outcome, source, column)
+    return [note] if note else []
+
+
+def map_outcome(frame: pd.DataFrame, settings: Settings, source: str, *, first_row: int = 0) -> np.ndarray:
+    """Return the outcome code of every row (unknown where the column is absent or empty).
+
+    Raises
+    ------
+    LedgerError
+        A value is not in the outcome mapping; the message names the values, their counts and
+        the first rows (``first_row`` is the position of the frame's first row in the ledger).
+    """
+    column = settings.outcome.column
+    if not column or column not in frame.columns:
+        return np.full(len(frame), UNKNOWN, dtype=np.int8)
+    codes, uniques = pd.factorize(frame[column], use_na_sentinel=True)
+    keys = [outcome_key(u) for u in uniques]
+    mapping = _outcome_mapping(settings, keys)
+    unmapped = [(k, int(np.count_nonzero(codes == i))) for i, k in enumerate(keys) if k not in mapping]
+    if unmapped:
+        shown = ", ".join(f"{k!r} ({n_rows_text(n)})" for k, n in unmapped[:8]) + (f" and {len(unmapped) - 8} more" if len(unmapped) > 8 else "")
+        first_rows = np.flatnonzero(np.isin(codes, [keys.index(k) for k, _ in unmapped])) + 2 + first_row
+        raise LedgerError(
+            f"{source}, column {column!r}, {describe_rows(first_rows.tolist())}: "
+            f"value{'s' if len(unmapped) > 1 else ''} {shown} {'are' if len(unmapped) > 1 else 'is'} not a mapped outcome. "
+            "Add each under [outcome] in the settings file as good, bad or indeterminate (or use --bad/--good)."
+        )
+    lookup = np.array([mapping[k] for k in keys] + [UNKNOWN], dtype=np.int8)
+    return lookup[codes]  # the sentinel -1 picks the last entry: unknown
+
+
+def outcome_key(value: object) -> str:
+    """Return the text an outcome value is matched by: '1' for 1 and 1.0, 'bad' for ' bad '."""
+    return value_text(value).strip()
+
+
+def default_outcome_mapping(values: Sequence[str]) -> tuple[tuple[str, ...], tuple[str, ...]] | None:
+    """Return (bad, good) for a 0/1 outcome (1 = bad), else None."""
+    if set(values) <= {"0", "1"} and len(set(values)) == 2:
+        return ("1",), ("0",)
+    if set(values) <= {"true", "false"} and len(set(values)) == 2:
+        return ("true",), ("false",)
+    return None
+
+
+def unknown_outcome_note(outcome: np.ndarray, source: str, column: str) -> str:
+    """Say how many rows have no outcome (and which), or return ''."""
+    unknown = np.flatnonzero(outcome == UNKNOWN)
+    if not len(unknown):
+        return ""
+    n_unknown = len(unknown)
+    return (
+        f"{source}, column {column!r}, {describe_rows((unknown + 2).tolist())}: {n_rows_text(n_unknown)} "
+        f"{'has' if n_unknown == 1 else 'have'} no outcome; they are left out of fitting and the checks that need "
+        "outcomes, and kept for stability checks."
+    )
+
+
+def _outcome_mapping(settings: Settings, keys: Sequence[str]) -> dict[str, int]:
+    outcome = settings.outcome
+    bad, good = outcome.bad, outcome.good
+    if not bad and not good:
+        default = default_outcome_mapping(list(keys))
+        if default is not None:
+            bad, good = default
+    mapping = {value: BAD for value in bad}
+    mapping.update({value: GOOD for value in good})
+    mapping.update({value: INDETERMINATE for value in outcome.indeterminate})
+    return mapping
+
+
+def _check_both_classes(outcome: np.ndarray, source: str, column: str) -> None:
+    counts = np.bincount(outcome, minlength=4)
+    if counts[GOOD] == 0 or counts[BAD] == 0:
+        present = "good" if counts[GOOD] else "bad"
+        missing = "bad" if counts[GOOD] else "good"
+        raise LedgerError(
+            f"{source}, column {column!r}: every mapped outcome is {present}; there are no {missing}s. "
+            f"A scorecard needs both. Check the outcome mapping under [outcome] (which values mean {missing}?)."
+        )
+
+
+def unit_weights(n_rows: int) -> np.ndarray:
+    """Weight 1 for every row, as a read-only view of one number (no memory per row)."""
+    return np.broadcast_to(np.float64(1.0), (n_rows,))
+
+
+def _weights(frame: pd.DataFrame, column: str, source: str, *, first_row: int = 0) -> np.ndarray:
+    if not column:
+        return unit_weights(len(frame))
+    values = pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
+    problems = [
+        ("missing or not a number", np.isnan(values)),
+        ("not finite", np.isinf(values)),
+        ("negative", values < 0),
+    ]
+    for what, bad in problems:
+        if bad.any():
+            rows = describe_rows((np.flatnonzero(bad) + 2 + first_row).tolist())
+            shown = plain(frame[column].iloc[int(np.flatnonzero(bad)[0])])
+            raise LedgerError(
+                f"{source}, column {column!r}, {rows}: weight {shown!r} is {what} ({n_rows_text(int(bad.sum()))}). "
+                "Every weight must be a finite number of 0 or more; fix those rows or remove weight_column from the settings."
+            )
+    return values
+
+
+def _dates(frame: pd.DataFrame, column: str, source: str, *, first_row: int = 0) -> np.ndarray:
+    raw = frame[column]
+    parsed = pd.to_datetime(raw, errors="coerce", format="ISO8601") if not pd.api.types.is_datetime64_any_dtype(raw) else raw
+    bad = parsed.isna().to_numpy() & raw.notna().to_numpy()
+    if bad.any():
+        rows = describe_rows((np.flatnonzero(bad) + 2 + first_row).tolist())
+        raise LedgerError(
+            f"{source}, column {column!r}, {rows}: {plain(raw.iloc[int(np.flatnonzero(bad)[0])])!r} is not a date "
+            f"({n_rows_text(int(bad.sum()))}). Write dates as YYYY-MM-DD."
+        )
+    return parsed.to_numpy().astype("datetime64[D]")
+
+
+def plain(value: object) -> object:
+    """A numpy scalar as the plain Python value, so messages show 7 rather than np.int64(7)."""
+    return value.item() if isinstance(value, np.generic) else value
+
+
+def n_rows_text(count: int) -> str:
+    return "1 row" if count == 1 else f"{count} rows"

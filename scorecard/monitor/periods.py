@@ -1,0 +1,209 @@
+"""A saved scorecard on new data: does it still rank, still predict, and still see the population it was built on?
+
+A new ledger is scored with the saved model; its score histogram and its bins' counts are
+compared with the development baseline stored in the model file, with the same check functions
+as the build report (``scorecard.validation``), over the whole ledger and, when it has the
+model's date column, per calendar quarter. Every check gets a status (``scorecard.monitor.statuses``).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..checks import AucShortfall, PsiResult, auc_shortfall, score_psi
+from ..errors import LedgerError
+from ..modelfile import SavedModel
+from ..rows import InProcessRows, ScoreHistogram
+from ..settings import CheckSettings
+from ..terms import BAD, DEVELOPMENT_NAME, GOOD
+from ..validation import CharacteristicStability, SampleChecks, band_edges, characteristic_stability, sample_checks
+from .statuses import (
+    CalibrationTest, CheckStatus, calibration_family, calibration_status, characteristic_status, discrimination_status,
+    reference_auc, score_stability_status, worst,
+)
+
+
+@dataclass(frozen=True)
+class PeriodMonitor:
+    """Every check of one period (the whole ledger, or one calendar quarter)."""
+
+    period: str
+    rows: float
+    goods: float
+    bads: float
+    unknown: float
+    histogram: ScoreHistogram
+    score_stability: PsiResult
+    characteristics: tuple[CharacteristicStability, ...]
+    unseen: Mapping[str, Mapping[str, int]]
+    outcomes: SampleChecks | None
+    auc_fall: AucShortfall | None
+    calibration_tests: tuple[CalibrationTest, ...]
+    statuses: tuple[CheckStatus, ...]
+
+    @property
+    def status(self) -> str:
+        """The worst status of any check."""
+        return worst(s.status for s in self.statuses)
+
+    @property
+    def indeterminate(self) -> float:
+        """Weighted rows whose outcome is neither good nor bad (not counting those with none)."""
+        return self.rows - self.goods - self.bads - self.unknown
+
+
+@dataclass(frozen=True)
+class MonitorResult:
+    """A monitored ledger: the whole, each quarter, and the baseline it was compared with."""
+
+    source: str
+    overall: PeriodMonitor
+    quarters: tuple[PeriodMonitor, ...]
+    baseline: ScoreHistogram
+    baseline_performance: Mapping[str, float]
+    auc_reference: str  # the build's sample whose AUC the fall test compares with
+    edges: np.ndarray
+    checks: CheckSettings
+    notes: tuple[str, ...]
+
+    @property
+    def status(self) -> str:
+        """The overall status: the worst of the whole ledger's checks."""
+        return self.overall.status
+
+
+def monitor_ledger(saved: SavedModel, frame, outcome: np.ndarray, weight: np.ndarray, dates: np.ndarray | None, *,
+                   source: str = "ledger") -> MonitorResult:
+    """Score a new ledger with a saved model and check it against the development baseline.
+
+    Parameters
+    ----------
+    saved : SavedModel
+    frame : pandas.DataFrame
+        The new ledger; holds every characteristic of the model.
+    outcome : numpy.ndarray
+        Outcome code per row (``scorecard.terms``: good, bad, indeterminate, unknown).
+    weight : numpy.ndarray
+        Case weight per row.
+    dates : numpy.ndarray or None
+        datetime64[D] per row, when the ledger has the model's date column.
+    source : str
+        The ledger's name.
+
+    Returns
+    -------
+    MonitorResult
+
+    Raises
+    ------
+    LedgerError
+        A characteristic is missing, the ledger has no rows, or a calendar quarter between the
+        first and the last has no rows.
+    """
+    rows = InProcessRows.from_frame(frame, outcome, weight, np.zeros(len(outcome), dtype=np.int8))
+    return monitor_rows(saved, rows, dates, source=source)
+
+
+def monitor_rows(saved: SavedModel, rows: InProcessRows, dates: np.ndarray | None, *, source: str = "ledger") -> MonitorResult:
+    """As ``monitor_ledger``, for the rows of a ledger opened with ``scorecard.intake.open_ledger`` (in batches or not)."""
+    outcome = rows.outcome
+    if len(outcome) == 0:
+        raise LedgerError(f"{source}: the ledger has no rows. Give the quarter's applications.")
+    baseline = saved.baseline[DEVELOPMENT_NAME]
+    checks = saved.settings.checks
+    edges = band_edges(baseline, checks)
+    notes = []
+    if not ((outcome == GOOD) | (outcome == BAD)).any():
+        notes.append(f"{source}: no row has a known outcome, so only stability is checked (discrimination and calibration need outcomes).")
+    quarter, labels = _quarters(dates, source, notes) if dates is not None else (None, ())
+    parts, unseen = rows.period_counts(saved.scorecard, quarter, labels, source=source)
+    periods = [
+        check_period(label, part["histogram"], part["counts"], saved, edges,
+                     unseen=unseen if label == "all" else {}, unknown=part["unknown"])
+        for label, part in parts.items()
+    ]
+    performance = saved.performance.get(DEVELOPMENT_NAME, {})
+    reference, _ = reference_auc(saved.performance)
+    return MonitorResult(source, periods[0], tuple(periods[1:]), baseline, performance, reference, edges, checks, tuple(notes))
+
+
+def _quarters(dates: np.ndarray, source: str, notes: list[str]) -> tuple[np.ndarray, tuple[str, ...]]:
+    """Return each row's calendar quarter (-1: no date) counted from the first, and the quarters' labels.
+
+    Raises
+    ------
+    LedgerError
+        A quarter between the first and the last has no rows.
+    """
+    dated = ~np.isnat(dates)
+    if not dated.all():
+        notes.append(f"{source}: {int((~dated).sum()):,} rows have no date; they count in the whole-ledger checks only.")
+    quarter = np.full(len(dates), -1, dtype=np.int64)
+    if not dated.any():
+        return quarter, ()
+    absolute = dates[dated].astype("datetime64[M]").astype(np.int64) // 3
+    first, last = absolute.min(), absolute.max()
+    quarter[dated] = absolute - first
+    counts = np.bincount(quarter[dated], minlength=last - first + 1)
+    empty = [_quarter_label(first + i) for i in np.flatnonzero(counts == 0)]
+    if empty:
+        raise LedgerError(
+            f"{source}: quarter {', '.join(empty)} has no rows, between {_quarter_label(first)} and "
+            f"{_quarter_label(last)}. The ledger looks incomplete; add the missing applications or monitor the quarters apart."
+        )
+    return quarter, tuple(_quarter_label(first + i) for i in range(last - first + 1))
+
+
+def _quarter_label(index: int) -> str:
+    return f"{1970 + index // 4}Q{index % 4 + 1}"
+
+
+def check_period(label: str, histogram: ScoreHistogram, counts: Mapping[str, Sequence[float]], saved: SavedModel,
+                 edges: np.ndarray, *, unseen: Mapping[str, Mapping[str, int]], unknown: float = 0.0) -> PeriodMonitor:
+    """Return every check of one period against the development baseline, with statuses.
+
+    Parameters
+    ----------
+    label : str
+        The period ('all' or a quarter such as '2025Q3').
+    histogram : ScoreHistogram
+        The period's scores with goods and bads (rows of unknown outcome count in ``others``).
+    counts : mapping of characteristic to weighted rows per bin
+    saved : SavedModel
+        The model, its settings and its baseline.
+    edges : numpy.ndarray
+        Score band edges fixed on the development sample.
+    unseen : mapping
+        Per characteristic, levels never seen at build time with their row counts.
+    unknown : float
+        Weighted rows with no outcome recorded.
+    """
+    checks = saved.settings.checks
+    baseline = saved.baseline[DEVELOPMENT_NAME]
+    table = saved.scorecard.table
+    score_stability = score_psi(baseline.scores, baseline.everyone, histogram.scores, histogram.everyone,
+                                edges=edges, watch=checks.psi_watch, act=checks.psi_act)
+    characteristics = tuple(
+        characteristic_stability(char.name, label, saved.bin_counts[char.name][DEVELOPMENT_NAME]["everyone"],
+                                 counts[char.name], char.points, char.labels, missing_bin=binning.missing_bin, checks=checks)
+        for char, binning in zip(table.characteristics, saved.scorecard.binnings)
+    )
+    statuses = [score_stability_status(score_stability, checks)]
+    statuses += [characteristic_status(c, unseen.get(c.characteristic, {}), checks) for c in characteristics]
+    outcomes = fall = None
+    tests: tuple[CalibrationTest, ...] = ()
+    if histogram.goods.sum() > 0 and histogram.bads.sum() > 0:
+        outcomes = sample_checks(histogram, table.scaling, edges, in_sample=False, cutoff_step=checks.cutoff_step)
+        sample, reference = reference_auc(saved.performance)
+        if reference is not None and np.isfinite(outcomes.auc.std_error):
+            fall = auc_shortfall(outcomes.auc, reference=reference)
+            statuses.append(discrimination_status(fall, outcomes, checks, sample))
+        tests = calibration_family(outcomes)
+        statuses.append(calibration_status(tests, outcomes, checks))
+    return PeriodMonitor(
+        label, float(histogram.everyone.sum()), float(histogram.goods.sum()), float(histogram.bads.sum()), unknown,
+        histogram, score_stability, characteristics, unseen, outcomes, fall, tests, tuple(statuses),
+    )

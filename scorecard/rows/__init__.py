@@ -1,0 +1,23 @@
+"""Rows: the one room that touches the rows of a ledger after intake, and hands back count tables.
+
+- ``engine``: the row-source interface (the aggregates the stages ask for) and the one rule for
+  reading a ledger whole or in batches;
+- ``inprocess``: the in-process row source (numpy; a frame in memory or a file in batches);
+- ``tables``: the count tables every engine returns (bin counts, pattern tables, score histograms);
+- ``coding``: values to bins and bins to scores, the row work the in-process engine and scoring share.
+"""
+
+from .coding import UNSEEN_LABEL, code_rows, factorize_levels, score_codes, tally_unseen, unseen_levels
+from .engine import BATCH_READABLE, Batches, RowSource, reads_in_batches
+from .inprocess import InProcessRows, KeptCodes
+from .tables import (
+    MERGE_LIMIT, BinCounts, PatternTable, ScoreHistogram, count_bins, merge_histograms, merge_pattern_tables,
+    pattern_keys, pattern_table, row_table, score_histogram,
+)
+
+__all__ = [
+    "BATCH_READABLE", "MERGE_LIMIT", "UNSEEN_LABEL", "Batches", "BinCounts", "InProcessRows", "KeptCodes",
+    "PatternTable", "RowSource", "ScoreHistogram", "code_rows", "count_bins", "factorize_levels", "merge_histograms",
+    "merge_pattern_tables", "pattern_keys", "pattern_table", "reads_in_batches", "row_table", "score_codes",
+    "score_histogram", "tally_unseen", "unseen_levels",
+]

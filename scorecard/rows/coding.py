@@ -1,0 +1,112 @@
+"""Coding rows: each value to its bin, each row's bins to its score (vectorised; no loop over rows).
+
+The two pieces of row work every engine shares with the stages: ``code_rows`` puts every value
+of a characteristic in its bin of a ``scorecard.classing.Binning``, and ``score_codes`` adds up
+the points of each row's bins. Levels a binning never saw (``unseen_levels``) are counted as they
+are met, batch by batch (``tally_unseen``).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import TYPE_CHECKING
+
+import numpy as np
+import pandas as pd
+
+from ..terms import CATEGORICAL, NUMERIC, value_text
+
+if TYPE_CHECKING:  # the binning and the points table are data handed in; rows import no stage
+    from ..classing import Binning
+    from ..points import PointsTable
+
+# the label of the bin a counting pass adds after a binning's own, for values the binning does not know
+UNSEEN_LABEL = "(not in any group)"
+
+
+def code_rows(values: pd.Series | np.ndarray, binning: Binning, *, unseen_code: int | None = None) -> np.ndarray:
+    """Return the bin of every row as small unsigned integers.
+
+    Parameters
+    ----------
+    values : pandas.Series or numpy.ndarray
+        The characteristic's column.
+    binning : Binning
+    unseen_code : int, optional
+        Code given to values the binning has never seen (default: ``binning.fallback_bin``).
+
+    Returns
+    -------
+    numpy.ndarray
+        uint8 codes (uint16 when there are more than 255 bins).
+
+    Notes
+    -----
+    Numeric: ``searchsorted(cuts, x, side='right')`` puts x in ``[cuts[i-1], cuts[i])``, the same
+    intervals as ``pandas.cut(x, [-inf, *cuts, inf], right=False)``.
+    """
+    unseen = binning.fallback_bin if unseen_code is None else unseen_code
+    dtype = np.uint8 if max(binning.n_bins, unseen + 1) <= 255 else np.uint16
+    missing = unseen if binning.missing_bin < 0 else binning.missing_bin
+    if binning.kind == NUMERIC:
+        x = as_float(values)
+        codes = np.searchsorted(np.asarray(binning.cuts, dtype=float), x, side="right").astype(dtype)
+        for value, target in zip(binning.special_values, binning.special_bins):
+            codes[x == value] = unseen if target < 0 else target
+        codes[np.isnan(x)] = missing
+        return codes
+    level_codes, uniques = factorize_levels(values)
+    known = {level: bin_ for bin_, group in enumerate(binning.groups) for level in group}
+    lookup = np.array([known.get(level, unseen) for level in uniques] + [missing], dtype=dtype)
+    return lookup[level_codes]  # the missing sentinel -1 picks the last entry
+
+
+def unseen_levels(values: pd.Series | np.ndarray, binning: Binning) -> dict[str, int]:
+    """Return the levels of a categorical column that the binning does not know, with row counts."""
+    if binning.kind != CATEGORICAL:
+        return {}
+    level_codes, uniques = factorize_levels(values)
+    known = set(binning.levels)
+    counts = np.bincount(level_codes[level_codes >= 0], minlength=len(uniques))
+    return {level: int(n) for level, n in zip(uniques, counts) if level not in known and n > 0}
+
+
+def tally_unseen(tally: dict[str, dict[str, int]], found: Mapping[str, Mapping[str, int]]) -> None:
+    """Add levels never seen at build time (per characteristic, with row counts) into a running tally."""
+    for name, levels in found.items():
+        for level, n in levels.items():
+            counts = tally.setdefault(name, {})
+            counts[level] = counts.get(level, 0) + n
+
+
+def factorize_levels(values: pd.Series | np.ndarray) -> tuple[np.ndarray, list[str]]:
+    """Return (codes, levels as text): -1 marks a missing value; 1 and 1.0 are both the level '1'."""
+    codes, uniques = pd.factorize(pd.Series(values) if not isinstance(values, pd.Series) else values, use_na_sentinel=True)
+    return codes, [value_text(u) for u in uniques]
+
+
+def as_float(values: pd.Series | np.ndarray) -> np.ndarray:
+    if isinstance(values, pd.Series):
+        return values.to_numpy(dtype=float, na_value=np.nan)
+    return np.asarray(values, dtype=float)
+
+
+def score_codes(codes: np.ndarray, table: PointsTable) -> np.ndarray:
+    """Return every row's score: the sum of the points of its bins.
+
+    Parameters
+    ----------
+    codes : numpy.ndarray
+        Rows × characteristics bin codes, columns in the table's order.
+    table : PointsTable
+
+    Returns
+    -------
+    numpy.ndarray
+        int64 scores when points are whole, else float64.
+    """
+    dtype = np.int64 if table.decimals == 0 else np.float64
+    scores = np.zeros(codes.shape[0], dtype=dtype)
+    for column, char in enumerate(table.characteristics):
+        scores += np.take(char.points.astype(dtype), codes[:, column])
+    return scores

@@ -1,0 +1,216 @@
+"""The in-process row source: rows in a frame in memory, or in a file read in batches, counted with numpy.
+
+Every method makes one pass over the rows (or over the codes kept from an earlier pass) and
+returns count tables; the arithmetic is the same whether the rows are in memory or read batch by
+batch, so a streamed build gives the same model file, byte for byte, as one held in memory.
+"""
+
+from __future__ import annotations
+
+import concurrent.futures
+from collections.abc import Callable, Iterable, Mapping, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..terms import BAD, DEVELOPMENT, GOOD, SAMPLE_NAMES, UNKNOWN
+from .coding import UNSEEN_LABEL, code_rows, score_codes, tally_unseen, unseen_levels
+from .engine import Batches
+from .tables import (
+    MERGE_LIMIT, BinCounts, PatternTable, ScoreHistogram, count_bins, merge_histograms, merge_pattern_tables,
+    pattern_table, row_table, score_histogram,
+)
+
+THREADS = 2  # the machines this is built for have two cores or more; more threads gain little here
+
+
+@dataclass(frozen=True)
+class KeptCodes:
+    """The final bin codes of every row, kept from the classing pass of a ledger held in memory."""
+
+    names: tuple[str, ...]
+    codes: np.ndarray  # rows × characteristics
+
+
+@dataclass(frozen=True, eq=False)
+class InProcessRows:
+    """The rows of one ledger in this process.
+
+    Attributes
+    ----------
+    outcome, weight, sample : numpy.ndarray
+        Per row of the whole ledger (as in ``scorecard.intake.Ledger``).
+    batches : callable
+        ``batches(columns)``: one pass over the ledger reading those columns, as (first row, frame).
+    frame : pandas.DataFrame or None
+        The characteristic columns when the ledger is held in memory; None when it is read in batches.
+    """
+
+    outcome: np.ndarray
+    weight: np.ndarray
+    sample: np.ndarray
+    batches: Batches
+    frame: pd.DataFrame | None = None
+
+    @classmethod
+    def from_frame(cls, frame: pd.DataFrame, outcome: np.ndarray, weight: np.ndarray, sample: np.ndarray) -> InProcessRows:
+        """Rows held in memory: every pass sees the whole frame at once."""
+        return cls(outcome, weight, sample, lambda columns: iter([(0, frame)]), frame)
+
+    @property
+    def in_memory(self) -> bool:
+        """Whether the rows are held in memory (codes can then be kept between passes)."""
+        return self.frame is not None
+
+    @property
+    def fitting(self) -> np.ndarray:
+        """Mask of the development rows with a good or bad outcome: the rows every fit and classing is made on."""
+        return (self.sample == DEVELOPMENT) & ((self.outcome == GOOD) | (self.outcome == BAD))
+
+    def fitting_rows(self) -> np.ndarray:
+        """Row numbers of the development rows with a good or bad outcome."""
+        return np.flatnonzero(self.fitting)
+
+    # ----------------------------------------------------------------------------------------
+    # Classing
+
+    def gather(self, rows: np.ndarray, columns: Sequence[str], *, empty: pd.DataFrame) -> tuple[pd.DataFrame, np.ndarray]:
+        """Return the values of some rows (ascending row numbers) in the named columns, and their weights.
+
+        ``empty`` is the frame returned when no column is asked for of a ledger read in batches.
+        """
+        if self.frame is not None:
+            return self.frame.iloc[rows], self.weight[rows]
+        if not columns:
+            return empty, self.weight[:0]
+        parts = []
+        for first_row, frame in self.batches(list(columns)):
+            inside = rows[(rows >= first_row) & (rows < first_row + len(frame))]
+            parts.append(frame.iloc[inside - first_row])
+        return pd.concat(parts, ignore_index=True), self.weight[rows]
+
+    def count_bins(self, binnings: Mapping[str, object], *, keep_codes: bool,
+                   progress: Callable[[Iterable], Iterable] = lambda items: items):
+        """One pass: code every row of each characteristic and count its bins, plus a bin for unseen values.
+
+        Returns
+        -------
+        (dict of BinCounts, dict of codes, dict of unseen levels)
+            Counts per characteristic, with one bin more than its binning (``UNSEEN_LABEL``) for
+            values the binning does not know; every row's codes when ``keep_codes``; and per
+            characteristic the levels that fell in that bin on development rows, with row counts.
+
+        Notes
+        -----
+        Characteristics are coded on two threads: numpy and pyarrow release the interpreter lock
+        while they search and count, so both cores work.
+        """
+        outcome, weight, sample, fitting = self.outcome, self.weight, self.sample, self.fitting
+        counts: dict[str, BinCounts] = {}
+        codes: dict[str, list[np.ndarray]] = {name: [] for name in binnings}
+        unseen: dict[str, dict[str, int]] = {}
+        names = list(binnings)
+        with concurrent.futures.ThreadPoolExecutor(max_workers=THREADS) as pool:
+            for start, frame in self.batches(names):
+                rows = slice(start, start + len(frame))
+
+                def code_and_count(name):
+                    binning = binnings[name]
+                    column = code_rows(frame[name], binning, unseen_code=binning.n_bins)
+                    batch = count_bins(column, outcome[rows], weight[rows], sample[rows], characteristic=name,
+                                       labels=(*binning.labels, UNSEEN_LABEL))
+                    unseen_in_development = batch.n_goods()[-1] + batch.n_bads()[-1] > 0
+                    levels = unseen_levels(frame[name][fitting[rows]], binning) if unseen_in_development else {}
+                    return name, column, batch, levels
+
+                for name, column, batch, levels in progress(pool.map(code_and_count, names)):
+                    counts[name] = counts[name] + batch if name in counts else batch
+                    if keep_codes:
+                        codes[name].append(column)
+                    tally_unseen(unseen, {name: levels})
+        joined = {name: np.concatenate(parts) if len(parts) != 1 else parts[0] for name, parts in codes.items() if parts}
+        return counts, joined, unseen
+
+    # ----------------------------------------------------------------------------------------
+    # Selection and the fit
+
+    def pattern_table(self, rows: np.ndarray, binnings: Sequence, *, kept: KeptCodes | None = None) -> PatternTable:
+        """The pattern table of some rows (ascending row numbers) over the given characteristics.
+
+        Above ``MERGE_LIMIT`` rows the table stays rows: merging would only cost memory.
+        """
+        columns = tuple(b.characteristic for b in binnings)
+        if len(rows) > MERGE_LIMIT:
+            return self._row_table(rows, binnings, kept)
+        parts = []
+        for first_row, codes in self.coded_batches(binnings, kept):
+            inside = rows[(rows >= first_row) & (rows < first_row + len(codes))]
+            outcome, weight = self.outcome[inside], self.weight[inside]
+            parts.append(pattern_table(codes[inside - first_row], np.where(outcome == GOOD, weight, 0.0),
+                                       np.where(outcome == BAD, weight, 0.0), characteristics=columns))
+        return merge_pattern_tables(parts)
+
+    def _row_table(self, rows: np.ndarray, binnings: Sequence, kept: KeptCodes | None) -> PatternTable:
+        """The rows' codes, goods and bads, filled in batch by batch into arrays made once."""
+        outcome, weight = self.outcome[rows], self.weight[rows]
+        codes = np.empty((len(rows), len(binnings)), dtype=np.uint16 if any(b.n_bins > 255 for b in binnings) else np.uint8)
+        filled = 0
+        for first_row, batch in self.coded_batches(binnings, kept):
+            inside = rows[filled:np.searchsorted(rows, first_row + len(batch))]  # rows are ascending
+            codes[filled:filled + len(inside)] = batch[inside - first_row]
+            filled += len(inside)
+        return row_table(codes, np.where(outcome == GOOD, weight, 0.0), np.where(outcome == BAD, weight, 0.0),
+                         characteristics=[b.characteristic for b in binnings])
+
+    def coded_batches(self, binnings: Sequence, kept: KeptCodes | None = None):
+        """Yield (first row, codes) of the given characteristics: the kept codes, or coded again batch by batch."""
+        if kept is not None and kept.codes.shape[0]:
+            yield 0, kept.codes[:, [kept.names.index(b.characteristic) for b in binnings]]
+            return
+        for first_row, frame in self.batches([b.characteristic for b in binnings]):
+            yield first_row, np.column_stack([code_rows(frame[b.characteristic], b) for b in binnings])
+
+    # ----------------------------------------------------------------------------------------
+    # Scores
+
+    def score_histograms(self, binnings: Sequence, table, *, kept: KeptCodes | None = None) -> dict[str, ScoreHistogram]:
+        """Score histogram per sample, from every row's score (points ``table``, characteristics in its order)."""
+        parts: dict[str, list[ScoreHistogram]] = {}
+        for first_row, codes in self.coded_batches(binnings, kept):
+            scores = score_codes(codes, table)
+            rows = slice(first_row, first_row + len(scores))
+            outcome, weight, sample = self.outcome[rows], self.weight[rows], self.sample[rows]
+            for index, name in enumerate(SAMPLE_NAMES):
+                inside = sample == index
+                if inside.any():
+                    parts.setdefault(name, []).append(score_histogram(
+                        scores[inside], outcome[inside] == GOOD, outcome[inside] == BAD, weight[inside], sample=name))
+        return {name: merge_histograms(pieces) for name, pieces in parts.items()}
+
+    def period_counts(self, scorecard, quarter: np.ndarray | None, labels: Sequence[str], *, source: str):
+        """One pass over a new ledger: per period ('all' and each quarter), the score histogram, every model
+        characteristic's weighted rows per bin, and the weight of rows with no outcome; and the unseen levels."""
+        table = scorecard.table
+        outcome, weight = self.outcome, self.weight
+        parts = {label: {"histograms": [], "counts": {c.name: np.zeros(len(c.points)) for c in table.characteristics},
+                         "unknown": 0.0} for label in ("all", *labels)}
+        unseen: dict[str, dict[str, int]] = {}
+        for first_row, frame in self.batches([b.characteristic for b in scorecard.binnings]):
+            codes = scorecard.codes(frame, source=source)
+            scores = score_codes(codes, table)
+            rows = slice(first_row, first_row + len(frame))
+            tally_unseen(unseen, scorecard.unseen(frame))
+            periods = [("all", np.ones(len(frame), bool))]
+            if quarter is not None:
+                periods += [(label, quarter[rows] == index) for index, label in enumerate(labels)]
+            for label, inside in periods:
+                o, w = outcome[rows][inside], weight[rows][inside]
+                part = parts[label]
+                part["histograms"].append(score_histogram(scores[inside], o == GOOD, o == BAD, w, sample=label))
+                for j, char in enumerate(table.characteristics):
+                    part["counts"][char.name] += np.bincount(codes[inside, j], weights=w, minlength=len(char.points))
+                part["unknown"] += float(w[o == UNKNOWN].sum())
+        merged = {label: {"histogram": merge_histograms(part["histograms"]), "counts": part["counts"],
+                          "unknown": part["unknown"]} for label, part in parts.items()}
+        return merged, unseen

@@ -1,0 +1,120 @@
+"""Scoring: a scorecard scores a frame by look-up and sum, and names the reasons that cost each row the most.
+
+Scoring is a look-up and a sum: one ``take`` per characteristic (``scorecard.rows.score_codes``),
+no loop over rows.
+"""
+
+from __future__ import annotations
+
+import concurrent.futures
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from .classing import Binning
+from .errors import LedgerError
+from .points import PointsTable
+from .rows import code_rows, score_codes, unseen_levels
+from .rows.inprocess import THREADS
+
+
+def reasons(codes: np.ndarray, table: PointsTable, *, count: int = 4) -> np.ndarray:
+    """Return, per row, the positions of the characteristics that cost it the most points.
+
+    A characteristic's cost is the points of its best bin minus the points the row got. The
+    ``count`` costliest are the row's reasons, largest first (ties in table order); a
+    characteristic that cost nothing is not a reason (-1).
+
+    Returns
+    -------
+    numpy.ndarray
+        Rows × count positions into ``table.characteristics``; -1 where there is no reason.
+    """
+    n_rows, k = codes.shape
+    count = min(count, k)
+    if count == 0:
+        return np.zeros((n_rows, 0), dtype=np.int64)
+    # points lost in whole units of the table's last decimal, so that one integer key per cell
+    # sorts by loss (largest first) and, within a loss, by position: ties stay in table order
+    unit = 10.0**table.decimals
+    key = np.empty((n_rows, k), dtype=np.int64)
+    for column, char in enumerate(table.characteristics):
+        lost = np.rint((char.best - char.points) * unit).astype(np.int64)
+        key[:, column] = -lost[codes[:, column]] * k + column
+    top = np.argpartition(key, count - 1, axis=1)[:, :count] if count < k else np.arange(k)[None, :].repeat(n_rows, 0)
+    order = np.take_along_axis(top, np.argsort(np.take_along_axis(key, top, axis=1), axis=1), axis=1)
+    lost_most = -(np.take_along_axis(key, order, axis=1) - order) // k
+    return np.where(lost_most > 0, order, -1)
+
+
+@dataclass(frozen=True)
+class Scorecard:
+    """A fitted, scaled scorecard: the binnings of its characteristics and their points.
+
+    ``scorecard.score(frame)`` codes each row's characteristics to bins, looks up the points,
+    sums them, and returns score, probability of default and reasons.
+    """
+
+    table: PointsTable
+    binnings: tuple[Binning, ...]  # aligned with table.characteristics
+    id_column: str = ""
+
+    def codes(self, frame: pd.DataFrame, *, source: str = "ledger") -> np.ndarray:
+        """Return the bin codes of the model's characteristics for every row.
+
+        Raises
+        ------
+        LedgerError
+            A characteristic of the model is not a column of ``frame``.
+        """
+        missing = [b.characteristic for b in self.binnings if b.characteristic not in frame.columns]
+        if missing:
+            raise LedgerError(
+                f"{source}: column{'s' if len(missing) > 1 else ''} {', '.join(map(repr, missing))} "
+                f"of the scorecard {'are' if len(missing) > 1 else 'is'} not in the ledger. "
+                "Every characteristic in the model is needed to score; add the column(s) with the same names."
+            )
+        codes = np.empty((len(frame), len(self.binnings)), dtype=np.uint16, order="F")
+        if len(self.binnings):
+            # one column per characteristic, stored column after column; coded on two threads, since
+            # numpy and pyarrow release the interpreter lock while they search
+            with concurrent.futures.ThreadPoolExecutor(max_workers=THREADS) as pool:
+                for column, coded in enumerate(pool.map(lambda b: code_rows(frame[b.characteristic], b), self.binnings)):
+                    codes[:, column] = coded
+        return codes
+
+    def unseen(self, frame: pd.DataFrame) -> dict[str, dict[str, int]]:
+        """Return, per categorical characteristic, the levels the scorecard never saw, with row counts."""
+        found = {b.characteristic: unseen_levels(frame[b.characteristic], b) for b in self.binnings}
+        return {name: levels for name, levels in found.items() if levels}
+
+    def score(self, frame: pd.DataFrame, *, reason_count: int = 0, source: str = "DataFrame") -> pd.DataFrame:
+        """Score every row of ``frame``.
+
+        Parameters
+        ----------
+        frame : pandas.DataFrame
+            Holds at least the model's characteristics (same column names as at build time).
+        reason_count : int
+            Reasons per row (0: none).
+        source : str
+            Name of the data, for messages.
+
+        Returns
+        -------
+        pandas.DataFrame
+            ``score`` and ``pd`` per row, then ``reason_1`` … with codes and ``reason_1_text`` …
+            with their text, aligned with ``frame``'s index.
+        """
+        codes = self.codes(frame, source=source)
+        scores = score_codes(codes, self.table)
+        result = pd.DataFrame({"score": scores, "pd": self.table.scaling.pd_of_score(scores)}, index=frame.index)
+        if reason_count:
+            positions = reasons(codes, self.table, count=reason_count)
+            codes_text = np.array([c.reason_code for c in self.table.characteristics] + [""], dtype=object)
+            labels_text = np.array([c.reason_label for c in self.table.characteristics] + [""], dtype=object)
+            for rank in range(positions.shape[1]):
+                result[f"reason_{rank + 1}"] = codes_text[positions[:, rank]]  # -1 picks the blank
+                result[f"reason_{rank + 1}_text"] = labels_text[positions[:, rank]]
+        return result

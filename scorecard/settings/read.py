@@ -1,0 +1,214 @@
+"""Reading and validating a settings file: every key is checked once, where it enters.
+
+An unknown key, a wrong type or an impossible value is a ``SettingsError`` that names the key
+and says what it must be.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import difflib
+import math
+import os
+import tomllib
+from collections.abc import Mapping
+from pathlib import Path
+from typing import Any
+
+from ..errors import SettingsError
+from .schema import SECTIONS, CharacteristicSettings, Settings
+
+
+def read_settings(path: str | os.PathLike[str]) -> Settings:
+    """Read and validate a settings file.
+
+    Parameters
+    ----------
+    path : path-like
+        The TOML settings file.
+
+    Returns
+    -------
+    Settings
+        The validated settings; ``folder`` is the file's folder.
+
+    Raises
+    ------
+    SettingsError
+        The file is missing or not valid TOML, or a key is unknown, of the wrong type or impossible.
+    """
+    path = Path(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise SettingsError(f"{path}: settings file not found. Create one with 'scorewright init LEDGER --target COLUMN'.") from None
+    except (OSError, UnicodeDecodeError) as error:
+        raise SettingsError(f"{path}: cannot read the settings file ({error}).") from None
+    try:
+        document = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as error:
+        raise SettingsError(f"{path}: not a valid TOML settings file: {error}. Fix that line and run again.") from None
+    return settings_from_mapping(document, source=str(path), folder=str(path.parent))
+
+
+def settings_from_mapping(document: Mapping[str, Any], *, source: str = "settings", folder: str = "") -> Settings:
+    """Validate a nested mapping (as read from TOML) and return ``Settings``.
+
+    Raises
+    ------
+    SettingsError
+        A key is unknown, of the wrong type or impossible; the message names it.
+    """
+    allowed = [*SECTIONS, "characteristics"]
+    sections: dict[str, Any] = {}
+    for name, table in document.items():
+        if name not in allowed:
+            raise SettingsError(_unknown(source, name, allowed, where="section"))
+        if not isinstance(table, Mapping):
+            raise SettingsError(f"{source}: [{name}] must be a table of keys, not {_type_name(table)}.")
+        if name == "characteristics":
+            sections[name] = {
+                str(char): _section(CharacteristicSettings, spec, source, f"characteristics.{char}")
+                for char, spec in table.items()
+            }
+        else:
+            sections[name] = _section(SECTIONS[name], table, source, name)
+    settings = Settings(**sections, folder=folder)
+    _check_consistency(settings, source)
+    return settings
+
+
+def _section(cls: type, table: Any, source: str, where: str) -> Any:
+    """Validate one table against a settings dataclass."""
+    if not isinstance(table, Mapping):
+        raise SettingsError(f"{source}: [{where}] must be a table of keys, not {_type_name(table)}.")
+    fields = {f.name: f for f in dataclasses.fields(cls)}
+    values = {}
+    for key, value in table.items():
+        if key not in fields:
+            raise SettingsError(_unknown(source, key, list(fields), where=f"key in [{where}]"))
+        values[key] = _coerce(fields[key], value, source, f"{where}.{key}")
+    return cls(**values)
+
+
+def _coerce(spec: dataclasses.Field, value: Any, source: str, where: str) -> Any:
+    """Check a value's type against its field and turn lists into tuples."""
+    wanted = spec.type if isinstance(spec.type, str) else str(spec.type)
+    converted = _convert(wanted, value)
+    if converted is _WRONG:
+        raise SettingsError(
+            f"{source}: {where} = {value!r} has the wrong type: expected {_describe_type(wanted)}. Correct it in the settings file."
+        )
+    check, need = spec.metadata.get("check"), spec.metadata.get("need")
+    if check is not None and not check(converted):
+        raise SettingsError(f"{source}: {where} = {value!r} is not possible: it must be {need}. Correct it in the settings file.")
+    return converted
+
+
+_WRONG = object()
+
+
+def _convert(wanted: str, value: Any) -> Any:
+    """Convert a TOML value to the field's type, or return _WRONG."""
+    number = isinstance(value, (int, float)) and not isinstance(value, bool)
+    if wanted == "str":
+        return value if isinstance(value, str) else _WRONG
+    if wanted == "int":
+        return value if isinstance(value, int) and not isinstance(value, bool) else _WRONG
+    if wanted == "float":
+        return float(value) if number and math.isfinite(value) else _WRONG
+    if wanted == "bool":
+        return value if isinstance(value, bool) else _WRONG
+    if wanted == "str | int":
+        return value if isinstance(value, str) or (isinstance(value, int) and not isinstance(value, bool)) else _WRONG
+    if not isinstance(value, list):
+        return _WRONG
+    if wanted == "tuple[str, ...]":
+        return tuple(str(v) for v in value) if all(isinstance(v, (str, int)) and not isinstance(v, bool) for v in value) else _WRONG
+    if wanted in ("tuple[float, ...]", "tuple[float, ...] | None"):
+        ok = all(isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v) for v in value)
+        return tuple(float(v) for v in value) if ok else _WRONG
+    if wanted == "tuple[tuple[str, ...], ...] | None":
+        ok = all(isinstance(g, list) and all(isinstance(v, (str, int)) and not isinstance(v, bool) for v in g) for g in value)
+        return tuple(tuple(str(v) for v in g) for g in value) if ok else _WRONG
+    if wanted == "tuple[str | int, ...]":
+        ok = all(isinstance(v, str) or (isinstance(v, int) and not isinstance(v, bool)) for v in value)
+        return tuple(value) if ok else _WRONG
+    raise TypeError(f"no converter for {wanted}")  # our own invariant: every field type is handled
+
+
+def _describe_type(wanted: str) -> str:
+    return {
+        "str": "text in quotes",
+        "int": "a whole number",
+        "float": "a number",
+        "bool": "true or false",
+        "str | int": "'own' or a group number",
+        "tuple[str, ...]": "a list of values, e.g. [\"a\", \"b\"]",
+        "tuple[float, ...]": "a list of numbers, e.g. [-1, 999]",
+        "tuple[float, ...] | None": "a list of numbers, e.g. [12, 36, 60]",
+        "tuple[tuple[str, ...], ...] | None": "a list of lists of levels, e.g. [[\"own\"], [\"rent\", \"other\"]]",
+        "tuple[str | int, ...]": "a list of 'own' or group numbers",
+    }[wanted]
+
+
+def _check_consistency(settings: Settings, source: str) -> None:
+    """Checks that involve more than one key."""
+    checks = settings.checks
+    if checks.psi_act <= checks.psi_watch:
+        raise SettingsError(f"{source}: checks.psi_act ({checks.psi_act}) must be larger than checks.psi_watch ({checks.psi_watch}).")
+    if checks.p_act >= checks.p_watch:
+        raise SettingsError(f"{source}: checks.p_act ({checks.p_act}) must be smaller than checks.p_watch ({checks.p_watch}).")
+    if list(checks.grades) != sorted(set(checks.grades)):
+        raise SettingsError(f"{source}: checks.grades must be strictly ascending score boundaries.")
+    roles = {"outcome.column": settings.outcome.column, "ledger.id_column": settings.ledger.id_column,
+             "ledger.date_column": settings.ledger.date_column, "ledger.weight_column": settings.ledger.weight_column}
+    taken: dict[str, str] = {}
+    for key, column in roles.items():
+        if column and column in taken:
+            raise SettingsError(f"{source}: {key} and {taken[column]} both name column {column!r}; each role needs its own column.")
+        taken[column] = key
+    if settings.selection.p_enter > settings.selection.p_remove:
+        raise SettingsError(
+            f"{source}: selection.p_enter ({settings.selection.p_enter}) is above selection.p_remove "
+            f"({settings.selection.p_remove}): a characteristic could enter and be removed again for ever. "
+            "Keep p_enter at or below p_remove."
+        )
+    outcome = settings.outcome
+    seen: dict[str, str] = {}
+    for role in ("bad", "good", "indeterminate"):
+        for value in getattr(outcome, role):
+            if value in seen:
+                raise SettingsError(f"{source}: outcome value {value!r} is listed both as {seen[value]} and as {role}. Keep it in one list.")
+            seen[value] = role
+    for name, char in settings.characteristics.items():
+        where = f"characteristics.{name}"
+        if char.cuts is not None:
+            if list(char.cuts) != sorted(set(char.cuts)):
+                raise SettingsError(f"{source}: {where}.cuts must be strictly ascending numbers, got {list(char.cuts)}.")
+        if char.groups is not None:
+            if len(char.groups) < 2:
+                raise SettingsError(f"{source}: {where}.groups needs at least 2 groups, got {len(char.groups)}.")
+            levels = [level for group in char.groups for level in group]
+            repeated = sorted({level for level in levels if levels.count(level) > 1})
+            if repeated:
+                raise SettingsError(f"{source}: {where}.groups lists level {repeated[0]!r} in more than one group. Keep it in one.")
+        if char.cuts is not None and char.groups is not None:
+            raise SettingsError(f"{source}: {where} has both cuts and groups; a numeric characteristic takes cuts, a categorical one groups.")
+        for key, value in [("missing", char.missing), ("unseen", char.unseen), *(("specials", v) for v in char.specials)]:
+            if isinstance(value, str) and value not in ("own", "worst"):
+                raise SettingsError(f"{source}: {where}.{key} = {value!r} is not possible: use 'own' or a group number (1 = first).")
+            if isinstance(value, int) and value < 1:
+                raise SettingsError(f"{source}: {where}.{key} = {value} is not possible: group numbers start at 1.")
+        if char.specials and len(char.specials) != len(char.special_values):
+            raise SettingsError(f"{source}: {where}.specials has {len(char.specials)} entries but special_values has {len(char.special_values)}; give one per special value.")
+
+
+def _unknown(source: str, key: str, allowed: list[str], *, where: str) -> str:
+    close = difflib.get_close_matches(key, allowed, n=1)
+    hint = f" Did you mean {close[0]!r}?" if close else f" Known: {', '.join(allowed)}."
+    return f"{source}: unknown {where} {key!r}.{hint}"
+
+
+def _type_name(value: Any) -> str:
+    return type(value).__name__

@@ -1,0 +1,277 @@
+"""The settings schema: every key of the settings file, its default, its meaning and its check.
+
+Every key is a field of one of the frozen dataclasses below, with its default and a one-line
+meaning in the field's metadata; the README's settings table is generated from the same metadata
+(``settings_reference``), so the two cannot disagree. Defaults that are shared words of the trade
+come from ``scorecard.terms``.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import datetime
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from ..terms import ACT_P, ACT_PSI, LEAKAGE_IV, WATCH_P, WATCH_PSI
+from .text import toml_value
+
+
+def _key(default: Any, meaning: str, check: Callable[[Any], bool] | None = None, need: str = "") -> Any:
+    """A settings key: its default, its meaning, and an optional check with what it needs."""
+    metadata = {"meaning": meaning, "check": check, "need": need}
+    if isinstance(default, (list, dict)):
+        raise TypeError("use tuples for sequence defaults")  # our own invariant: frozen values only
+    return field(default=default, metadata=metadata)
+
+
+def _share(value: float) -> bool:
+    return 0.0 <= value <= 1.0
+
+
+def _one_of(*words: str) -> Callable[[Any], bool]:
+    return lambda value: value in words
+
+
+def _is_iso_date(text: str) -> bool:
+    # only YYYY-MM-DD: fromisoformat also takes '20250701' and week dates, which numpy reads otherwise
+    if len(text) != 10 or text[4] != "-" or text[7] != "-":
+        return False
+    try:
+        datetime.date.fromisoformat(text)
+    except (TypeError, ValueError):
+        return False
+    return True
+
+
+@dataclass(frozen=True)
+class LedgerSettings:
+    """Where the ledger is and which of its columns play special roles."""
+
+    path: str = _key("", "ledger file (CSV, Parquet or .xlsx), relative to the settings file")
+    id_column: str = _key("", "column identifying an application; never a characteristic, never in a report")
+    date_column: str = _key("", "application date; used for the out-of-time sample and quarterly monitoring")
+    weight_column: str = _key("", "case weight of each row (blank: every row weighs 1)")
+    leave_out: tuple[str, ...] = _key((), "columns that are not characteristics (e.g. recorded after the decision)")
+    stream_above_mb: float = _key(
+        2048.0, "ledger files larger than this many MB are read in batches, never whole",
+        lambda v: v > 0, "a positive size in MB",
+    )
+    batch_rows: int = _key(500_000, "rows per batch when a ledger is read in batches", lambda v: v >= 100, "at least 100")
+
+
+@dataclass(frozen=True)
+class OutcomeSettings:
+    """The outcome column and what its values mean."""
+
+    column: str = _key("", "the outcome column (required)")
+    bad: tuple[str, ...] = _key((), "values meaning bad (with a 0/1 column and nothing set: 1)")
+    good: tuple[str, ...] = _key((), "values meaning good (with a 0/1 column and nothing set: 0)")
+    indeterminate: tuple[str, ...] = _key((), "values meaning neither; kept for scoring, left out of fitting")
+
+
+@dataclass(frozen=True)
+class SampleSettings:
+    """How the ledger is split into development, hold-out and out-of-time samples."""
+
+    holdout_fraction: float = _key(
+        0.3, "share of the in-time rows kept back as the hold-out sample (stratified by outcome)",
+        lambda v: 0.0 <= v < 1.0, "a share from 0 up to (not including) 1",
+    )
+    seed: int = _key(20260101, "seed of the random hold-out split", lambda v: v >= 0, "a whole number >= 0")
+    out_of_time_from: str = _key(
+        "", "rows dated on or after this ISO date form the out-of-time sample (blank: none)",
+        lambda v: v == "" or _is_iso_date(v), "an ISO date such as 2025-07-01, or blank",
+    )
+
+
+@dataclass(frozen=True)
+class ClassingSettings:
+    """Defaults of fine and coarse classing, for characteristics that do not fix their own."""
+
+    max_fine_bins: int = _key(20, "most candidate bins of a numeric characteristic", lambda v: 2 <= v <= 250, "2 to 250")
+    fine_sample_rows: int = _key(
+        500_000, "cut points are taken from a seeded sample of this many rows when the ledger is larger",
+        lambda v: v >= 1000, "at least 1000",
+    )
+    rare_level_share: float = _key(
+        0.01, "categorical levels rarer than this share of rows are pooled into one bin for rare levels",
+        _share, "a share between 0 and 1",
+    )
+    min_group_share: float = _key(
+        0.05, "each group holds at least this share of rows", lambda v: 0 <= v <= 0.5, "a share between 0 and 0.5 (two groups must fit)",
+    )
+    min_goods: int = _key(10, "each group holds at least this many goods", lambda v: v >= 0, "a whole number >= 0")
+    min_bads: int = _key(10, "each group holds at least this many bads", lambda v: v >= 0, "a whole number >= 0")
+    max_groups: int = _key(8, "most groups per characteristic (missing and special bins not counted)", lambda v: v >= 2, "2 or more")
+    min_special_share: float = _key(
+        0.01, "a missing or special-value bin smaller than this share is merged into the group with the nearest WoE",
+        _share, "a share between 0 and 1",
+    )
+    trend: str = _key(
+        "auto", "WoE trend across a numeric characteristic: auto, ascending, descending or none",
+        _one_of("auto", "ascending", "descending", "none"), "one of auto, ascending, descending, none",
+    )
+
+
+@dataclass(frozen=True)
+class CharacteristicSettings:
+    """One characteristic's decisions; any key left out takes the default or the proposal."""
+
+    kind: str = _key("", "numeric or categorical (blank: detected)", _one_of("", "numeric", "categorical"), "numeric, categorical or blank")
+    use: str = _key(
+        "", "auto (selection decides), always (forced in), never (left out); blank: auto unless it looks like an identifier or date",
+        _one_of("", "auto", "always", "never"), "one of auto, always, never",
+    )
+    special_values: tuple[float, ...] = _key((), "numeric codes with a meaning of their own (e.g. -1 = no record); each gets its own bin")
+    trend: str = _key("", "WoE trend for this characteristic (blank: the [classing] default)", _one_of("", "auto", "ascending", "descending", "none"), "one of auto, ascending, descending, none or blank")
+    cuts: tuple[float, ...] | None = _key(None, "numeric cut points, ascending: groups are 'under c1', 'c1 to under c2', ..., 'ck and over'")
+    groups: tuple[tuple[str, ...], ...] | None = _key(None, "categorical groups: a list of lists of levels")
+    missing: str | int = _key("own", "'own' (a bin of its own) or the number of the group it joins (1 = first)")
+    specials: tuple[str | int, ...] = _key((), "per special value, 'own' or the number of the group it joins")
+    unseen: str | int = _key("worst", "where levels never seen at build time go: 'worst' (lowest WoE) or a group number")
+    label: str = _key("", "plain-language reason text for this characteristic (blank: made from its name)")
+    note: str = _key("", "the analyst's reason for a decision about this characteristic; the reports show it")
+    reason_code: str = _key("", "stable code of this characteristic's reason (blank: R01, R02, ... in ledger order)")
+
+
+@dataclass(frozen=True)
+class SelectionSettings:
+    """Which characteristics enter the model and why."""
+
+    min_iv: float = _key(0.02, "characteristics with a lower information value are screened out", lambda v: v >= 0, "a number >= 0")
+    leakage_iv: float = _key(
+        LEAKAGE_IV, "characteristics with a higher information value are flagged for a leakage check (set use = never to drop one)",
+        lambda v: v > 0, "a positive number",
+    )
+    max_correlation: float = _key(
+        0.6, "of two WoE columns correlated above this, the one with the lower IV is left out",
+        lambda v: 0 < v <= 1, "a number in (0, 1]",
+    )
+    stepwise: str = _key("both", "stepwise choice: forward, backward, both or none", _one_of("forward", "backward", "both", "none"), "one of forward, backward, both, none")
+    criterion: str = _key("p_value", "stepwise criterion: p_value (score test to enter, Wald to stay) or bic", _one_of("p_value", "bic"), "p_value or bic")
+    p_enter: float = _key(0.05, "p-value below which a characteristic may enter", lambda v: 0 < v < 1, "a p-value in (0, 1)")
+    p_remove: float = _key(0.10, "p-value above which a characteristic is removed", lambda v: 0 < v < 1, "a p-value in (0, 1)")
+    max_characteristics: int = _key(0, "most characteristics in the model (0: no limit)", lambda v: v >= 0, "a whole number >= 0")
+    sample_rows: int = _key(
+        200_000, "the choice runs on a seeded sample of this many development rows when there are more; the final fit uses them all (0: always all)",
+        lambda v: v >= 0, "a whole number >= 0",
+    )
+
+
+@dataclass(frozen=True)
+class FitSettings:
+    """The logistic fit."""
+
+    solver: str = _key(
+        "newton", "newton (Newton-Raphson with step-halving), gradient (gradient descent on standardised inputs) or lbfgs",
+        _one_of("newton", "gradient", "lbfgs"), "newton, gradient or lbfgs",
+    )
+    l2: float = _key(0.0, "ridge penalty on the coefficients (0: plain maximum likelihood)", lambda v: v >= 0, "a number >= 0")
+    max_iterations: int = _key(
+        0, "most iterations of the solver (0: its own default, 100 for newton, 100000 for gradient, 10000 for lbfgs)",
+        lambda v: v >= 0, "a whole number >= 0",
+    )
+
+
+@dataclass(frozen=True)
+class ScalingSettings:
+    """How log-odds become points."""
+
+    base_score: float = _key(600.0, "score at the base odds")
+    base_odds: float = _key(50.0, "odds good:bad at the base score", lambda v: v > 0, "a positive number")
+    pdo: float = _key(20.0, "points to double the odds (scores rise with creditworthiness)", lambda v: v > 0, "a positive number")
+    decimals: int = _key(0, "decimals kept in each bin's points (0: whole points)", lambda v: 0 <= v <= 6, "0 to 6")
+
+
+@dataclass(frozen=True)
+class ReasonSettings:
+    """Reasons given with each score."""
+
+    count: int = _key(4, "reasons listed per scored application", lambda v: 0 <= v <= 20, "0 to 20")
+
+
+@dataclass(frozen=True)
+class CheckSettings:
+    """Validation and monitoring thresholds."""
+
+    bands: int = _key(10, "equal-population score bands for gains, calibration and stability", lambda v: 2 <= v <= 100, "2 to 100")
+    grades: tuple[float, ...] = _key((), "score boundaries of grades, ascending (replaces equal-population bands)")
+    psi_watch: float = _key(WATCH_PSI, "PSI from which a shift is 'watch' (common practice)", lambda v: v > 0, "a positive number")
+    psi_act: float = _key(ACT_PSI, "PSI from which a shift is 'act' (common practice)", lambda v: v > 0, "a positive number")
+    p_watch: float = _key(WATCH_P, "test p-value below which a check is 'watch'", lambda v: 0 < v < 1, "a p-value in (0, 1)")
+    p_act: float = _key(ACT_P, "test p-value below which a check is 'act'", lambda v: 0 < v < 1, "a p-value in (0, 1)")
+    cutoff_step: float = _key(0.0, "step between candidate cut-off scores (0: every score that occurs)", lambda v: v >= 0, "a number >= 0")
+
+
+@dataclass(frozen=True)
+class ReportSettings:
+    """What the reports say about themselves."""
+
+    title: str = _key("Application scorecard", "title of the reports")
+    lender: str = _key("", "name of the lending organisation shown in the reports")
+
+
+SECTIONS: dict[str, type] = {
+    "ledger": LedgerSettings,
+    "outcome": OutcomeSettings,
+    "samples": SampleSettings,
+    "classing": ClassingSettings,
+    "selection": SelectionSettings,
+    "fit": FitSettings,
+    "scaling": ScalingSettings,
+    "reasons": ReasonSettings,
+    "checks": CheckSettings,
+    "report": ReportSettings,
+}
+
+
+@dataclass(frozen=True)
+class Settings:
+    """Every decision of one scorecard build."""
+
+    ledger: LedgerSettings = field(default_factory=LedgerSettings)
+    outcome: OutcomeSettings = field(default_factory=OutcomeSettings)
+    samples: SampleSettings = field(default_factory=SampleSettings)
+    classing: ClassingSettings = field(default_factory=ClassingSettings)
+    selection: SelectionSettings = field(default_factory=SelectionSettings)
+    fit: FitSettings = field(default_factory=FitSettings)
+    scaling: ScalingSettings = field(default_factory=ScalingSettings)
+    reasons: ReasonSettings = field(default_factory=ReasonSettings)
+    checks: CheckSettings = field(default_factory=CheckSettings)
+    report: ReportSettings = field(default_factory=ReportSettings)
+    characteristics: Mapping[str, CharacteristicSettings] = field(default_factory=dict)
+    folder: str = ""  # where the settings file lives; relative ledger paths start here
+
+    def characteristic(self, name: str) -> CharacteristicSettings:
+        """Return the settings of one characteristic (defaults when it has none)."""
+        return self.characteristics.get(name, CharacteristicSettings())
+
+    def ledger_path(self) -> Path:
+        """Return the ledger path, resolved against the settings file's folder."""
+        path = Path(self.ledger.path)
+        return path if path.is_absolute() or not self.folder else Path(self.folder) / path
+
+    def replace(self, **sections: Any) -> Settings:
+        """Return a copy with some sections or section keys replaced: ``replace(outcome={"column": "y"})``."""
+        changes = {}
+        for name, value in sections.items():
+            if isinstance(value, Mapping) and name in SECTIONS:
+                changes[name] = dataclasses.replace(getattr(self, name), **value)
+            else:
+                changes[name] = value
+        return dataclasses.replace(self, **changes)
+
+
+def settings_reference() -> list[tuple[str, str, str]]:
+    """Return (key, default, meaning) for every settings key, in file order."""
+    rows = []
+    for name, cls in SECTIONS.items():
+        for spec in dataclasses.fields(cls):
+            rows.append((f"{name}.{spec.name}", toml_value(spec.default), spec.metadata["meaning"]))
+    for spec in dataclasses.fields(CharacteristicSettings):
+        default = "(none)" if spec.default is None else toml_value(spec.default)
+        rows.append((f"characteristics.NAME.{spec.name}", default, spec.metadata["meaning"]))
+    return rows

@@ -1,0 +1,67 @@
+"""The shared words and defaults of the tool, each defined once (floor one: imports nothing of ours).
+
+Every stage speaks of outcomes, samples, kinds of characteristic and the trade's thresholds;
+they are written here and nowhere else, so that a newcomer finds each in one place and a change
+of one reaches every stage.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+
+import numpy as np
+
+# Outcome codes of a row, as intake maps them; the names are the words the reports use.
+GOOD, BAD, INDETERMINATE, UNKNOWN = 0, 1, 2, 3
+OUTCOME_NAMES = ("good", "bad", "indeterminate", "unknown")
+
+# Sample codes of a row, and the samples' names in the order every table lists them.
+DEVELOPMENT, HOLDOUT, OUT_OF_TIME = 0, 1, 2
+SAMPLE_NAMES = ("development", "hold-out", "out-of-time")
+DEVELOPMENT_NAME = SAMPLE_NAMES[DEVELOPMENT]
+
+# The samples whose figures say most about new applications, most honest first: the development
+# sample's figures are optimistic, since the classing, the choice and the fit were made on it.
+MOST_HONEST_FIRST = ("out-of-time", "hold-out", "development")
+
+# The two kinds of characteristic.
+NUMERIC, CATEGORICAL = "numeric", "categorical"
+
+# Added to both counts of a cell with no goods or no bads (WoE) or an empty bin (PSI), which keeps
+# the logarithm finite; the reports say where it was done (common practice, no source).
+EMPTY_CELL = 0.5
+
+# An information value above this flags a characteristic for a leakage check (N. Siddiqi, Credit
+# Risk Scorecards, Wiley 2006, from memory).
+LEAKAGE_IV = 0.5
+
+# Status thresholds: a PSI from WATCH_PSI is 'watch', from ACT_PSI 'act' (common practice, no
+# source); a test p-value below WATCH_P is 'watch', below ACT_P 'act' (the 5% and 1% test levels).
+WATCH_PSI, ACT_PSI = 0.10, 0.25
+WATCH_P, ACT_P = 0.05, 0.01
+
+
+def most_honest(samples: Iterable[str]) -> str:
+    """Return the most honest of the named samples (out-of-time, else hold-out, else development), or ''."""
+    present = set(samples)
+    return next((name for name in MOST_HONEST_FIRST if name in present), "")
+
+
+def value_text(value: object) -> str:
+    """Return the text a value is known by: '1' for 1 and 1.0 (a column read as numbers or as text
+    gives the same levels), 'true' for True, else ``str(value)``."""
+    if isinstance(value, (bool, np.bool_)):
+        return str(bool(value)).lower()
+    if isinstance(value, (int, np.integer)):
+        return str(int(value))
+    if isinstance(value, (float, np.floating)) and float(value).is_integer():
+        return str(int(value))
+    return str(value)
+
+
+def frozen(values) -> np.ndarray:
+    """Return a read-only array of the values: float, or bool when given a bool array."""
+    is_bool = isinstance(values, np.ndarray) and values.dtype == bool
+    array = np.array(values, dtype=bool if is_bool else float)
+    array.setflags(write=False)
+    return array
