@@ -168,7 +168,8 @@ class _WoeDesign:
                     warnings.simplefilter("ignore", ScorecardWarning)
                 if table.n_patterns > BY_PARTS_ABOVE and settings.solver == "newton" and settings.l2 == 0:
                     result = fit_logistic_by_parts(lambda rows: self.matrix(names, table, rows), table.goods, table.bads,
-                                                   names=list(names), start=start, max_iterations=settings.max_iterations or None)
+                                                   names=list(names), start=start, max_iterations=settings.max_iterations or None,
+                                                   guard=self.guard)
                 else:
                     result = fit_logistic(self.matrix(names, table), table.goods, table.bads, names=list(names), start=start,
                                           solver=settings.solver, l2=settings.l2,

@@ -541,6 +541,7 @@ def test_fit_by_parts_equals_the_whole_fit():
     np.testing.assert_allclose(parts.std_errors, whole.std_errors, rtol=BY_PARTS_RTOL)
     assert parts.log_likelihood == pytest.approx(whole.log_likelihood, rel=1e-12)
     assert parts.converged and list(parts.cost_trace) == sorted(parts.cost_trace, reverse=True)
+    assert parts.iterations == whole.iterations  # one stopping rule
 
 
 def test_fit_by_parts_names_dependent_columns():
@@ -561,5 +562,21 @@ def test_fit_by_parts_names_a_separating_characteristic():
     x = rng.normal(size=4_000)
     noise = rng.normal(size=4_000)
     goods = (x > 0).astype(float)
-    with pytest.raises(FitError, match="separated by 'x'"):
-        fit_logistic_by_parts(lambda rows: np.column_stack([x[rows], noise[rows]]), goods, 1 - goods, names=["x", "noise"])
+    # the same separation test as the whole fit's: linear programming names the smallest separating set
+    with pytest.raises(FitError, match="characteristic 'x' separates goods from bads completely"):
+        fit_logistic_by_parts(lambda rows: np.column_stack([x[rows], noise[rows]]), goods, 1 - goods, names=["x", "noise"],
+                              part_rows=1_500)
+
+
+def test_fit_in_one_part_is_the_whole_fit_to_the_last_bit():
+    # one core: with a single part every sum is the whole fit's own, in the same order
+    from scorecard.fitter import fit_logistic_by_parts
+
+    rng = np.random.default_rng(24)
+    features = rng.normal(size=(3_000, 2))
+    goods = (rng.random(3_000) < special.expit(0.5 + features @ np.array([0.7, -0.3]))).astype(float)
+    whole = fit_logistic(features, goods, 1 - goods, names=["a", "b"])
+    one_part = fit_logistic_by_parts(lambda rows: features[rows], goods, 1 - goods, names=["a", "b"], part_rows=10_000)
+    np.testing.assert_array_equal(one_part.coefficients, whole.coefficients)
+    np.testing.assert_array_equal(one_part.covariance, whole.covariance)
+    assert one_part.cost_trace == whole.cost_trace and one_part.solver == "newton (by parts)"

@@ -12,7 +12,7 @@ import numpy as np
 from scipy import special
 
 from ..errors import FitError
-from .problem import Problem, SingularInformation, solve_symmetric
+from .problem import Parts, Problem, SingularInformation, blocks, solve_symmetric, weighted_gram
 
 
 # A separating direction puts rows at least 1 onto their side (in max-abs-scaled units); it may
@@ -46,14 +46,25 @@ class Patterns:
 
 
 def patterns(problem: Problem) -> Patterns:
-    carries_weight = problem.weights > 0
-    design, inverse = _distinct_rows(problem.design[carries_weight])
-    return Patterns(
-        design=design,
-        goods=np.bincount(inverse, weights=problem.goods[carries_weight], minlength=design.shape[0]),
-        bads=np.bincount(inverse, weights=problem.bads[carries_weight], minlength=design.shape[0]),
-        n_rows=np.bincount(inverse, minlength=design.shape[0]),
-    )
+    """The distinct rows of the design that carry weight, block by block, then merged across blocks."""
+    found = []
+    for rows, design in blocks(problem.design):
+        carries_weight = problem.weights[rows] > 0
+        distinct, inverse = _distinct_rows(design[carries_weight])
+        found.append(Patterns(
+            design=distinct,
+            goods=np.bincount(inverse, weights=problem.goods[rows][carries_weight], minlength=distinct.shape[0]),
+            bads=np.bincount(inverse, weights=problem.bads[rows][carries_weight], minlength=distinct.shape[0]),
+            n_rows=np.bincount(inverse, minlength=distinct.shape[0]),
+        ))
+    if len(found) == 1:
+        return found[0]
+    distinct, inverse = _distinct_rows(np.concatenate([p.design for p in found]))
+
+    def added(field: str) -> np.ndarray:
+        return np.bincount(inverse, weights=np.concatenate([getattr(p, field) for p in found]), minlength=distinct.shape[0])
+
+    return Patterns(distinct, added("goods"), added("bads"), added("n_rows").astype(np.int64))
 
 
 def _distinct_rows(design: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -77,13 +88,18 @@ def _distinct_rows(design: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 def raise_if_dependent(problem: Problem, names: tuple[str, ...]) -> None:
     """Raise FitError naming the columns that take part in an exact linear dependence."""
-    design = problem.design[problem.weights > 0]
-    null_space = _null_space(design)
+    carries_weight = problem.weights > 0
+    if isinstance(problem.design, Parts):
+        norms, null_space = _null_space_of_gram(weighted_gram(problem, carries_weight.astype(float)), problem.design.shape)
+        first = next(design[carries_weight[rows]][0] for rows, design in blocks(problem.design) if carries_weight[rows].any())
+    else:
+        design = problem.design[carries_weight]
+        norms, null_space, first = np.linalg.norm(design, axis=0), _null_space(design), design[0]
     if null_space.shape[0] == 0:
         return
     share = np.sum(null_space**2, axis=0)
     involved = np.flatnonzero(share > _NULL_SPACE_SHARE)
-    raise FitError(_dependence_message(design, null_space, involved, names, problem.intercept))
+    raise FitError(_dependence_message(norms, first, null_space, involved, names, problem.intercept))
 
 
 def _null_space(design: np.ndarray) -> np.ndarray:
@@ -101,6 +117,22 @@ def _null_space(design: np.ndarray) -> np.ndarray:
     return right[singular <= threshold]
 
 
+def _null_space_of_gram(gram: np.ndarray, shape: tuple[int, int]) -> tuple[np.ndarray, np.ndarray]:
+    """Column norms and the null space of a design known by its Gram matrix X'X (a design made in parts).
+
+    The eigenvectors of the unit-norm columns' Gram matrix are the right singular vectors of those
+    columns, its eigenvalues their squared singular values: the same null space as ``_null_space``,
+    with the same rank tolerance, squared.
+    """
+    norms = np.sqrt(np.clip(np.diag(gram), 0.0, None))
+    safe = np.where(norms > 0, norms, 1.0)
+    eigenvalues, vectors = np.linalg.eigh(gram / np.outer(safe, safe))
+    if shape[1] == 0 or eigenvalues[0] > CLEARLY_FULL_RANK * eigenvalues[-1]:
+        return norms, np.zeros((0, shape[1]))
+    threshold = (np.sqrt(max(eigenvalues[-1], 0.0)) * max(shape) * np.finfo(float).eps) ** 2
+    return norms, vectors[:, eigenvalues <= threshold].T
+
+
 def _clearly_full_rank(unit: np.ndarray) -> bool:
     """Whether the unit-norm columns are far from any dependence, judged from their small Gram matrix.
 
@@ -115,7 +147,8 @@ def _clearly_full_rank(unit: np.ndarray) -> bool:
     return bool(eigenvalues[0] > CLEARLY_FULL_RANK * eigenvalues[-1])
 
 
-def _dependence_message(design, null_space, involved, names, intercept) -> str:
+def _dependence_message(norms, first, null_space, involved, names, intercept) -> str:
+    """Name the dependent columns; ``norms`` are the columns' norms, ``first`` the first row that carries weight."""
     characteristics = [j for j in involved if not (intercept and j == 0)]
     where = "on every row that carries weight"
     todo = (
@@ -123,17 +156,16 @@ def _dependence_message(design, null_space, involved, names, intercept) -> str:
         "as the reference."
     )
     if len(characteristics) == 1:
-        column = design[:, characteristics[0]]
         name = names[characteristics[0]]
-        if np.all(column == 0):
+        if norms[characteristics[0]] == 0:
             return f"characteristic {name!r} is 0 {where}, so it has no coefficient to estimate. Drop it."
         return (
-            f"characteristic {name!r} is constant ({float(column[0])!r}) {where}, so its effect cannot be told "
+            f"characteristic {name!r} is constant ({float(first[characteristics[0]])!r}) {where}, so its effect cannot be told "
             f"apart from the intercept. Drop it."
         )
     combination = ""
     if null_space.shape[0] == 1:
-        combination = f" ({_combination(null_space[0], design, names, intercept)})"
+        combination = f" ({_combination(null_space[0], norms, names, intercept)})"
     with_intercept = " together with the intercept" if intercept and 0 in involved else ""
     return (
         f"characteristics {quoted(names[j] for j in characteristics)} are linearly dependent"
@@ -142,9 +174,8 @@ def _dependence_message(design, null_space, involved, names, intercept) -> str:
     )
 
 
-def _combination(vector, design, names, intercept) -> str:
-    """Write a null-space vector in the units of the columns, e.g. "'a' - 0.5·'b' = 0"."""
-    norms = np.linalg.norm(design, axis=0)
+def _combination(vector, norms, names, intercept) -> str:
+    """Write a null-space vector in the units of the columns (of these norms), e.g. "'a' - 0.5·'b' = 0"."""
     weights = vector / np.where(norms > 0, norms, 1.0)
     weights = weights / np.abs(weights).max()
     shown = [j for j in np.flatnonzero(np.abs(weights) > _NULL_SPACE_SHARE) if not (intercept and j == 0)]
@@ -177,19 +208,30 @@ def overlap_proved(problem: Problem, beta: np.ndarray) -> bool:
     ``c = ΛX(X'ΛX)⁻¹e`` with ``Λ_i = |r_i|`` removes it, and keeps every sign when
     ``|x_i·(X'ΛX)⁻¹e| < 1`` on the one-sided rows. Half of that bound is asked for.
     """
-    carries_weight = problem.weights > 0
-    design, goods, bads = problem.design[carries_weight], problem.goods[carries_weight], problem.bads[carries_weight]
-    eta = design @ beta
-    residual = goods * special.expit(-eta) - bads * special.expit(eta)
-    one_sided = (goods == 0) | (bads == 0)
-    if np.any(np.abs(residual[one_sided]) < _FIRM_PROBABILITY * (goods + bads)[one_sided]):
-        return False
-    spread = np.where(one_sided, np.abs(residual), (goods + bads) * special.expit(eta) * special.expit(-eta))
+    n_columns = len(beta)
+    matrix, right = np.zeros((n_columns, n_columns)), np.zeros(n_columns)
+    for design, goods, bads in _carried(problem):
+        eta = design @ beta
+        residual = goods * special.expit(-eta) - bads * special.expit(eta)
+        one_sided = (goods == 0) | (bads == 0)
+        if np.any(np.abs(residual[one_sided]) < _FIRM_PROBABILITY * (goods + bads)[one_sided]):
+            return False
+        spread = np.where(one_sided, np.abs(residual), (goods + bads) * special.expit(eta) * special.expit(-eta))
+        matrix += (design * spread[:, None]).T @ design
+        right += design.T @ residual
     try:
-        direction = solve_symmetric((design * spread[:, None]).T @ design, design.T @ residual, problem, beta)
+        direction = solve_symmetric(matrix, right, problem, beta)
     except SingularInformation:
         return False
-    return bool(np.max(np.abs(design[one_sided] @ direction), initial=0.0) < 0.5)
+    return all(np.max(np.abs(design[(goods == 0) | (bads == 0)] @ direction), initial=0.0) < 0.5
+               for design, goods, bads in _carried(problem))
+
+
+def _carried(problem: Problem):
+    """Yield the design, goods and bads of the rows that carry weight, block by block."""
+    for rows, design in blocks(problem.design):
+        carries_weight = problem.weights[rows] > 0
+        yield design[carries_weight], problem.goods[rows][carries_weight], problem.bads[rows][carries_weight]
 
 
 def raise_if_separated(patterns: Patterns, names: tuple[str, ...], *, intercept: bool) -> None:
@@ -326,8 +368,10 @@ def numerically_singular_message(singular: SingularInformation, names: tuple[str
     _, vectors = np.linalg.eigh(singular.information)
     flattest = np.abs(vectors[:, 0]) / np.abs(vectors[:, 0]).max()
     involved = [names[j] for j in np.flatnonzero(flattest > 0.1) if not (intercept and j == 0)]
-    eta = singular.problem.design @ singular.beta
-    n_extreme = int(np.sum((singular.problem.weights > 0) & (special.expit(eta) * special.expit(-eta) < 1e-10)))
+    n_extreme = 0
+    for rows, design in blocks(singular.problem.design):
+        eta = design @ singular.beta
+        n_extreme += int(np.sum((singular.problem.weights[rows] > 0) & (special.expit(eta) * special.expit(-eta) < 1e-10)))
     which = f"; the characteristics most involved are {quoted(involved)}" if involved else ""
     separation = (
         f", or they nearly separate goods from bads: {n_extreme} rows that carry weight have fitted "

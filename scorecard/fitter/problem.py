@@ -8,6 +8,7 @@ problem; it is called standardisation here, never scaling, which is the points s
 
 from __future__ import annotations
 
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 
 import numpy as np
@@ -94,8 +95,40 @@ def information_matrix(beta, design, goods, bads, *, l2: float = 0.0, intercept:
 
 
 @dataclass(frozen=True, eq=False)
+class Parts:
+    """A design too large to hold, made a part of the rows at a time: ``make(rows)`` gives the rows in a slice.
+
+    Every sum over rows (the cost, its gradient and curvature, the column moments) is added up
+    part by part, so memory stays at ``part_rows`` × columns; a row source that keeps the rows
+    elsewhere can add up the same sums where they are.
+    """
+
+    make: Callable[[slice], np.ndarray]
+    n_rows: int
+    n_columns: int
+    part_rows: int
+
+    @property
+    def shape(self) -> tuple[int, int]:
+        return self.n_rows, self.n_columns
+
+    def blocks(self) -> Iterator[tuple[slice, np.ndarray]]:
+        for first in range(0, self.n_rows, self.part_rows):
+            rows = slice(first, min(first + self.part_rows, self.n_rows))
+            yield rows, self.make(rows)
+
+
+def blocks(design: np.ndarray | Parts) -> Iterator[tuple[slice, np.ndarray]]:
+    """The design's rows as (slice, columns) blocks: one block for a design in memory."""
+    if isinstance(design, Parts):
+        yield from design.blocks()
+    else:
+        yield slice(None), design
+
+
+@dataclass(frozen=True, eq=False)
 class Problem:
-    design: np.ndarray
+    design: np.ndarray | Parts
     goods: np.ndarray
     bads: np.ndarray
     ridge: np.ndarray  # penalty per coefficient: 0 for the intercept, l2 for the others
@@ -119,7 +152,7 @@ class Problem:
 
 
 def make_problem(design, goods, bads, *, l2: float, intercept: bool) -> Problem:
-    design = np.asarray(design, dtype=float)
+    design = design if isinstance(design, Parts) else np.asarray(design, dtype=float)
     ridge = np.full(design.shape[1], float(l2))
     if intercept and ridge.size:
         ridge[0] = 0.0
@@ -128,16 +161,20 @@ def make_problem(design, goods, bads, *, l2: float, intercept: bool) -> Problem:
 
 
 def cost(problem: Problem, beta: np.ndarray) -> float:
-    eta = problem.design @ beta
-    loss = problem.goods @ np.logaddexp(0.0, -eta) + problem.bads @ np.logaddexp(0.0, eta)
+    loss = 0.0
+    for rows, design in blocks(problem.design):
+        eta = design @ beta
+        loss += problem.goods[rows] @ np.logaddexp(0.0, -eta) + problem.bads[rows] @ np.logaddexp(0.0, eta)
     return float((loss + 0.5 * problem.ridge @ beta**2) / problem.total_weight)
 
 
 def cost_change(problem: Problem, beta: np.ndarray, candidate: np.ndarray) -> float:
     """cost(candidate) − cost(beta), accurate to the rounding of the change itself."""
-    eta = problem.design @ beta
-    shift = problem.design @ (candidate - beta)
-    loss = problem.goods @ softplus_change(-eta, -shift) + problem.bads @ softplus_change(eta, shift)
+    loss = 0.0
+    for rows, design in blocks(problem.design):
+        eta = design @ beta
+        shift = design @ (candidate - beta)
+        loss += problem.goods[rows] @ softplus_change(-eta, -shift) + problem.bads[rows] @ softplus_change(eta, shift)
     penalty = 0.5 * problem.ridge @ ((candidate - beta) * (candidate + beta))
     return float((loss + penalty) / problem.total_weight)
 
@@ -154,16 +191,29 @@ def softplus_change(eta: np.ndarray, shift: np.ndarray) -> np.ndarray:
 
 
 def cost_gradient(problem: Problem, beta: np.ndarray) -> np.ndarray:
-    eta = problem.design @ beta
-    residual = problem.goods * special.expit(-eta) - problem.bads * special.expit(eta)
-    return (problem.ridge * beta - problem.design.T @ residual) / problem.total_weight
+    score = np.zeros(len(beta))
+    for rows, design in blocks(problem.design):
+        eta = design @ beta
+        score += design.T @ (problem.goods[rows] * special.expit(-eta) - problem.bads[rows] * special.expit(eta))
+    return (problem.ridge * beta - score) / problem.total_weight
 
 
 def cost_hessian(problem: Problem, beta: np.ndarray) -> np.ndarray:
-    eta = problem.design @ beta
-    curvature = problem.weights * special.expit(eta) * special.expit(-eta)
-    hessian = (problem.design * curvature[:, None]).T @ problem.design + np.diag(problem.ridge)
-    return hessian / problem.total_weight
+    information = np.zeros((len(beta), len(beta)))
+    for rows, design in blocks(problem.design):
+        eta = design @ beta
+        curvature = problem.weights[rows] * special.expit(eta) * special.expit(-eta)
+        information += (design * curvature[:, None]).T @ design
+    return (information + np.diag(problem.ridge)) / problem.total_weight
+
+
+def weighted_gram(problem: Problem, weights: np.ndarray) -> np.ndarray:
+    """X' diag(weights) X, added up block by block."""
+    n_columns = problem.design.shape[1]
+    gram = np.zeros((n_columns, n_columns))
+    for rows, design in blocks(problem.design):
+        gram += (design * weights[rows][:, None]).T @ design
+    return gram
 
 
 def design_matrix(features: np.ndarray, intercept: bool) -> np.ndarray:
@@ -217,10 +267,17 @@ def standardisation_of(problem: Problem) -> Standardisation:
     than the others.
     """
     weights = problem.weights / problem.total_weight
-    centre = weights @ problem.design if problem.intercept else np.zeros(problem.design.shape[1])
-    spread = np.sqrt(weights @ (problem.design - centre) ** 2 + 4 * problem.ridge / problem.total_weight)
+    n_columns = problem.design.shape[1]
+    centre = np.zeros(n_columns)
+    if problem.intercept:
+        for rows, design in blocks(problem.design):
+            centre += weights[rows] @ design
+    variance, size = np.zeros(n_columns), np.zeros(n_columns)
+    for rows, design in blocks(problem.design):
+        variance += weights[rows] @ (design - centre) ** 2
+        size = np.maximum(size, np.max(np.abs(design), axis=0, initial=0.0))
+    spread = np.sqrt(variance + 4 * problem.ridge / problem.total_weight)
     # A constant column (up to rounding) has nothing to scale; it only gets here with l2 > 0.
-    size = np.max(np.abs(problem.design), axis=0)
     scale = np.where(spread > _CONSTANT_SPREAD * size, spread, 1.0)
     if problem.intercept:
         centre[0], scale[0] = 0.0, 1.0
@@ -234,7 +291,12 @@ def no_standardisation(problem: Problem) -> Standardisation:
 
 def standardised(problem: Problem, standardisation: Standardisation) -> Problem:
     """The same cost as a function of the standardised coefficients θ, with b = T·θ."""
-    design = (problem.design - standardisation.centre) / standardisation.scale
+    centre, scale = standardisation.centre, standardisation.scale
+    if isinstance(problem.design, Parts):
+        inner = problem.design
+        design = Parts(lambda rows: (inner.make(rows) - centre) / scale, inner.n_rows, inner.n_columns, inner.part_rows)
+    else:
+        design = (problem.design - centre) / scale
     # The penalty stays on the original coefficients: b_j = θ_j / scale_j.
     ridge = problem.ridge / standardisation.scale**2
     return Problem(design, problem.goods, problem.bads, ridge, problem.intercept)

@@ -18,7 +18,7 @@ from ..errors import FitError
 from .guards import numerically_singular_message, overlap_proved, patterns, raise_if_separated
 from .problem import (
     Problem, SingularInformation, Standardisation, cost, cost_change, cost_gradient, cost_hessian, solve_symmetric,
-    standardisation_of, standardised,
+    standardisation_of, standardised, weighted_gram,
 )
 from .result import FitResult
 
@@ -109,7 +109,7 @@ def _halved_step(problem: Problem, beta: np.ndarray, step: np.ndarray):
 
 def _gradient_descent(problem: Problem, rule: StoppingRule, start: np.ndarray) -> Path:
     """Batch gradient descent from the step 1/L, trying doubled steps under Armijo's rule."""
-    hessian_bound = (problem.design * problem.weights[:, None]).T @ problem.design / 4
+    hessian_bound = weighted_gram(problem, problem.weights) / 4
     lipschitz = (linalg.eigvalsh(hessian_bound)[-1] + problem.ridge.max()) / problem.total_weight
     safe_step = 1.0 / lipschitz
     theta, step = start, safe_step
