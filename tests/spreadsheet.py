@@ -15,6 +15,7 @@ from pathlib import Path
 import pytest
 
 LIBREOFFICE_SECONDS = 240  # a cold start of LibreOffice in a fresh profile, with room to spare
+ATTEMPTS = 3  # conversions tried before the test fails; the first start of a fresh profile may drop one
 
 # Recalculate every formula on loading an .xlsx file, whatever the file says about itself.
 RECALC_ALWAYS = """<?xml version="1.0" encoding="UTF-8"?>
@@ -34,13 +35,25 @@ def libreoffice() -> str:
 
 
 def recalculated(path: Path, folder: Path) -> Path:
-    """Open the book in LibreOffice Calc (its own profile), recalculate, save as .xlsx; return the copy."""
+    """Open the book in LibreOffice Calc (its own profile), recalculate, save as .xlsx; return the copy.
+
+    LibreOffice exits with 0 even when it wrote nothing: a first start in a fresh profile can
+    restart itself half-way and drop the conversion. So the copy is looked for, the conversion is
+    tried again (the profile then exists) up to ``ATTEMPTS`` times, and a missing copy fails the
+    test with LibreOffice's own words, never with a bare FileNotFoundError later.
+    """
     program = libreoffice()
     profile = folder / "profile"
     (profile / "user").mkdir(parents=True, exist_ok=True)
     (profile / "user" / "registrymodifications.xcu").write_text(RECALC_ALWAYS, encoding="utf-8")
     out = folder / "recalculated"
-    subprocess.run([program, f"-env:UserInstallation={profile.as_uri()}", "--headless", "--calc",
-                    "--convert-to", "xlsx", "--outdir", str(out), str(path)],
-                   check=True, capture_output=True, timeout=LIBREOFFICE_SECONDS)
-    return out / path.name
+    copy = out / path.name
+    said = []
+    for _ in range(ATTEMPTS):
+        result = subprocess.run([program, f"-env:UserInstallation={profile.as_uri()}", "--headless", "--calc",
+                                 "--convert-to", "xlsx", "--outdir", str(out), str(path)],
+                                capture_output=True, text=True, timeout=LIBREOFFICE_SECONDS)
+        if result.returncode == 0 and copy.is_file() and copy.stat().st_size > 0:
+            return copy
+        said.append(f"exit {result.returncode}: {result.stdout.strip()} {result.stderr.strip()}".strip())
+    pytest.fail(f"LibreOffice wrote no recalculated copy of {path.name} in {ATTEMPTS} attempts: " + " | ".join(said))

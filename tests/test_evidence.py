@@ -13,6 +13,7 @@ from scorecard.classing import categorical_binning
 from scorecard.evidence import evidence_table, information_value, iv_strength, woe_values
 from scorecard.intake import prepare_ledger
 from scorecard.rows import code_rows, count_bins
+from scorecard.terms import BAD, GOOD
 from scorecard.settings import Settings
 
 EXACT = 1e-12  # the same arithmetic in another order
@@ -52,10 +53,21 @@ def test_woe_is_zero_for_a_bin_like_the_whole():
 
 
 def test_splitting_a_count_row_does_not_change_iv():
-    # invariance: IV over bins depends only on the bins' totals
-    goods, bads = np.array([60.0, 30, 10]), np.array([5.0, 5, 10])
-    table = evidence_table(goods, bads, labels=list("abc"), characteristic="x")
-    assert information_value(goods, bads) == pytest.approx(table.iv, abs=EXACT)
+    # invariance: rows counted into bins, then the same rows with one of them split in two (its
+    # weight shared out over two rows of the same bin and outcome): the same counts, the same IV
+    codes = np.array([0, 0, 1, 1, 2, 2], dtype=np.uint8)
+    outcome = np.array([GOOD, BAD, GOOD, BAD, GOOD, BAD], dtype=np.int8)
+    weight = np.array([60.0, 5, 30, 5, 10, 10])
+    split_codes, split_outcome = np.insert(codes, 2, 1), np.insert(outcome, 2, GOOD)
+    split_weight = np.array([60.0, 5, 12, 18, 5, 10, 10])  # the good row of bin 1, weight 30, as 12 + 18
+    labels = ["a", "b", "c"]
+    whole = count_bins(codes, outcome, weight, np.zeros(6, np.int8), characteristic="x", labels=labels)
+    parts = count_bins(split_codes, split_outcome, split_weight, np.zeros(7, np.int8), characteristic="x",
+                       labels=labels)
+    np.testing.assert_array_equal(parts.goods(), whole.goods())
+    table = evidence_table(whole.goods(), whole.bads(), labels=labels, characteristic="x")
+    assert evidence_table(parts.goods(), parts.bads(), labels=labels, characteristic="x").iv == table.iv
+    assert parts.n_goods()[1] == whole.n_goods()[1] + 1  # the split is real: one row more in bin b
 
 
 def _credit_data():

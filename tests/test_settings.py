@@ -1,4 +1,4 @@
-"""Tests of the settings file (scorecard/settings.py): round trip, atomic writing, validation."""
+"""Tests of the settings file (scorecard/settings/): round trip, atomic writing, validation, editing in place."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from hypothesis import settings as hypothesis_settings
 from hypothesis import strategies as st
 
 from scorecard import Settings, SettingsError, read_settings, settings_from_mapping, settings_reference, write_settings
-from scorecard.settings import SECTIONS, CharacteristicSettings, settings_to_toml
+from scorecard.settings import SECTIONS, CharacteristicSettings, edit_settings, settings_to_toml
 
 
 def round_trip(settings: Settings) -> Settings:
@@ -234,3 +234,56 @@ def test_reference_lists_every_key_with_its_default():
         else:
             value = tomllib.loads(f"value = {default}")["value"]
             assert value == (list(spec.default) if isinstance(spec.default, tuple) else spec.default), key
+
+
+# --------------------------------------------------------------------------------------------
+# Editing in place (scorecard set), with the style-preserving TOML library
+
+
+def _written(tmp_path, text: str):
+    path = tmp_path / "scorecard.toml"
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def test_editing_a_title_that_held_a_comment_sign_keeps_the_file_valid(tmp_path):
+    # the hand-written editor took '  #' inside the old value for the start of the comment
+    path = _written(tmp_path, '[report]\ntitle = "Loans  # and lines"  # title of the reports\n')
+    edit_settings(path, {"report.title": "Personal loans"})
+    assert path.read_text(encoding="utf-8") == '[report]\ntitle = "Personal loans"  # title of the reports\n'
+    assert read_settings(path).report.title == "Personal loans"
+
+
+def test_a_multi_line_cuts_array_can_be_edited(tmp_path):
+    # the hand-written editor refused a value spread over several lines
+    path = _written(tmp_path, (
+        "# the analyst's file\n\n"
+        "[characteristics.age]\n"
+        'kind = "numeric"\n'
+        "cuts = [\n    25,\n    35,  # a round number\n    50,\n]\n"
+        "missing = 1  # with the first class\n"
+    ))
+    edit_settings(path, {"characteristics.age.cuts": [30, 45]})
+    text = path.read_text(encoding="utf-8")
+    assert read_settings(path).characteristic("age").cuts == (30.0, 45.0)
+    assert text.startswith("# the analyst's file\n\n[characteristics.age]\nkind = \"numeric\"\ncuts = [30, 45]\n")
+    assert text.endswith("missing = 1  # with the first class\n")
+
+
+def test_editing_keeps_every_other_line_and_adds_new_keys_and_sections(tmp_path):
+    original = settings_to_toml(Settings().replace(characteristics={"age": CharacteristicSettings(kind="numeric")}),
+                                header="written by hand\nand kept", comments={"age": "IV 0.2"})
+    path = _written(tmp_path, original)
+    edit_settings(path, {"samples.seed": 7, "characteristics.age.use": "never", "characteristics.new one.use": "never"})
+    text = path.read_text(encoding="utf-8")
+    changed = [line for line in text.splitlines() if line not in original.splitlines()]
+    assert changed == ['seed = 7  # seed of the random hold-out split', 'use = "never"',
+                       '[characteristics."new one"]', 'use = "never"']
+    assert read_settings(path).characteristic("new one").use == "never"
+
+
+def test_an_edit_that_breaks_the_file_leaves_it_untouched(tmp_path):
+    path = _written(tmp_path, "[samples]\nseed = 3\n")
+    with pytest.raises(SettingsError, match="samples.seed = -1 is not possible"):
+        edit_settings(path, {"samples.seed": -1})
+    assert path.read_text(encoding="utf-8") == "[samples]\nseed = 3\n"

@@ -17,6 +17,9 @@ from scorecard.intake import stream_ledger
 from scorecard.modelfile import model_document
 from scorecard.settings import Settings
 
+# every test here builds or reads a generated ledger of thousands of rows, several times
+pytestmark = pytest.mark.slow
+
 BATCH_ROWS = 1_700  # small, so that a 9000-row ledger is read in several batches, the last one short
 
 

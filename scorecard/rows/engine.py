@@ -41,15 +41,15 @@ Batches = Callable[[Sequence[str]], Iterator[tuple[int, pd.DataFrame]]]
 BATCH_READABLE = (".csv", ".txt", ".parquet", ".pq")
 
 
-def reads_in_batches(path: str | os.PathLike[str], stream_above_mb: float, *, asked: bool = False) -> bool:
-    """Whether a ledger file is read in batches: when asked (``--stream``), or when it is larger than
-    ``ledger.stream_above_mb`` and of a type that can be (CSV or Parquet).
+def reads_in_batches(path: str | os.PathLike[str], stream_above_mb: float, *, asked: bool | None = None) -> bool:
+    """Whether a ledger file is read in batches: as asked (``--stream``: True; ``stream=False``: never), or
+    else when it is larger than ``ledger.stream_above_mb`` and of a type that can be (CSV or Parquet).
 
     This is the one place the choice is made; build, score and monitor all ask here.
     """
+    if asked is not None:
+        return asked
     path = Path(path)
-    if asked:
-        return True
     return path.suffix.lower() in BATCH_READABLE and path.exists() and path.stat().st_size > stream_above_mb * 2**20
 
 

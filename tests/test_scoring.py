@@ -1,0 +1,48 @@
+"""Tests of scorecard/scoring.py: a scorecard scores a frame by look-up and sum, with reasons."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from scorecard.classing import categorical_binning, numeric_binning
+from scorecard.errors import LedgerError
+from scorecard.rows import score_codes
+from scorecard.scoring import Scorecard, reasons
+
+from tables import example_points_table as _table  # tests/tables.py
+
+
+def test_score_is_the_sum_of_the_bins_points_for_every_row():
+    rng = np.random.default_rng(1)
+    table = _table()
+    codes = np.column_stack([rng.integers(0, len(c.points), 5000) for c in table.characteristics])
+    slow = [sum(c.points[codes[i, j]] for j, c in enumerate(table.characteristics)) for i in range(len(codes))]
+    np.testing.assert_array_equal(score_codes(codes, table), slow)
+    assert score_codes(codes, table).dtype == np.int64
+
+
+def test_reasons_rank_the_points_lost_against_the_best_bin():
+    table = _table()
+    age, housing, enquiries = (c.points for c in table.characteristics)
+    codes = np.array([[0, 0, 2], [2, 1, 0]])
+    ranked = reasons(codes, table, count=3)
+    lost = np.array([age.max() - age[0], housing.max() - housing[0], enquiries.max() - enquiries[2]])
+    assert ranked[0].tolist() == list(np.argsort(-lost, kind="stable"))
+    # the best bin everywhere costs nothing: no reasons
+    assert ranked[1].tolist() == [-1, -1, -1]
+
+
+def test_scorecard_scores_a_frame_and_names_a_missing_column():
+    binnings = (numeric_binning("age", [30, 50], has_missing=False),
+                categorical_binning("housing", [("rent",), ("own",)], has_missing=False),
+                numeric_binning("enquiries", [1, 2, 4], has_missing=False))
+    card = Scorecard(_table(), binnings)
+    frame = pd.DataFrame({"age": [25, 60], "housing": ["rent", "own"], "enquiries": [0, 5]})
+    scored = card.score(frame, reason_count=2)
+    assert list(scored.columns) == ["score", "pd", "reason_1", "reason_1_text", "reason_2", "reason_2_text"]
+    expected = score_codes(np.array([[0, 0, 0], [2, 1, 3]]), card.table)
+    assert scored["score"].tolist() == expected.tolist()
+    with pytest.raises(LedgerError, match="column 'housing' of the scorecard is not in the ledger"):
+        card.score(frame.drop(columns="housing"), source="new.csv")
