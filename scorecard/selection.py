@@ -24,11 +24,6 @@ from .rows import MERGE_LIMIT, PatternTable
 from .settings import FitSettings, SelectionSettings
 
 
-# a table of more patterns than this is fitted a part at a time, so that no design matrix of all of
-# them is ever held (above a million rows the Newton steps cost the same either way)
-BY_PARTS_ABOVE = MERGE_LIMIT
-
-
 @dataclass(frozen=True)
 class Decision:
     """One entry of the selection log.
@@ -166,7 +161,9 @@ class _WoeDesign:
             with warnings.catch_warnings():
                 if not self.guard:  # a trial fit that does not converge is only ranked, not reported
                     warnings.simplefilter("ignore", ScorecardWarning)
-                if table.n_patterns > BY_PARTS_ABOVE and settings.solver == "newton" and settings.l2 == 0:
+                # a table kept as rows (above MERGE_LIMIT) is fitted a part at a time, so that no design
+                # matrix of all of them is ever held (the Newton steps cost the same either way)
+                if table.n_patterns > MERGE_LIMIT and settings.solver == "newton" and settings.l2 == 0:
                     result = fit_logistic_by_parts(lambda rows: self.matrix(names, table, rows), table.goods, table.bads,
                                                    names=list(names), start=start, max_iterations=settings.max_iterations or None,
                                                    guard=self.guard)

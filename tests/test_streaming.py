@@ -117,7 +117,7 @@ def test_large_tables_kept_as_rows_and_fitted_by_parts_give_the_same_model(ledge
         warnings.simplefilter("ignore")
         merged = build_scorecard(ledgers[1], _settings(), stream=False)
         for module, name in ((scorecard.rows.inprocess, "MERGE_LIMIT"), (scorecard.rows.tables, "MERGE_LIMIT"),
-                             (scorecard.selection, "BY_PARTS_ABOVE")):
+                             (scorecard.selection, "MERGE_LIMIT")):
             monkeypatch.setattr(module, name, 1_000)
         rows = build_scorecard(ledgers[1], _settings(), stream=False)
         streamed = build_scorecard(ledgers[1], _settings(), stream=True)

@@ -41,7 +41,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 
 from ..checks.discrimination import band_labels
 from ..settings import settings_reference
-from ..terms import SAMPLE_NAMES
+from ..terms import DEVELOPMENT_NAME, SAMPLE_NAMES
 from . import CAUTION
 from .sheet_kit import (
     AUC, CAPTION_ROW, COUNT, FIRST_ROW, Formula, HEADER_ROW, INPUT_FILL, P_VALUE, Placed, RATE, SAMPLE_COLOURS,
@@ -539,7 +539,7 @@ def _roc_chart(roc: Placed, chance: Placed, samples: list[str]) -> ScatterChart:
 
 def _distribution_chart(gains: Placed, validation) -> BarChart:
     samples = [name for name, s in validation.samples.items() for _ in range(len(s.gains.band))]
-    first, last = _sample_rows(gains, samples, "development")
+    first, last = _sample_rows(gains, samples, DEVELOPMENT_NAME)
     return bar_chart("Score distribution by outcome (development)", "score band", "share of the outcome's rows",
                      gains.reference("Scores", first, last),
                      [("goods", gains.reference("Share of goods", first, last)),

@@ -33,6 +33,7 @@ from ..monitor import (
     status_rules,
 )
 from ..settings import CheckSettings
+from ..terms import DEVELOPMENT_NAME
 from . import CAUTION, charts
 from .page_kit import (
     DASH, Cell, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text, interval_text,
@@ -316,7 +317,7 @@ def _discrimination(result: MonitorResult, saved: SavedModel) -> dict:
                 "text": f"AUC {fixed_text(fall.auc, 4)} against {fixed_text(fall.reference, 4)} "
                         f"(the {result.auc_reference} sample at build time), "
                         f"standard error {fixed_text(fall.std_error, 4)}, z = {fixed_text(fall.z, 2)}."}
-    development = saved.baseline["development"]
+    development = saved.baseline[DEVELOPMENT_NAME]
     keep = (development.goods + development.bads) > 0
     baseline_roc = roc_points(development.scores[keep], development.goods[keep], development.bads[keep])
     roc = captioned_chart(
