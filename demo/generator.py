@@ -840,7 +840,7 @@ def _write_csv(chunks: Iterable[pd.DataFrame], path: str) -> None:
 
 
 def _write_parquet(chunks: Iterable[pd.DataFrame], path: str) -> None:
-    """Write chunks to one Parquet file, a row group or more per chunk."""
+    """Write chunks to one Parquet file, one or more of its row blocks per chunk."""
     import pyarrow as pa
     import pyarrow.parquet as pq
 

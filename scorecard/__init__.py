@@ -30,7 +30,7 @@ _PUBLIC = {
     "InProcessRows": "rows", "BinCounts": "rows", "count_bins": "rows", "PatternTable": "rows", "pattern_table": "rows",
     "ScoreHistogram": "rows", "code_rows": "rows",
     # classing and evidence
-    "Binning": "classing", "fine_classing": "classing", "coarse_classing": "classing", "optimal_grouping": "classing",
+    "Binning": "classing", "fine_classing": "classing", "coarse_classing": "classing", "best_classing": "classing",
     "binning_from_settings": "classing", "class_ledger": "classing", "ClassedLedger": "classing",
     "EvidenceTable": "evidence", "evidence_table": "evidence", "information_value": "evidence", "woe_values": "evidence",
     # fit, selection, points, scoring, checks

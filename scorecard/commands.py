@@ -60,8 +60,8 @@ def run_init(options: InitOptions, streams: Streams) -> int:
     header = (
         f"scorewright settings for {source}: the record of every analyst decision.\n"
         "Edit any value, then run: scorewright build " + str(out) + "\n"
-        "Every classing below is a proposal (the grouping with the largest information value that meets the limits);\n"
-        "change cuts or groups to decide yourself. Keys left out take their defaults."
+        "Every classing below is a proposal (the classing with the largest information value that meets the limits);\n"
+        "change cuts or classes to decide yourself. Keys left out take their defaults."
     )
     write_settings(settings, out, comments=comments, header=header)
     streams.say(iv_table(classed, ledger.left_out))
@@ -326,9 +326,9 @@ def run_score(options: ScoreOptions, streams: Streams) -> int:
     write_tables_atomically(scored_batches(), options.out)
     for name, levels in unseen.items():
         shown = ", ".join(f"{level!r} ({n} rows)" for level, n in list(levels.items())[:5])
-        fallback = next(b for b in scorecard.binnings if b.characteristic == name)
+        binning = next(b for b in scorecard.binnings if b.characteristic == name)
         streams.warn(f"{source}, column {name!r}: levels never seen at build time: {shown}"
-                     f"{' and more' if len(levels) > 5 else ''}; scored as {fallback.labels[fallback.fallback_bin]!r}.")
+                     f"{' and more' if len(levels) > 5 else ''}; scored as {binning.labels[binning.unseen_bin]!r}.")
     streams.note(f"scored {summary['rows']:,} applications; scores from {summary['low']:g} to {summary['high']:g}")
     streams.say(f"written: {options.out}")
     return EXIT_OK

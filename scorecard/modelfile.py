@@ -4,7 +4,8 @@ The file holds what scoring needs (bins and points), what a reviewer needs to tr
 (coefficients, WoE, counts per sample, the settings used, the selection log), and the
 development baseline that monitoring compares new quarters with (score histogram and bin
 distributions). A SHA-256 checksum of the content guards against damage and hand edits;
-``format_version`` guards against files from a newer tool.
+``format_version`` guards against files from a newer tool; files of an older format are read
+by carrying their old names over (``scorecard.settings.renamed``).
 """
 
 from __future__ import annotations
@@ -29,10 +30,11 @@ from .points import CharacteristicPoints, PointsTable, Scaling
 from .rows import ScoreHistogram
 from .scoring import Scorecard
 from .settings import Settings, settings_from_mapping, settings_to_mapping
+from .settings.renamed import upgrade_binning, upgrade_settings
 from .terms import NUMERIC, SAMPLE_NAMES, frozen
 
 FORMAT = "scorewright-model"
-FORMAT_VERSION = 1
+FORMAT_VERSION = 2  # 2: the present names of classes, bad-rate shape and unseen bin (scorecard.settings.renamed)
 
 
 @dataclass(frozen=True)
@@ -179,12 +181,14 @@ def load_model(path: str | os.PathLike[str]) -> SavedModel:
 
 
 def _saved_model(document: Mapping[str, Any], path: Path) -> SavedModel:
+    older = document["format_version"] < FORMAT_VERSION
     try:
-        settings = settings_from_mapping(document["settings"], source=f"{path} (settings)")
+        settings_document = upgrade_settings(document["settings"]) if older else document["settings"]
+        settings = settings_from_mapping(settings_document, source=f"{path} (settings)")
         scale = Scaling(**document["scaling"])
         characteristics, binnings, bin_counts = [], [], {}
         for char in document["characteristics"]:
-            binnings.append(Binning.from_dict(char["name"], char["binning"]))
+            binnings.append(Binning.from_dict(char["name"], upgrade_binning(char["binning"]) if older else char["binning"]))
             bins = char["bins"]
             characteristics.append(CharacteristicPoints(
                 name=char["name"], labels=tuple(b["label"] for b in bins), woe=frozen([b["woe"] for b in bins]),
@@ -214,10 +218,10 @@ def _bounds(binning: Binning, index: int) -> dict[str, Any]:
             held["lower"] = None if math.isinf(edges[index]) else edges[index]
             held["upper"] = None if math.isinf(edges[index + 1]) else edges[index + 1]
         else:
-            held["levels"] = list(binning.groups[index])
+            held["levels"] = list(binning.classes[index])
     held["special_values"] = [v for v, b in zip(binning.special_values, binning.special_bins) if b == index]
     held["missing"] = binning.missing_bin == index
-    held["unseen"] = binning.fallback_bin == index
+    held["unseen"] = binning.unseen_bin == index
     return held
 
 

@@ -27,6 +27,15 @@ MOST_HONEST_FIRST = ("out-of-time", "hold-out", "development")
 # The two kinds of characteristic.
 NUMERIC, CATEGORICAL = "numeric", "categorical"
 
+# How the bad rate may move as a numeric characteristic's value grows (the settings' bad_rate_shape):
+# as the data say (the tool tries falls and rises and keeps the classing with the larger IV), it
+# falls, it rises, or in any order. WoE = ln(good share / bad share), so a bad rate that falls as
+# the value grows is a WoE that rises with it. The single-bend shapes "falls-then-rises" and
+# "rises-then-falls" are kept for a later version; the settings say so when they are asked for.
+FROM_DATA, FALLS, RISES, ANY = "from-data", "falls", "rises", "any"
+BAD_RATE_SHAPES = (FROM_DATA, FALLS, RISES, ANY)
+LATER_SHAPES = ("falls-then-rises", "rises-then-falls")
+
 # Added to both counts of a cell with no goods or no bads (WoE) or an empty bin (PSI), which keeps
 # the logarithm finite; the reports say where it was done (common practice, no source).
 EMPTY_CELL = 0.5
@@ -45,6 +54,16 @@ def most_honest(samples: Iterable[str]) -> str:
     """Return the most honest of the named samples (out-of-time, else hold-out, else development), or ''."""
     present = set(samples)
     return next((name for name in MOST_HONEST_FIRST if name in present), "")
+
+
+def shape_words(shape: str) -> str:
+    """Say a bad-rate shape in words: 'the bad rate falls as the value grows'."""
+    return {
+        FALLS: "the bad rate falls as the value grows",
+        RISES: "the bad rate rises as the value grows",
+        FROM_DATA: "the bad rate moves one way as the value grows",
+        ANY: "the bad rate may move either way",
+    }[shape]
 
 
 def value_text(value: object) -> str:

@@ -53,7 +53,7 @@ def test_the_resolved_settings_rebuild_the_same_scorecard(frame):
         warnings.simplefilter("ignore")
         first = build_scorecard(frame, _settings())
         again = build_scorecard(frame, first.settings)
-    assert all(spec.cuts is not None or spec.groups is not None for spec in first.settings.characteristics.values())
+    assert all(spec.cuts is not None or spec.classes is not None for spec in first.settings.characteristics.values())
     assert again.scorecard.table.to_frame().equals(first.scorecard.table.to_frame())
     np.testing.assert_array_equal(again.selection.fit.coefficients, first.selection.fit.coefficients)
     for name, histogram in first.histograms.items():

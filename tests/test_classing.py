@@ -1,4 +1,4 @@
-"""Tests of scorecard/classing.py: fine classing, the optimal grouping, overrides and coding rows."""
+"""Tests of scorecard/classing/: fine classing, the best classing, overrides and coding rows."""
 
 from __future__ import annotations
 
@@ -11,8 +11,8 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from scorecard.classing import (
-    Binning, GroupingLimits, binning_from_settings, categorical_binning, check_constraints, coarse_classing,
-    fine_classing, numeric_binning, optimal_grouping, quantile_cuts, roundest_between,
+    Binning, ClassLimits, binning_from_settings, categorical_binning, check_constraints, coarse_classing,
+    fine_classing, numeric_binning, best_classing, quantile_cuts, roundest_between,
 )
 from scorecard.rows import code_rows, unseen_levels
 from scorecard.terms import CATEGORICAL, NUMERIC
@@ -48,9 +48,9 @@ def test_missing_and_special_values_go_to_their_own_bins():
     assert codes.dtype == np.uint8
 
 
-def test_unseen_levels_go_to_the_fallback_bin_and_are_counted():
+def test_unseen_levels_go_to_the_unseen_bin_and_are_counted():
     binning = categorical_binning("housing", [("own",), ("rent", "other")], has_missing=True)
-    binning = Binning(**{**binning.__dict__, "fallback_bin": 1})
+    binning = Binning(**{**binning.__dict__, "unseen_bin": 1})
     values = pd.Series(["own", "rent", "boat", None, "other", "boat"])
     np.testing.assert_array_equal(code_rows(values, binning), [0, 1, 1, 2, 1, 1])
     assert unseen_levels(values, binning) == {"boat": 2}
@@ -62,8 +62,8 @@ def test_integer_and_float_levels_are_the_same_level():
     np.testing.assert_array_equal(code_rows(pd.Series([1, 2, 3]), binning), [0, 1, 1])
 
 
-def test_missing_goes_to_the_fallback_when_development_had_none():
-    binning = Binning(**{**numeric_binning("x", [5], has_missing=False).__dict__, "fallback_bin": 1})
+def test_missing_goes_to_the_unseen_bin_when_development_had_none():
+    binning = Binning(**{**numeric_binning("x", [5], has_missing=False).__dict__, "unseen_bin": 1})
     assert binning.missing_bin == -1
     np.testing.assert_array_equal(code_rows(np.array([1.0, np.nan]), binning), [0, 1])
 
@@ -102,7 +102,7 @@ def test_roundest_between(low, high, expected):
 def test_fine_classing_pools_rare_levels():
     values = pd.Series(["a"] * 500 + ["b"] * 480 + ["c"] * 15 + ["d"] * 5)
     fine = fine_classing(values, np.ones(len(values)), name="x", kind=CATEGORICAL, rare_level_share=0.02)
-    assert fine.groups == (("a",), ("b",), ("c", "d"))
+    assert fine.classes == (("a",), ("b",), ("c", "d"))
     assert fine.labels[-1] == "rare levels (2)"
 
 
@@ -116,7 +116,7 @@ def test_fine_classing_weights_the_quantiles():
 
 
 # ---------------------------------------------------------------------------------------------
-# The optimal grouping against brute force
+# The best classing against brute force
 
 
 def _all_partitions(n):
@@ -125,11 +125,11 @@ def _all_partitions(n):
             yield (0, *inner)
 
 
-def _brute_force(goods, bads, limits, trend):
+def _brute_force(goods, bads, limits, shape):
     best, best_iv = None, -np.inf
     total_goods, total_bads = goods.sum(), bads.sum()
     for starts in _all_partitions(len(goods)):
-        if len(starts) > limits.max_groups:
+        if len(starts) > limits.max_classes:
             continue
         ends = [*starts[1:], len(goods)]
         g = np.array([goods[s:e].sum() for s, e in zip(starts, ends)])
@@ -137,9 +137,10 @@ def _brute_force(goods, bads, limits, trend):
         if ((g + b) < limits.min_rows - 1e-9).any() or (g < limits.min_goods).any() or (b < limits.min_bads).any():
             continue
         woe = woe_values(g, b, total_goods, total_bads)
-        if trend == "ascending" and (np.diff(woe) <= 0).any():
+        # the bad rate falls as the value grows: WoE rises from class to class
+        if shape == "falls" and (np.diff(woe) <= 0).any():
             continue
-        if trend == "descending" and (np.diff(woe) >= 0).any():
+        if shape == "rises" and (np.diff(woe) >= 0).any():
             continue
         iv = information_value(g, b, total_goods=total_goods, total_bads=total_bads)
         if iv > best_iv + 1e-15:
@@ -157,37 +158,37 @@ def _partition_iv(starts, goods, bads):
 @given(
     counts=st.lists(st.tuples(st.integers(0, 60), st.integers(0, 20)), min_size=1, max_size=9),
     min_rows=st.integers(0, 40), min_goods=st.integers(0, 10), min_bads=st.integers(0, 5),
-    max_groups=st.integers(2, 6), trend=st.sampled_from(["ascending", "descending", "none"]),
+    max_classes=st.integers(2, 6), shape=st.sampled_from(["falls", "rises", "any"]),
 )
 @HYPOTHESIS
-def test_optimal_grouping_equals_brute_force_enumeration(counts, min_rows, min_goods, min_bads, max_groups, trend):
+def test_best_classing_equals_brute_force_enumeration(counts, min_rows, min_goods, min_bads, max_classes, shape):
     # the exact optimum of W. D. Fisher, "On grouping for maximum homogeneity", JASA 1958, with
     # constraints added, checked against enumerating every partition of the ordered bins
     goods = np.array([c[0] for c in counts], float)
     bads = np.array([c[1] for c in counts], float)
     if goods.sum() == 0 or bads.sum() == 0:
         return
-    limits = GroupingLimits(min_rows, min_goods, min_bads, max_groups)
-    starts = optimal_grouping(goods, bads, total_goods=goods.sum(), total_bads=bads.sum(), limits=limits, trend=trend)
-    expected, expected_iv = _brute_force(goods, bads, limits, trend)
+    limits = ClassLimits(min_rows, min_goods, min_bads, max_classes)
+    starts = best_classing(goods, bads, total_goods=goods.sum(), total_bads=bads.sum(), limits=limits, shape=shape)
+    expected, expected_iv = _brute_force(goods, bads, limits, shape)
     if expected is None:
         assert starts == (0,)
     else:
         assert _partition_iv(starts, goods, bads) == pytest.approx(expected_iv, abs=IV_ATOL)
 
 
-def test_unconstrained_grouping_keeps_every_bin_of_a_monotone_sequence():
+def test_unconstrained_classing_keeps_every_bin_of_a_monotone_sequence():
     # merging bins never raises IV (it is a divergence), so with no limits nothing is merged
     goods = np.array([10.0, 20, 30, 40, 50])
     bads = np.array([10.0, 8, 6, 4, 2])
-    starts = optimal_grouping(goods, bads, total_goods=150, total_bads=30, limits=GroupingLimits(max_groups=8))
+    starts = best_classing(goods, bads, total_goods=150, total_bads=30, limits=ClassLimits(max_classes=8))
     assert starts == (0, 1, 2, 3, 4)
 
 
-def test_grouping_respects_max_groups():
+def test_classing_respects_max_classes():
     goods = np.arange(1, 11, dtype=float) * 10
     bads = np.full(10, 10.0)
-    starts = optimal_grouping(goods, bads, total_goods=goods.sum(), total_bads=bads.sum(), limits=GroupingLimits(max_groups=3))
+    starts = best_classing(goods, bads, total_goods=goods.sum(), total_bads=bads.sum(), limits=ClassLimits(max_classes=3))
     assert len(starts) == 3
 
 
@@ -216,15 +217,15 @@ def test_coarse_classing_is_monotone_and_meets_every_limit():
     x, bad = _synthetic()
     fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC, special_values=[-1])
     goods, bads = _fine_counts(fine, x, bad)
-    result = coarse_classing(fine, goods, bads, min_group_share=0.05, min_goods=10, min_bads=10, max_groups=8)
+    result = coarse_classing(fine, goods, bads, min_class_share=0.05, min_goods=10, min_bads=10, max_classes=8)
     binning = result.binning
-    assert binning.trend == "ascending"  # higher x, fewer bads in this invented process
+    assert binning.bad_rate_shape == "falls"  # higher x, fewer bads in this invented process
     coarse_goods = np.bincount(result.fine_to_coarse, weights=goods, minlength=binning.n_bins)
     coarse_bads = np.bincount(result.fine_to_coarse, weights=bads, minlength=binning.n_bins)
     woe = woe_values(coarse_goods, coarse_bads, goods.sum(), bads.sum())
     assert (np.diff(woe[: binning.n_chain]) > 0).all()
-    assert check_constraints(binning, coarse_goods, coarse_bads, min_group_share=0.05, min_goods=10, min_bads=10,
-                             max_groups=8, trend="ascending") == []
+    assert check_constraints(binning, coarse_goods, coarse_bads, min_class_share=0.05, min_goods=10, min_bads=10,
+                             max_classes=8, bad_rate_shape="falls") == []
     assert "missing" in binning.labels and "special -1" in binning.labels
     assert result.iv == pytest.approx(information_value(coarse_goods, coarse_bads))
     # coding the rows with the coarse binning gives the counts aggregated from the fine bins
@@ -232,13 +233,13 @@ def test_coarse_classing_is_monotone_and_meets_every_limit():
     np.testing.assert_array_equal(np.bincount(codes[~bad], minlength=binning.n_bins), coarse_goods)
 
 
-@given(seed=st.integers(0, 10_000), share=st.sampled_from([0.02, 0.05, 0.1]), groups=st.integers(2, 8))
+@given(seed=st.integers(0, 10_000), share=st.sampled_from([0.02, 0.05, 0.1]), classes=st.integers(2, 8))
 @settings(max_examples=30, deadline=None, derandomize=True)
-def test_coarse_classing_property_monotone_and_within_limits(seed, share, groups):
+def test_coarse_classing_property_monotone_and_within_limits(seed, share, classes):
     x, bad = _synthetic(n=2000, seed=seed)
     fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC, special_values=[-1])
     goods, bads = _fine_counts(fine, x, bad)
-    result = coarse_classing(fine, goods, bads, min_group_share=share, min_goods=5, min_bads=5, max_groups=groups)
+    result = coarse_classing(fine, goods, bads, min_class_share=share, min_goods=5, min_bads=5, max_classes=classes)
     binning = result.binning
     if binning.n_chain == 1:
         return
@@ -247,14 +248,14 @@ def test_coarse_classing_property_monotone_and_within_limits(seed, share, groups
     b = np.bincount(codes[bad], minlength=binning.n_bins).astype(float)
     chain_woe = woe_values(g, b, g.sum(), b.sum())[: binning.n_chain]
     assert (np.diff(chain_woe) > 0).all() or (np.diff(chain_woe) < 0).all() or result.notes
-    assert binning.n_chain <= groups
+    assert binning.n_chain <= classes
     rows = (g + b)[: binning.n_chain]
     assert (rows >= share * (g.sum() + b.sum()) - 1e-9).all()
     # counts over bins sum to the sample totals
     assert g.sum() == (~bad).sum() and b.sum() == bad.sum()
 
 
-def test_small_missing_bin_joins_the_group_with_the_nearest_woe():
+def test_small_missing_bin_joins_the_class_with_the_nearest_woe():
     x, bad = _synthetic()
     x[np.isnan(x)] = 5.0
     x[:20] = np.nan  # 20 rows: too small to stand
@@ -266,7 +267,7 @@ def test_small_missing_bin_joins_the_group_with_the_nearest_woe():
     assert any("missing bin (20 rows" in note for note in result.notes)
 
 
-def test_categorical_levels_are_grouped_in_bad_rate_order():
+def test_categorical_levels_are_classed_in_bad_rate_order():
     rng = np.random.default_rng(5)
     levels = np.array(list("abcdefgh"))
     rate = dict(zip(levels, [0.02, 0.30, 0.05, 0.25, 0.10, 0.15, 0.04, 0.28]))
@@ -274,9 +275,9 @@ def test_categorical_levels_are_grouped_in_bad_rate_order():
     bad = rng.random(8000) < np.vectorize(rate.get)(values)
     fine = fine_classing(pd.Series(values), np.ones(8000), name="c", kind=CATEGORICAL)
     goods, bads = _fine_counts(fine, pd.Series(values), bad)
-    binning = coarse_classing(fine, goods, bads, max_groups=4).binning
+    binning = coarse_classing(fine, goods, bads, max_classes=4).binning
     assert binning.n_chain <= 4
-    order = [level for group in binning.groups for level in group]
+    order = [level for levels in binning.classes for level in levels]
     bad_rates = [rate[level] for level in order]
     assert bad_rates == sorted(bad_rates, reverse=True)  # worst first: WoE ascends along the chain
 
@@ -292,22 +293,22 @@ def test_override_cuts_are_used_as_given_and_breaks_are_reported():
     assert binning.labels == ("under 10", "10 to under 20", "20 and over", "special -1")
     goods = np.array([5.0, 50, 500, 40])
     bads = np.array([5.0, 20, 10, 30])
-    problems = check_constraints(binning, goods, bads, min_group_share=0.05, min_goods=10, min_bads=10,
-                                 max_groups=8, trend="ascending")
-    assert any("group 1 (under 10)" in p and "5 goods" in p for p in problems)
+    problems = check_constraints(binning, goods, bads, min_class_share=0.05, min_goods=10, min_bads=10,
+                                 max_classes=8, bad_rate_shape="falls")
+    assert any("class 1 (under 10)" in p and "5 goods" in p for p in problems)
 
 
-def test_override_group_number_out_of_range_is_an_error():
-    with pytest.raises(ClassingError, match="characteristics.x.missing = 4: there are only 3 groups"):
+def test_override_class_number_out_of_range_is_an_error():
+    with pytest.raises(ClassingError, match="characteristics.x.missing = 4: there are only 3 classes"):
         binning_from_settings("x", NUMERIC, cuts=[1, 2], missing=4)
 
 
 def test_override_of_the_wrong_kind_is_an_error():
-    with pytest.raises(ClassingError, match="'x' is categorical: fix its classing with groups"):
+    with pytest.raises(ClassingError, match="'x' is categorical: fix its classing with classes"):
         binning_from_settings("x", CATEGORICAL, cuts=[1, 2])
 
 
-def test_special_value_absent_in_development_goes_to_the_fallback():
+def test_special_value_absent_in_development_goes_to_the_unseen_bin():
     binning = binning_from_settings("x", NUMERIC, cuts=[1], special_values=[-1, 999], present_specials=[-1])
     assert binning.special_bins == (2, -1)
     assert binning.labels == ("under 1", "1 and over", "special -1", "missing")
@@ -317,3 +318,28 @@ def test_binning_round_trips_through_plain_values():
     binning = binning_from_settings("x", NUMERIC, cuts=[1.5, 7], special_values=[-1], missing=1)
     assert Binning.from_dict("x", binning.to_dict()) == binning
     assert math.isclose(binning.cuts[0], 1.5)
+
+
+@pytest.mark.parametrize("shape, sign", [("falls", -1), ("rises", 1)])
+def test_a_bad_rate_shape_is_how_the_bad_rate_moves_as_the_value_grows(shape, sign):
+    # the words are the analyst's: 'falls' is a bad rate that falls from class to class as the
+    # value grows (so a WoE that rises), whatever the data; 'rises' the other way round
+    x, bad = _synthetic()
+    fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC, special_values=[-1])
+    goods, bads = _fine_counts(fine, x, bad)
+    binning = coarse_classing(fine, goods, bads, min_class_share=0.02, min_goods=5, min_bads=5, max_classes=8,
+                              bad_rate_shape=shape).binning
+    codes = code_rows(x, binning)
+    chain = binning.n_chain
+    bad_rate = np.bincount(codes, weights=bad, minlength=binning.n_bins)[:chain] / np.bincount(codes, minlength=binning.n_bins)[:chain]
+    assert binning.bad_rate_shape == shape
+    if chain > 1:
+        assert (np.sign(np.diff(bad_rate)) == sign).all()
+
+
+def test_from_data_picks_the_shape_the_data_have():
+    x, bad = _synthetic()  # an invented process in which the bad rate falls as x grows
+    fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC, special_values=[-1])
+    goods, bads = _fine_counts(fine, x, bad)
+    chosen = coarse_classing(fine, goods, bads, bad_rate_shape="from-data").binning
+    assert chosen.bad_rate_shape == "falls" and chosen.n_chain > 2

@@ -83,7 +83,7 @@ def test_init_writes_a_settings_file_with_proposals(ledger_csv, tmp_path):
     characteristics = settings.characteristics
     assert characteristics["months_at_address"].kind == "numeric" and characteristics["months_at_address"].cuts
     assert characteristics["income"].kind == "numeric" and characteristics["income"].cuts
-    assert characteristics["home"].kind == "categorical" and len(characteristics["home"].groups) >= 2
+    assert characteristics["home"].kind == "categorical" and len(characteristics["home"].classes) >= 2
     text = out.read_text(encoding="utf-8")
     for name in ("months_at_address", "income", "home"):
         assert re.search(rf"\[characteristics\.{name}\]\n# IV \d\.\d{{4}} \(\w+\) on the development sample", text), name

@@ -11,17 +11,20 @@ from __future__ import annotations
 import hashlib
 import io
 import json
+from pathlib import Path
 
+import pandas as pd
 import pytest
 
 from scorecard.cli import main
+from scorecard.modelfile import load_model
 
-pytestmark = pytest.mark.slow
 
 SIGNIFICANT = 10  # well above the noise of a different BLAS, well below any change a reader would see
-# SHA-256 of the demo's figures (8000 rows, seed 2024), recorded before the layout of issue 14 and
-# unchanged by it (the model file itself was byte for byte the same before and after)
-DEMO_FIGURES = "e075a259dd6644dc3d61d0d8094f6800cf848f4ada0a80693f7b75c39f878691"
+# SHA-256 of the demo's figures (8000 rows, seed 2024), as the model file of the tool before the
+# layout of issue 14 holds them (tests/reference/demo-model-format-1.json, written by that tool)
+DEMO_FIGURES = "d94de527d8aca40f0beccbc533a55b7665076923b5438715589ca559d8e13ec7"
+FORMAT_1 = Path(__file__).parent / "reference" / "demo-model-format-1.json"
 
 
 def _numbers(value):
@@ -37,8 +40,12 @@ def _numbers(value):
 
 def figures_fingerprint(document: dict) -> str:
     """SHA-256 of every number of a model document, in order, rounded (the tool's version left out)."""
-    content = {key: value for key, value in document.items() if key not in ("tool_version", "checksum")}
+    content = {key: value for key, value in document.items() if key not in ("tool_version", "format_version", "checksum")}
     return hashlib.sha256("\n".join(_numbers(content)).encode()).hexdigest()
+
+
+def test_the_recorded_figures_are_those_of_the_model_file_the_earlier_tool_wrote():
+    assert figures_fingerprint(json.loads(FORMAT_1.read_text(encoding="utf-8"))) == DEMO_FIGURES
 
 
 @pytest.fixture(scope="module")
@@ -49,6 +56,7 @@ def demo(tmp_path_factory):
     return folder, out.getvalue()
 
 
+@pytest.mark.slow
 def test_the_demo_runs_every_step_and_names_the_files_to_open(demo):
     folder, out = demo
     assert "== step 6 of 6" in out and "== done in" in out
@@ -56,7 +64,18 @@ def test_the_demo_runs_every_step_and_names_the_files_to_open(demo):
         assert (folder / name).is_file(), name
 
 
+@pytest.mark.slow
 def test_the_demo_model_file_has_the_recorded_figures(demo):
     folder, _ = demo
     document = json.loads((folder / "build" / "model.json").read_text(encoding="utf-8"))
     assert figures_fingerprint(document) == DEMO_FIGURES
+
+
+@pytest.mark.slow
+def test_the_model_file_of_format_1_scores_the_new_applications_as_the_new_one_does(demo):
+    folder, _ = demo
+    older, newer = load_model(FORMAT_1), load_model(folder / "build" / "model.json")
+    assert older.scorecard.table.to_frame().equals(newer.scorecard.table.to_frame())
+    applications = pd.read_csv(folder / "data" / "new_applications.csv")
+    pd.testing.assert_frame_equal(older.scorecard.score(applications, reason_count=4),
+                                  newer.scorecard.score(applications, reason_count=4))

@@ -85,9 +85,9 @@ def test_every_score_is_the_sum_of_its_bins_points(credit_run):
         if binning["kind"] == "numeric":
             bins = pd.cut(values, [-np.inf, *binning["cuts"], np.inf], right=False, labels=False).to_numpy(dtype=float, copy=True)
         else:
-            level_bin = {level: i for i, group in enumerate(binning["groups"]) for level in group}
+            level_bin = {level: i for i, group in enumerate(binning["classes"]) for level in group}
             bins = values.map(level_bin).to_numpy(dtype=float, copy=True)
-        missing_bin = binning["missing_bin"] if binning["missing_bin"] >= 0 else binning["fallback_bin"]
+        missing_bin = binning["missing_bin"] if binning["missing_bin"] >= 0 else binning["unseen_bin"]
         bins[values.isna().to_numpy()] = missing_bin
         total += points[bins.astype(int)]
     scored = pd.read_csv(folder / "scored.csv")

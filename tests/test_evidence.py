@@ -10,7 +10,7 @@ import pytest
 
 from scorecard import classing
 from scorecard.classing import categorical_binning
-from scorecard.evidence import evidence_table, information_value, iv_strength, woe_values
+from scorecard.evidence import evidence_table, iv_strength, woe_values
 from scorecard.intake import prepare_ledger
 from scorecard.rows import code_rows, count_bins
 from scorecard.terms import BAD, GOOD
@@ -116,9 +116,9 @@ def test_credit_data_classed_counts_add_up_to_the_samples():
         holdout = char.evidence_on(1)
         assert holdout.sample == "hold-out"
     by_name = {c.name: c for c in classed.characteristics}
-    # the coarse groups' WoE equals a pandas group-by over the same groups
+    # the coarse classes' WoE equals a pandas group-by over the same classes
     home = by_name["Home"]
-    group_of = {level: i for i, group in enumerate(home.binning.groups) for level in group}
+    group_of = {level: i for i, group in enumerate(home.binning.classes) for level in group}
     development = frame[ledger.sample == 0].copy()
     development["group"] = development["Home"].map(group_of).fillna(home.binning.missing_bin)
     reference = development.groupby("group")["Status"].value_counts().unstack(fill_value=0)

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import warnings
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -98,3 +99,40 @@ def test_missing_model_file(tmp_path):
 
 def test_checksum_ignores_key_order():
     assert checksum({"a": 1, "b": [1.5, None]}) == checksum({"b": [1.5, None], "a": 1})
+
+
+# --------------------------------------------------------------------------------------------
+# Older model files
+
+
+FORMAT_1 = Path(__file__).parent / "reference" / "demo-model-format-1.json"
+# tests/reference/demo-model-format-1.json: the model file 'scorewright demo --rows 8000' wrote with
+# format 1 (scorewright 0.1.0 before the classing words were renamed: groups, trend, fallback_bin)
+
+
+def test_a_model_file_of_format_1_still_loads_with_the_present_names():
+    saved = load_model(FORMAT_1)
+    assert saved.document["format_version"] == 1 and FORMAT_VERSION == 2
+    classing = saved.settings.classing
+    assert (classing.bad_rate_shape, classing.max_classes, classing.min_class_share) == ("from-data", 8, 0.05)
+    old = {c["name"]: c["binning"] for c in saved.document["characteristics"]}
+    words = {"auto": "from-data", "ascending": "falls", "descending": "rises", "none": "any"}
+    for binning in saved.scorecard.binnings:
+        was = old[binning.characteristic]
+        assert binning.bad_rate_shape == words[was["trend"]]
+        assert binning.unseen_bin == was["fallback_bin"]
+        assert binning.classes == tuple(tuple(levels) for levels in was["groups"])
+    channel = next(b for b in saved.scorecard.binnings if b.characteristic == "channel")
+    scored = saved.scorecard.score(pd.DataFrame({b.characteristic: [None] for b in saved.scorecard.binnings})
+                                   .assign(channel=["a channel never seen"]), reason_count=1)
+    assert len(scored) == 1 and channel.kind == "categorical"
+
+
+def test_a_new_model_file_writes_format_2_with_the_present_names(built, tmp_path):
+    _, build = built
+    document = json.loads(save_model(model_document(build), tmp_path / "model.json").read_text(encoding="utf-8"))
+    assert document["format_version"] == 2
+    binning = document["characteristics"][0]["binning"]
+    assert {"classes", "bad_rate_shape", "unseen_bin"} <= set(binning)
+    assert not {"groups", "trend", "fallback_bin"} & set(binning)
+    assert "bad_rate_shape" in document["settings"]["classing"] and "max_classes" in document["settings"]["classing"]

@@ -109,7 +109,7 @@ def test_quarter_without_outcomes_checks_stability_only(saved, tmp_path):
     assert "calibration" not in out.split("stability only")[0]
 
 
-def test_per_quarter_trend_and_fail_on(saved, tmp_path):
+def test_per_quarter_statuses_and_fail_on(saved, tmp_path):
     frame = pd.concat([ledgers.monitor_frame(3000, 6, start="2025-01-01"), ledgers.monitor_frame(3000, 7, start="2025-04-01", bad_factor=2.0)])
     frame.to_csv(tmp_path / "q.csv", index=False)
     code, out, err = _run("monitor", str(saved[1]), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"), "--fail-on", "act")

@@ -61,10 +61,10 @@ def _built(frame, settings):
 
 @pytest.fixture(scope="module")
 def invented():
-    groups = tuple((level,) for level in LEVELS)
+    classes = tuple((level,) for level in LEVELS)
     settings = Settings().replace(
         outcome={"column": "outcome", "bad": ("bad",), "good": ("good",)},
-        characteristics={"channel": CharacteristicSettings(kind="categorical", use="always", groups=groups)},
+        characteristics={"channel": CharacteristicSettings(kind="categorical", use="always", classes=classes)},
     )
     return _built(_invented_ledger(), settings)
 

@@ -237,12 +237,12 @@ def test_without_outcomes_the_page_says_stability_only_and_shows_no_calibration_
     assert "calibration" not in [row[1] for row in parsed.table("status", "check", "figure", "threshold")]
 
 
-def test_a_dated_ledger_has_the_trend_of_every_check_by_quarter(drifted, page):
+def test_a_dated_ledger_has_every_check_by_quarter(drifted, page):
     result = drifted[0]
     parsed = pages.Page(page)
-    trend = next(t for t in parsed.tables if t and t[0][:2] == ["check", "whole ledger"])
-    assert trend[0] == ["check", "whole ledger", "2025Q1", "2025Q2"]
-    by_check = {row[0]: row[1:] for row in trend[1:]}
+    by_quarter = next(t for t in parsed.tables if t and t[0][:2] == ["check", "whole ledger"])
+    assert by_quarter[0] == ["check", "whole ledger", "2025Q1", "2025Q2"]
+    by_check = {row[0]: row[1:] for row in by_quarter[1:]}
     for period, column in zip(result.quarters, range(1, 3)):
         for s in period.statuses:
             assert by_check[s.check][column] == f"{s.status} {figure_text(s)}"
@@ -251,9 +251,9 @@ def test_a_dated_ledger_has_the_trend_of_every_check_by_quarter(drifted, page):
     assert parsed.section("quarters").count("Observed and predicted bad rate by quarter") == 1  # a chart's title
 
 
-def test_an_undated_ledger_says_why_there_is_no_trend(saved, undated):
+def test_an_undated_ledger_says_why_there_are_no_figures_by_quarter(saved, undated):
     parsed = pages.Page(_page(saved, undated))
-    assert "No trend by quarter: the ledger has no date column 'date'" in parsed.section("quarters")
+    assert "No figures by quarter: the ledger has no date column 'date'" in parsed.section("quarters")
     assert not any(t and t[0][:2] == ["check", "whole ledger"] for t in parsed.tables)
 
 

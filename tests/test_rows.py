@@ -11,7 +11,6 @@ import itertools
 
 import numpy as np
 import pandas as pd
-import pytest
 
 from scorecard.classing import categorical_binning, numeric_binning
 from scorecard.rows import (

@@ -47,10 +47,10 @@ def test_characteristics_round_trip():
             "income": CharacteristicSettings(kind="numeric", use="auto", cuts=(-1.5, 0.0, 1e-7, 1500.0, 2.5e16),
                                              special_values=(-1.0, 999.0), specials=("own", 2), missing=1),
             "home": CharacteristicSettings(kind="categorical", use="always",
-                                           groups=(("own",), ("rent", "other"), ('say "no"', "back\\slash")),
+                                           classes=(("own",), ("rent", "other"), ('say "no"', "back\\slash")),
                                            unseen=2, label="Home status", reason_code="R07"),
             "months since: last arrears": CharacteristicSettings(use="never"),
-            "ï.quoted key": CharacteristicSettings(trend="descending", cuts=(3.0,)),
+            "ï.quoted key": CharacteristicSettings(bad_rate_shape="rises", cuts=(3.0,)),
             "": CharacteristicSettings(kind="numeric"),
         },
     )
@@ -88,8 +88,8 @@ def test_random_cut_lists_round_trip(cuts):
 @given(levels=st.lists(level_names, min_size=2, max_size=10, unique=True), name=level_names, data=st.data())
 def test_random_level_names_round_trip(levels, name, data):
     split = data.draw(st.integers(min_value=1, max_value=len(levels) - 1))
-    groups = (tuple(levels[:split]), tuple(levels[split:]))
-    settings = with_characteristics(**{name: CharacteristicSettings(kind="categorical", groups=groups, label=levels[0])})
+    classes = (tuple(levels[:split]), tuple(levels[split:]))
+    settings = with_characteristics(**{name: CharacteristicSettings(kind="categorical", classes=classes, label=levels[0])})
     assert round_trip(settings) == settings
 
 
@@ -143,7 +143,7 @@ def test_missing_settings_file(tmp_path):
 
 def test_invalid_toml_names_the_file_and_line(tmp_path):
     path = tmp_path / "scorecard.toml"
-    path.write_text("[classing]\nmax_groups = = 3\n")
+    path.write_text("[classing]\nmax_classes = = 3\n")
     with pytest.raises(SettingsError, match=r"scorecard\.toml: not a valid TOML settings file: .*line 2"):
         read_settings(path)
 
@@ -158,8 +158,8 @@ def test_unknown_section_suggests_the_close_one():
 
 
 def test_unknown_key_suggests_the_close_one():
-    with pytest.raises(SettingsError, match=r"unknown key in \[classing\] 'min_group_shar'\. Did you mean 'min_group_share'\?"):
-        settings_from_mapping({"classing": {"min_group_shar": 0.05}})
+    with pytest.raises(SettingsError, match=r"unknown key in \[classing\] 'min_class_shar'\. Did you mean 'min_class_share'\?"):
+        settings_from_mapping({"classing": {"min_class_shar": 0.05}})
 
 
 def test_unknown_characteristic_key_suggests_the_close_one():
@@ -175,8 +175,8 @@ def test_unknown_key_names_the_file(tmp_path):
 
 
 @pytest.mark.parametrize(("section", "key", "value", "shown"), [
-    ("classing", "min_group_share", "five", "'five'"),
-    ("classing", "max_groups", 2.5, "2.5"),
+    ("classing", "min_class_share", "five", "'five'"),
+    ("classing", "max_classes", 2.5, "2.5"),
     ("outcome", "bad", "x", "'x'"),
     ("samples", "seed", True, "True"),
     ("characteristics.income", "cuts", [1, "2"], r"\[1, '2'\]"),
@@ -188,24 +188,24 @@ def test_wrong_type(section, key, value, shown):
 
 
 @pytest.mark.parametrize(("document", "message"), [
-    ({"classing": {"min_group_share": 0.6}}, r"classing\.min_group_share = 0\.6 is not possible: it must be a share between 0 and 0\.5"),
+    ({"classing": {"min_class_share": 0.6}}, r"classing\.min_class_share = 0\.6 is not possible: it must be a share between 0 and 0\.5"),
     ({"scaling": {"pdo": -20}}, r"scaling\.pdo = -20 is not possible: it must be a positive number"),
     ({"selection": {"p_enter": 0.5, "p_remove": 0.1}}, r"p_enter \(0\.5\) is above selection\.p_remove"),
     ({"outcome": {"column": "y"}, "ledger": {"id_column": "y"}}, r"ledger\.id_column and outcome\.column both name column .y."),
-    ({"classing": {"max_groups": 1}}, r"classing\.max_groups = 1 is not possible: it must be 2 or more"),
+    ({"classing": {"max_classes": 1}}, r"classing\.max_classes = 1 is not possible: it must be 2 or more"),
     ({"samples": {"holdout_fraction": 1.0}}, r"samples\.holdout_fraction = 1\.0 is not possible"),
-    ({"characteristics": {"home": {"groups": [["own", "rent"]]}}}, r"characteristics\.home\.groups needs at least 2 groups, got 1"),
+    ({"characteristics": {"home": {"classes": [["own", "rent"]]}}}, r"characteristics\.home\.classes needs at least 2 classes, got 1"),
     ({"characteristics": {"income": {"cuts": [30, 10, 20]}}}, r"characteristics\.income\.cuts must be strictly ascending numbers, got \[30\.0, 10\.0, 20\.0\]"),
     ({"characteristics": {"income": {"cuts": [10, 10]}}}, r"characteristics\.income\.cuts must be strictly ascending"),
     ({"checks": {"psi_watch": 0.25, "psi_act": 0.25}}, r"checks\.psi_act \(0\.25\) must be larger than checks\.psi_watch \(0\.25\)"),
     ({"checks": {"psi_watch": 0.3}}, r"checks\.psi_act \(0\.25\) must be larger than checks\.psi_watch \(0\.3\)"),
-    ({"characteristics": {"home": {"groups": [["own", "rent"], ["rent"]]}}}, r"characteristics\.home\.groups lists level 'rent' in more than one group"),
+    ({"characteristics": {"home": {"classes": [["own", "rent"], ["rent"]]}}}, r"characteristics\.home\.classes lists level 'rent' in more than one class"),
     ({"outcome": {"bad": ["1", "2"], "good": ["0", "2"]}}, r"outcome value '2' is listed both as bad and as good"),
     ({"samples": {"out_of_time_from": "2025-13-01"}}, r"samples\.out_of_time_from = '2025-13-01' is not possible: it must be an ISO date"),
     ({"samples": {"out_of_time_from": "20250701"}}, r"samples\.out_of_time_from = '20250701' is not possible"),
     ({"samples": {"out_of_time_from": "next July"}}, r"samples\.out_of_time_from = 'next July' is not possible"),
-    ({"characteristics": {"x": {"cuts": [1], "groups": [["a"], ["b"]]}}}, r"characteristics\.x has both cuts and groups"),
-    ({"characteristics": {"x": {"missing": 0}}}, r"characteristics\.x\.missing = 0 is not possible: group numbers start at 1"),
+    ({"characteristics": {"x": {"cuts": [1], "classes": [["a"], ["b"]]}}}, r"characteristics\.x has both cuts and classes"),
+    ({"characteristics": {"x": {"missing": 0}}}, r"characteristics\.x\.missing = 0 is not possible: class numbers start at 1"),
 ])
 def test_impossible_values(document, message):
     with pytest.raises(SettingsError, match=message):
@@ -287,3 +287,46 @@ def test_an_edit_that_breaks_the_file_leaves_it_untouched(tmp_path):
     with pytest.raises(SettingsError, match="samples.seed = -1 is not possible"):
         edit_settings(path, {"samples.seed": -1})
     assert path.read_text(encoding="utf-8") == "[samples]\nseed = 3\n"
+
+
+# --------------------------------------------------------------------------------------------
+# Old names: refused with the new one named, never read under a guess
+
+
+@pytest.mark.parametrize("document, message", [
+    ({"classing": {"trend": "ascending"}},
+     r"\[classing\] trend is an old name: the key is now bad_rate_shape\. Write bad_rate_shape = \"falls\" instead "
+     r"\('ascending' there means 'falls'\)"),
+    ({"classing": {"max_groups": 6}}, r"\[classing\] max_groups is an old name: the key is now max_classes\. Write max_classes = 6"),
+    ({"classing": {"min_group_share": 0.1}}, r"\[classing\] min_group_share is an old name: the key is now min_class_share"),
+    ({"characteristics": {"age": {"trend": "descending"}}},
+     r"\[characteristics\.age\] trend is an old name: the key is now bad_rate_shape\. Write bad_rate_shape = \"rises\""),
+    ({"characteristics": {"home": {"groups": [["own"], ["rent"]]}}},
+     r"\[characteristics\.home\] groups is an old name: the key is now classes\. Write classes = \[\[\"own\"\], \[\"rent\"\]\]"),
+])
+def test_an_old_key_is_refused_naming_the_new_one(document, message):
+    with pytest.raises(SettingsError, match=message):
+        settings_from_mapping(document, source="scorecard.toml")
+
+
+@pytest.mark.parametrize("value, message", [
+    ("ascending", "'ascending' is the old word; the shape it meant is 'falls'"),
+    ("none", "'none' is the old word; the shape it meant is 'any'"),
+    ("falls-then-rises", "'falls-then-rises' is kept for a later version of the tool"),
+])
+def test_an_old_or_later_bad_rate_shape_says_what_it_means(value, message):
+    with pytest.raises(SettingsError, match=f"must be one of from-data, falls, rises, any. {message}"):
+        settings_from_mapping({"classing": {"bad_rate_shape": value}})
+
+
+def test_a_settings_file_with_an_old_key_stops_the_build_with_exit_code_2(tmp_path):
+    import io
+
+    from scorecard.cli import main
+
+    path = tmp_path / "old.toml"
+    path.write_text('[ledger]\npath = "ledger.csv"\n\n[classing]\ntrend = "auto"\n', encoding="utf-8")
+    err = io.StringIO()
+    assert main(["build", str(path)], stdout=io.StringIO(), stderr=err) == 2
+    assert err.getvalue() == (f"scorewright: error: {path}: [classing] trend is an old name: the key is now bad_rate_shape. "
+                              "Write bad_rate_shape = \"from-data\" instead ('auto' there means 'from-data'), then run again.\n")

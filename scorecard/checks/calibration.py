@@ -502,7 +502,7 @@ def _check_line_exists(pd: np.ndarray, goods: np.ndarray, bads: np.ndarray) -> N
             f"slope can be fitted; the line needs weight at two or more distinct PDs."
         )
     bad_pd, good_pd = pd[bads > 0], pd[goods > 0]
-    # With one covariate, goods and bads are (quasi-)separated exactly when one group's PDs all lie
+    # With one covariate, goods and bads are (quasi-)separated exactly when the PDs of one outcome all lie
     # on one side of the other's (A. Albert, J. A. Anderson, Biometrika 71, 1984).
     if bad_pd.min() >= good_pd.max() or bad_pd.max() <= good_pd.min():
         raise FitError(

@@ -7,17 +7,17 @@
 - ``passes``: classing a whole ledger in passes over its rows (``class_ledger``).
 """
 
-from .best import CoarseClassing, GroupingLimits, coarse_classing, optimal_grouping, worst_bin
+from .best import CoarseClassing, ClassLimits, coarse_classing, best_classing, worst_bin
 from .bins import (
-    MISSING_LABEL, RARE_LABEL, Binning, categorical_binning, format_number, group_label, interval_labels, numeric_binning,
+    MISSING_LABEL, RARE_LABEL, Binning, categorical_binning, format_number, class_label, interval_labels, numeric_binning,
 )
 from .fine import fine_classing, quantile_cuts, roundest_between
-from .overrides import binning_from_settings, check_constraints, classing_settings_values, resolve_fallback
+from .overrides import binning_from_settings, check_constraints, classing_settings_values, resolve_unseen
 from .passes import ClassedCharacteristic, ClassedLedger, class_ledger
 
 __all__ = [
-    "MISSING_LABEL", "RARE_LABEL", "Binning", "ClassedCharacteristic", "ClassedLedger", "CoarseClassing", "GroupingLimits",
+    "MISSING_LABEL", "RARE_LABEL", "Binning", "ClassedCharacteristic", "ClassedLedger", "CoarseClassing", "ClassLimits",
     "binning_from_settings", "categorical_binning", "check_constraints", "class_ledger", "classing_settings_values",
-    "coarse_classing", "fine_classing", "format_number", "group_label", "interval_labels", "numeric_binning",
-    "optimal_grouping", "quantile_cuts", "resolve_fallback", "roundest_between", "worst_bin",
+    "coarse_classing", "fine_classing", "format_number", "class_label", "interval_labels", "numeric_binning",
+    "best_classing", "quantile_cuts", "resolve_unseen", "roundest_between", "worst_bin",
 ]

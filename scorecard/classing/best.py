@@ -1,10 +1,10 @@
 """The best classing: the monotone partition of the fine bins with the largest information value.
 
-Coarse classing groups adjacent fine bins into the partition with the largest information value
-that keeps WoE monotone and every group large enough: an exact dynamic programme over the ordered
-fine bins (W. D. Fisher, "On grouping for maximum homogeneity", JASA 53, 1958, with constraints
-added), not a greedy merge. Missing and special-value bins stand alone, or join the group nearest
-in WoE when they are too small.
+Coarse classing joins adjacent fine bins into the classes with the largest information value
+that keep the bad rate to its shape (falling or rising as the value grows) and every class large
+enough: an exact dynamic programme over the ordered fine bins, not a greedy merge (W. D. Fisher,
+"On grouping for maximum homogeneity", JASA 53, 1958, with constraints added). Missing and
+special-value bins stand alone, or join the class nearest in WoE when they are too small.
 """
 
 from __future__ import annotations
@@ -15,7 +15,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..evidence import information_value, woe_values
-from ..terms import CATEGORICAL, EMPTY_CELL, NUMERIC
+from ..terms import ANY, CATEGORICAL, EMPTY_CELL, FALLS, FROM_DATA, NUMERIC, RISES, shape_words
 from .bins import MISSING_LABEL, Binning, categorical_binning, format_number, numeric_binning
 
 
@@ -30,19 +30,19 @@ class CoarseClassing:
 
 
 @dataclass(frozen=True)
-class GroupingLimits:
+class ClassLimits:
     """Constraints of coarse classing, in counts (weighted rows for share, raw rows for goods/bads)."""
 
     min_rows: float = 0.0
     min_goods: int = 0
     min_bads: int = 0
-    max_groups: int = 8
+    max_classes: int = 8
 
 
-def optimal_grouping(goods: np.ndarray, bads: np.ndarray, *, total_goods: float, total_bads: float,
+def best_classing(goods: np.ndarray, bads: np.ndarray, *, total_goods: float, total_bads: float,
                      n_goods: np.ndarray | None = None, n_bads: np.ndarray | None = None,
-                     limits: GroupingLimits = GroupingLimits(), trend: str = "ascending") -> tuple[int, ...]:
-    """Group an ordered sequence of bins into the contiguous groups with the largest IV.
+                     limits: ClassLimits = ClassLimits(), shape: str = FALLS) -> tuple[int, ...]:
+    """Join an ordered sequence of bins into the contiguous classes with the largest IV.
 
     Parameters
     ----------
@@ -52,36 +52,37 @@ def optimal_grouping(goods: np.ndarray, bads: np.ndarray, *, total_goods: float,
         Totals of the whole characteristic (shares are taken of these).
     n_goods, n_bads : numpy.ndarray, optional
         Raw counts for the minimum-count limits (default: the weighted counts).
-    limits : GroupingLimits
-    trend : {'ascending', 'descending', 'none'}
-        Required strict order of the groups' WoE along the sequence.
+    limits : ClassLimits
+    shape : {'falls', 'rises', 'any'}
+        How the bad rate must move from class to class along the sequence: 'falls' asks for a
+        strictly rising WoE, 'rises' for a strictly falling one, 'any' for no order.
 
     Returns
     -------
     tuple of int
-        The start index of each group (the first is 0). A single group ``(0,)`` when no
+        The start index of each class (the first is 0). A single class ``(0,)`` when no
         partition meets the limits.
 
     Notes
     -----
-    IV is a sum over groups, so the best partition of bins ``[0, k)`` whose last group is
-    ``[j, k)`` extends the best partition of ``[0, j)`` whose last group ``[i, j)`` has a WoE on
-    the right side of ``[j, k)``'s. Tracking the last group makes the monotone constraint exact:
-    O(G n^3) for n bins and at most G groups (Fisher 1958, with constraints added).
+    IV is a sum over classes, so the best partition of bins ``[0, k)`` whose last class is
+    ``[j, k)`` extends the best partition of ``[0, j)`` whose last class ``[i, j)`` has a WoE on
+    the right side of ``[j, k)``'s. Tracking the last class makes the monotone constraint exact:
+    O(G n^3) for n bins and at most G classes (Fisher 1958, with constraints added).
     """
     n = len(goods)
     n_goods = goods if n_goods is None else n_goods
     n_bads = bads if n_bads is None else n_bads
     woe, iv, feasible = _segment_tables(goods, bads, n_goods, n_bads, total_goods, total_bads, limits)
-    # best[g, i, j]: largest IV of bins [0, j) in g+1 groups whose last group is [i, j)
-    best = np.full((limits.max_groups, n + 1, n + 1), -np.inf)
+    # best[g, i, j]: largest IV of bins [0, j) in g+1 classes whose last class is [i, j)
+    best = np.full((limits.max_classes, n + 1, n + 1), -np.inf)
     best[0, 0, :] = np.where(feasible[0, :], iv[0, :], -np.inf)
-    for g in range(1, limits.max_groups):
+    for g in range(1, limits.max_classes):
         for j in range(1, n):
-            previous = best[g - 1, :, j]  # over i: last group [i, j)
+            previous = best[g - 1, :, j]  # over i: last class [i, j)
             if not np.isfinite(previous).any():
                 continue
-            allowed = _order_allowed(woe[:, j][:, None], woe[j, :][None, :], trend)
+            allowed = _order_allowed(woe[:, j][:, None], woe[j, :][None, :], shape)
             candidates = np.where(allowed, previous[:, None], -np.inf)
             value = candidates.max(axis=0) + iv[j, :]
             best[g, j, :] = np.where(feasible[j, :], value, -np.inf)
@@ -89,7 +90,7 @@ def optimal_grouping(goods: np.ndarray, bads: np.ndarray, *, total_goods: float,
     if not np.isfinite(finals).any():
         return (0,)
     g, i = np.unravel_index(np.argmax(finals), finals.shape)
-    return _backtrack(best, woe, iv, int(g), int(i), n, trend)
+    return _backtrack(best, woe, iv, int(g), int(i), n, shape)
 
 
 def _segment_tables(goods, bads, n_goods, n_bads, total_goods, total_bads, limits):
@@ -111,21 +112,22 @@ def _segment_tables(goods, bads, n_goods, n_bads, total_goods, total_bads, limit
     return woe, iv, feasible
 
 
-def _order_allowed(before: np.ndarray, after: np.ndarray, trend: str) -> np.ndarray:
+def _order_allowed(before: np.ndarray, after: np.ndarray, shape: str) -> np.ndarray:
+    # a bad rate that falls is a WoE that rises
     with np.errstate(invalid="ignore"):
-        if trend == "ascending":
+        if shape == FALLS:
             return before < after
-        if trend == "descending":
+        if shape == RISES:
             return before > after
     return np.isfinite(before) & np.isfinite(after)
 
 
-def _backtrack(best, woe, iv, g, i, n, trend) -> tuple[int, ...]:
+def _backtrack(best, woe, iv, g, i, n, shape) -> tuple[int, ...]:
     starts, j, k = [i], i, n
     while g > 0:
         target = best[g, j, k] - iv[j, k]
         previous = best[g - 1, :, j]
-        allowed = _order_allowed(woe[:, j], np.full(len(previous), woe[j, k]), trend)
+        allowed = _order_allowed(woe[:, j], np.full(len(previous), woe[j, k]), shape)
         candidates = np.where(allowed, previous, -np.inf)
         i = int(np.argmin(np.abs(candidates - target)))
         starts.append(i)
@@ -134,10 +136,10 @@ def _backtrack(best, woe, iv, g, i, n, trend) -> tuple[int, ...]:
 
 
 def coarse_classing(fine: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goods: np.ndarray | None = None,
-                    n_bads: np.ndarray | None = None, min_group_share: float = 0.05, min_goods: int = 10,
-                    min_bads: int = 10, max_groups: int = 8, min_special_share: float = 0.01,
-                    trend: str = "auto") -> CoarseClassing:
-    """Group a fine binning's bins into the monotone partition with the largest information value.
+                    n_bads: np.ndarray | None = None, min_class_share: float = 0.05, min_goods: int = 10,
+                    min_bads: int = 10, max_classes: int = 8, min_special_share: float = 0.01,
+                    bad_rate_shape: str = FROM_DATA) -> CoarseClassing:
+    """Join a fine binning's bins into the classes with the largest information value that keep the bad rate's shape.
 
     Parameters
     ----------
@@ -147,13 +149,14 @@ def coarse_classing(fine: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goo
         Weighted goods and bads of each fine bin (development sample).
     n_goods, n_bads : numpy.ndarray, optional
         Raw counts, for the minimum-count limits (default: the weighted counts).
-    min_group_share, min_goods, min_bads, max_groups : limits of each chain group
+    min_class_share, min_goods, min_bads, max_classes : limits of each class of the chain
     min_special_share : float
         Missing and special bins smaller than this share, or with fewer goods or bads than the
-        limits, are merged into the chain group with the nearest WoE.
-    trend : {'auto', 'ascending', 'descending', 'none'}
-        Numeric characteristics only; categorical levels are ordered by WoE, so their groups are
-        monotone by construction. 'auto' takes the direction with the larger IV.
+        limits, are merged into the class of the chain with the nearest WoE.
+    bad_rate_shape : {'from-data', 'falls', 'rises', 'any'}
+        How the bad rate may move as the value grows; numeric characteristics only (categorical
+        levels are ordered by WoE, so their classes are monotone by construction). 'from-data'
+        takes whichever of 'falls' and 'rises' gives the larger IV.
 
     Returns
     -------
@@ -163,28 +166,28 @@ def coarse_classing(fine: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goo
     n_goods = goods if n_goods is None else np.asarray(n_goods, float)
     n_bads = bads if n_bads is None else np.asarray(n_bads, float)
     total_goods, total_bads = goods.sum(), bads.sum()
-    limits = GroupingLimits(min_group_share * (total_goods + total_bads), min_goods, min_bads, max_groups)
+    limits = ClassLimits(min_class_share * (total_goods + total_bads), min_goods, min_bads, max_classes)
     chain = _chain_order(fine, goods, bads, total_goods, total_bads)
     chain_goods, chain_bads = goods[chain], bads[chain]
     kwargs = dict(total_goods=total_goods, total_bads=total_bads, n_goods=n_goods[chain], n_bads=n_bads[chain], limits=limits)
-    directions = ["ascending"] if fine.kind == CATEGORICAL else (["ascending", "descending"] if trend == "auto" else [trend])
-    options = [(optimal_grouping(chain_goods, chain_bads, trend=d, **kwargs), d) for d in directions]
-    starts, direction = max(options, key=lambda o: _partition_iv(o[0], chain_goods, chain_bads, total_goods, total_bads))
+    shapes = [FALLS] if fine.kind == CATEGORICAL else ([FALLS, RISES] if bad_rate_shape == FROM_DATA else [bad_rate_shape])
+    options = [(best_classing(chain_goods, chain_bads, shape=shape, **kwargs), shape) for shape in shapes]
+    starts, shape = max(options, key=lambda o: _partition_iv(o[0], chain_goods, chain_bads, total_goods, total_bads))
     if fine.kind == CATEGORICAL:
-        direction = "none"
+        shape = ANY
     notes = [] if len(starts) > 1 or len(chain) < 2 else [
-        f"{fine.characteristic!r}: no grouping of its {len(chain)} fine bins meets the limits; it has a single group."
+        f"{fine.characteristic!r}: no classing of its {len(chain)} fine bins meets the limits; it has a single class."
     ]
     fine_to_coarse = np.empty(fine.n_bins, dtype=np.int64)
-    group_of_chain = np.searchsorted(np.asarray(starts), np.arange(len(chain)), side="right") - 1
-    fine_to_coarse[chain] = group_of_chain
-    binning = _coarse_binning(fine, chain, starts, direction)
+    class_of_chain = np.searchsorted(np.asarray(starts), np.arange(len(chain)), side="right") - 1
+    fine_to_coarse[chain] = class_of_chain
+    binning = _coarse_binning(fine, chain, starts, shape)
     own = _place_own_bins(fine, binning, fine_to_coarse, goods, bads, n_goods, n_bads, total_goods, total_bads,
                           min_special_share, min_goods, min_bads, notes)
     binning = own
     coarse_goods = np.bincount(fine_to_coarse, weights=goods, minlength=binning.n_bins)
     coarse_bads = np.bincount(fine_to_coarse, weights=bads, minlength=binning.n_bins)
-    binning = replace(binning, fallback_bin=worst_bin(coarse_goods, coarse_bads))
+    binning = replace(binning, unseen_bin=worst_bin(coarse_goods, coarse_bads))
     iv = information_value(coarse_goods, coarse_bads)
     fine_to_coarse.setflags(write=False)
     return CoarseClassing(binning, fine_to_coarse, iv, tuple(notes))
@@ -200,26 +203,26 @@ def _chain_order(fine: Binning, goods, bads, total_goods, total_bads) -> np.ndar
 
 
 def _partition_iv(starts, goods, bads, total_goods, total_bads) -> float:
-    group = np.searchsorted(np.asarray(starts), np.arange(len(goods)), side="right") - 1
-    g = np.bincount(group, weights=goods)
-    b = np.bincount(group, weights=bads)
+    member = np.searchsorted(np.asarray(starts), np.arange(len(goods)), side="right") - 1
+    g = np.bincount(member, weights=goods)
+    b = np.bincount(member, weights=bads)
     return information_value(g, b, total_goods=total_goods, total_bads=total_bads)
 
 
-def _coarse_binning(fine: Binning, chain: np.ndarray, starts: Sequence[int], trend: str) -> Binning:
+def _coarse_binning(fine: Binning, chain: np.ndarray, starts: Sequence[int], shape: str) -> Binning:
     ends = [*starts[1:], len(chain)]
     if fine.kind == NUMERIC:
         cuts = tuple(fine.cuts[start - 1] for start in starts[1:])
-        return numeric_binning(fine.characteristic, cuts, has_missing=False, trend=trend)
-    groups = [tuple(level for fine_bin in chain[s:e] for level in fine.groups[fine_bin]) for s, e in zip(starts, ends)]
-    return categorical_binning(fine.characteristic, groups, has_missing=False, trend=trend)
+        return numeric_binning(fine.characteristic, cuts, has_missing=False, bad_rate_shape=shape)
+    classes = [tuple(level for fine_bin in chain[s:e] for level in fine.classes[fine_bin]) for s, e in zip(starts, ends)]
+    return categorical_binning(fine.characteristic, classes, has_missing=False, bad_rate_shape=shape)
 
 
 def _place_own_bins(fine, coarse, fine_to_coarse, goods, bads, n_goods, n_bads, total_goods, total_bads,
                     min_share, min_goods, min_bads, notes) -> Binning:
-    """Keep missing and special bins on their own, or merge small ones into the nearest-WoE group.
+    """Keep missing and special bins on their own, or merge small ones into the nearest-WoE class.
 
-    Of the groups a small bin could join, the nearest in WoE that keeps the chain's WoE order is
+    Of the classes a small bin could join, the nearest in WoE that keeps the chain's WoE order is
     taken; only when none keeps it is the nearest taken anyway, and the note says so.
     """
     total = total_goods + total_bads
@@ -238,16 +241,17 @@ def _place_own_bins(fine, coarse, fine_to_coarse, goods, bads, n_goods, n_bads, 
             labels.append(label)
             targets[fine_bin] = len(labels) - 1
         else:
-            target, keeps_order = _nearest_group(chain_goods, chain_bads, goods[fine_bin], bads[fine_bin],
-                                                 total_goods, total_bads, coarse.trend)
+            target, keeps_order = _nearest_class(chain_goods, chain_bads, goods[fine_bin], bads[fine_bin],
+                                                 total_goods, total_bads, coarse.bad_rate_shape)
             chain_goods[target] += goods[fine_bin]
             chain_bads[target] += bads[fine_bin]
             targets[fine_bin] = target
             notes.append(
                 f"{fine.characteristic!r}: the {label} bin ({_rows(goods[fine_bin] + bads[fine_bin])} of the development "
-                f"sample, {_count(n_bads[fine_bin], 'bad')}) is too small to stand alone; it joins group {target + 1} "
+                f"sample, {_count(n_bads[fine_bin], 'bad')}) is too small to stand alone; it joins class {target + 1} "
                 f"({coarse.labels[target]}), whose WoE is nearest"
-                + ("." if keeps_order else f"; no group could take it without breaking the {coarse.trend} WoE order.")
+                + ("." if keeps_order else f"; no class could take it and keep the shape its classing has "
+                                           f"({shape_words(coarse.bad_rate_shape)}).")
             )
         fine_to_coarse[fine_bin] = targets[fine_bin]
     special_bins = tuple(targets[b] for b in fine.special_bins)
@@ -256,22 +260,22 @@ def _place_own_bins(fine, coarse, fine_to_coarse, goods, bads, n_goods, n_bads, 
                    special_bins=special_bins, missing_bin=missing_bin)
 
 
-def _nearest_group(chain_goods, chain_bads, goods, bads, total_goods, total_bads, trend) -> tuple[int, bool]:
-    """Return the group nearest in WoE whose joining keeps the chain's order, and whether one did."""
+def _nearest_class(chain_goods, chain_bads, goods, bads, total_goods, total_bads, shape) -> tuple[int, bool]:
+    """Return the class nearest in WoE whose joining keeps the chain's order, and whether one did."""
     chain_woe = woe_values(chain_goods, chain_bads, total_goods, total_bads)
     own_woe = woe_values(np.array([goods]), np.array([bads]), total_goods, total_bads)[0]
     order = np.argsort(np.abs(chain_woe - own_woe), kind="stable")
-    for group in order:
-        woe = woe_values(chain_goods + goods * (np.arange(len(chain_goods)) == group),
-                         chain_bads + bads * (np.arange(len(chain_bads)) == group), total_goods, total_bads)
+    for candidate in order:
+        woe = woe_values(chain_goods + goods * (np.arange(len(chain_goods)) == candidate),
+                         chain_bads + bads * (np.arange(len(chain_bads)) == candidate), total_goods, total_bads)
         steps = np.diff(woe)
-        if trend == "none" or (trend == "ascending" and (steps > 0).all()) or (trend == "descending" and (steps < 0).all()):
-            return int(group), True
+        if shape == ANY or (shape == FALLS and (steps > 0).all()) or (shape == RISES and (steps < 0).all()):
+            return int(candidate), True
     return int(order[0]), False
 
 
 def worst_bin(goods: np.ndarray, bads: np.ndarray) -> int:
-    """Return the bin with the lowest WoE among bins that hold rows (the conservative fallback)."""
+    """Return the bin with the lowest WoE among bins that hold rows (where unseen values go unless the settings say otherwise)."""
     goods, bads = np.asarray(goods, float), np.asarray(bads, float)
     woe = woe_values(goods, bads, goods.sum(), bads.sum())
     woe = np.where(goods + bads > 0, woe, np.inf)

@@ -1,10 +1,11 @@
 """Binnings: where every value of a characteristic goes, and the plain-language label of each bin.
 
 A ``Binning`` says which bin every possible value of a characteristic falls in. Numeric
-characteristics are cut into intervals ``[c_i, c_{i+1})``; categorical ones are grouped by level.
-Missing values and each declared special value get bins of their own (or join a group). Bins are
-numbered: the ordered chain of intervals or groups first, then special-value bins, then the
-missing bin. Rows are put in their bins by ``scorecard.rows.code_rows``.
+characteristics are cut into intervals ``[c_i, c_{i+1})``; categorical ones are classed by level.
+Missing values and each declared special value get bins of their own (or join a class). Bins are
+numbered: the ordered chain of intervals or classes first, then special-value bins, then the
+missing bin. Values never seen at build time go to the unseen bin. Rows are put in their bins by
+``scorecard.rows.code_rows``.
 """
 
 from __future__ import annotations
@@ -12,7 +13,7 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
-from ..terms import CATEGORICAL, NUMERIC
+from ..terms import ANY, CATEGORICAL, NUMERIC
 
 MISSING_LABEL = "missing"
 RARE_LABEL = "rare levels"
@@ -27,34 +28,35 @@ class Binning:
     characteristic, kind : str
     cuts : tuple of float
         Numeric: ascending cut points; interval i is ``[cuts[i-1], cuts[i])``, open at both ends.
-    groups : tuple of tuple of str
-        Categorical: the levels of each group, in chain order.
+    classes : tuple of tuple of str
+        Categorical: the levels of each class, in chain order.
     special_values : tuple of float
         Numeric codes with a meaning of their own.
     special_bins : tuple of int
         The bin of each special value (its own bin, or a chain bin it joined); -1 sends it to the
-        fallback bin (the value never occurred at build time).
+        unseen bin (the value never occurred at build time).
     missing_bin : int
-        The bin of missing values; -1 sends them to the fallback bin.
-    fallback_bin : int
+        The bin of missing values; -1 sends them to the unseen bin.
+    unseen_bin : int
         The bin of values never seen at build time (unseen levels; missing or a special value when
         the development sample had none).
     labels : tuple of str
         One plain-language label per bin.
-    trend : str
-        'ascending', 'descending' or 'none': the WoE order across the chain.
+    bad_rate_shape : str
+        How the bad rate moves along the chain as the value grows: 'falls', 'rises', 'any' (no
+        order), or 'from-data' for a classing fixed in the settings (``scorecard.terms``).
     """
 
     characteristic: str
     kind: str
     cuts: tuple[float, ...] = ()
-    groups: tuple[tuple[str, ...], ...] = ()
+    classes: tuple[tuple[str, ...], ...] = ()
     special_values: tuple[float, ...] = ()
     special_bins: tuple[int, ...] = ()
     missing_bin: int = -1
-    fallback_bin: int = 0
+    unseen_bin: int = 0
     labels: tuple[str, ...] = ()
-    trend: str = "none"
+    bad_rate_shape: str = ANY
 
     @property
     def n_bins(self) -> int:
@@ -63,21 +65,21 @@ class Binning:
 
     @property
     def n_chain(self) -> int:
-        """Number of ordered bins (intervals or level groups), before special and missing bins."""
-        return len(self.cuts) + 1 if self.kind == NUMERIC else len(self.groups)
+        """Number of ordered bins (intervals or classes of levels), before special and missing bins."""
+        return len(self.cuts) + 1 if self.kind == NUMERIC else len(self.classes)
 
     @property
     def levels(self) -> tuple[str, ...]:
         """Every categorical level the binning knows."""
-        return tuple(level for group in self.groups for level in group)
+        return tuple(level for levels in self.classes for level in levels)
 
     def to_dict(self) -> dict[str, object]:
         """Return the binning as plain values (for the model file)."""
         return {
-            "kind": self.kind, "cuts": list(self.cuts), "groups": [list(g) for g in self.groups],
+            "kind": self.kind, "cuts": list(self.cuts), "classes": [list(g) for g in self.classes],
             "special_values": list(self.special_values), "special_bins": list(self.special_bins),
-            "missing_bin": self.missing_bin, "fallback_bin": self.fallback_bin,
-            "labels": list(self.labels), "trend": self.trend,
+            "missing_bin": self.missing_bin, "unseen_bin": self.unseen_bin,
+            "labels": list(self.labels), "bad_rate_shape": self.bad_rate_shape,
         }
 
     @classmethod
@@ -85,21 +87,21 @@ class Binning:
         """Rebuild a binning from ``to_dict`` output."""
         return cls(
             characteristic=characteristic, kind=str(data["kind"]),
-            cuts=tuple(float(c) for c in data["cuts"]), groups=tuple(tuple(g) for g in data["groups"]),
+            cuts=tuple(float(c) for c in data["cuts"]), classes=tuple(tuple(g) for g in data["classes"]),
             special_values=tuple(float(v) for v in data["special_values"]),
             special_bins=tuple(int(b) for b in data["special_bins"]), missing_bin=int(data["missing_bin"]),
-            fallback_bin=int(data["fallback_bin"]), labels=tuple(data["labels"]), trend=str(data["trend"]),
+            unseen_bin=int(data["unseen_bin"]), labels=tuple(data["labels"]), bad_rate_shape=str(data["bad_rate_shape"]),
         )
 
 
 def numeric_binning(name: str, cuts: Sequence[float], *, special_values: Sequence[float] = (),
                     special_bins: Sequence[int | None] | None = None, has_missing: bool = True,
-                    missing_bin: int | None = None, trend: str = "none") -> Binning:
+                    missing_bin: int | None = None, bad_rate_shape: str = ANY) -> Binning:
     """Return a numeric binning.
 
-    ``special_bins`` gives, per special value, None (a bin of its own), -1 (the fallback bin: the
+    ``special_bins`` gives, per special value, None (a bin of its own), -1 (the unseen bin: the
     value never occurred in development) or the chain bin it joins. ``missing_bin`` None gives
-    missing values a bin of their own when ``has_missing``, else the fallback bin.
+    missing values a bin of their own when ``has_missing``, else the unseen bin.
     """
     labels = interval_labels(cuts)
     targets = list(special_bins) if special_bins is not None else [None] * len(special_values)
@@ -111,24 +113,24 @@ def numeric_binning(name: str, cuts: Sequence[float], *, special_values: Sequenc
         special_targets.append(int(target))
     missing = _missing_bin(labels, has_missing, missing_bin)
     return Binning(name, NUMERIC, cuts=tuple(float(c) for c in cuts), special_values=tuple(float(v) for v in special_values),
-                   special_bins=tuple(special_targets), missing_bin=missing, fallback_bin=0, labels=tuple(labels),
-                   trend=trend)
+                   special_bins=tuple(special_targets), missing_bin=missing, unseen_bin=0, labels=tuple(labels),
+                   bad_rate_shape=bad_rate_shape)
 
 
-def categorical_binning(name: str, groups: Sequence[Sequence[str]], *, has_missing: bool = True,
-                        missing_bin: int | None = None, rare_group: int | None = None, trend: str = "none") -> Binning:
-    """Return a categorical binning; missing gets its own bin unless given one (-1: the fallback)."""
-    labels = [group_label(group) for group in groups]
-    if rare_group is not None:
-        labels[rare_group] = f"{RARE_LABEL} ({len(groups[rare_group])})"
+def categorical_binning(name: str, classes: Sequence[Sequence[str]], *, has_missing: bool = True,
+                        missing_bin: int | None = None, rare_class: int | None = None, bad_rate_shape: str = ANY) -> Binning:
+    """Return a categorical binning; missing gets its own bin unless given one (-1: the unseen bin)."""
+    labels = [class_label(levels) for levels in classes]
+    if rare_class is not None:
+        labels[rare_class] = f"{RARE_LABEL} ({len(classes[rare_class])})"
     missing = _missing_bin(labels, has_missing, missing_bin)
-    fallback = rare_group if rare_group is not None else 0
-    return Binning(name, CATEGORICAL, groups=tuple(tuple(str(v) for v in g) for g in groups),
-                   missing_bin=missing, fallback_bin=fallback, labels=tuple(labels), trend=trend)
+    unseen = rare_class if rare_class is not None else 0
+    return Binning(name, CATEGORICAL, classes=tuple(tuple(str(v) for v in levels) for levels in classes),
+                   missing_bin=missing, unseen_bin=unseen, labels=tuple(labels), bad_rate_shape=bad_rate_shape)
 
 
 def _missing_bin(labels: list[str], has_missing: bool, missing_bin: int | None) -> int:
-    """Append a missing bin to ``labels`` when it needs one; return the missing bin (-1: fallback)."""
+    """Append a missing bin to ``labels`` when it needs one; return the missing bin (-1: the unseen bin)."""
     if missing_bin is not None:
         return int(missing_bin)
     if not has_missing:
@@ -146,8 +148,8 @@ def interval_labels(cuts: Sequence[float]) -> list[str]:
     return [f"under {text[0]}", *middle, f"{text[-1]} and over"]
 
 
-def group_label(levels: Sequence[str]) -> str:
-    """Return a group's label: its levels joined by commas."""
+def class_label(levels: Sequence[str]) -> str:
+    """Return a class's label: its levels joined by commas."""
     return ", ".join(str(level) for level in levels)
 
 

@@ -51,9 +51,9 @@ def fine_classing(values: pd.Series | np.ndarray, weights: np.ndarray, *, name: 
     order = np.argsort(-totals, kind="stable")
     common = tuple((uniques[i],) for i in order if share[i] >= rare_level_share)
     rare = tuple(uniques[i] for i in order if share[i] < rare_level_share)
-    groups = common + ((rare,) if rare else ())
-    return categorical_binning(name, groups, has_missing=bool((level_codes < 0).any()),
-                               rare_group=len(common) if rare else None)
+    classes = common + ((rare,) if rare else ())
+    return categorical_binning(name, classes, has_missing=bool((level_codes < 0).any()),
+                               rare_class=len(common) if rare else None)
 
 
 def quantile_cuts(x: np.ndarray, weights: np.ndarray, *, max_bins: int) -> tuple[float, ...]:

@@ -25,7 +25,7 @@ from .best import coarse_classing
 from .bins import Binning
 from .fine import fine_classing
 from .overrides import (
-    binning_from_settings, check_constraints, code_mapping, development_counts, resolve_fallback, without_empty_bins,
+    binning_from_settings, check_constraints, code_mapping, development_counts, resolve_unseen, without_empty_bins,
 )
 
 
@@ -36,7 +36,7 @@ class ClassedCharacteristic:
     binning: Binning
     counts: BinCounts
     evidence: EvidenceTable
-    origin: str  # "settings" (fixed by the analyst) or "proposed" (optimal grouping)
+    origin: str  # "settings" (fixed by the analyst) or "proposed" (the best classing)
     notes: tuple[str, ...]
 
     @property
@@ -141,7 +141,7 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
 
 def _is_fixed(settings: Settings, name: str) -> bool:
     spec = settings.characteristic(name)
-    return spec.cuts is not None or spec.groups is not None
+    return spec.cuts is not None or spec.classes is not None
 
 
 def _fine_sample(rows: np.ndarray, settings: Settings) -> np.ndarray:
@@ -160,18 +160,18 @@ def _fine_binning(values, weights, char: Characteristic, settings: Settings) -> 
 
 
 def _coarse(fine: Binning, counts: BinCounts, settings: Settings) -> tuple[Binning, tuple[str, ...]]:
-    """The optimal grouping of a fine binning, from its development counts (the unknown bin left aside)."""
+    """The best classing of a fine binning, from its development counts (the unseen bin left aside)."""
     classing = settings.classing
     spec = settings.characteristic(fine.characteristic)
     known = slice(0, fine.n_bins)
     coarse = coarse_classing(
         fine, counts.goods()[known], counts.bads()[known], n_goods=counts.n_goods()[known], n_bads=counts.n_bads()[known],
-        min_group_share=classing.min_group_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
-        max_groups=classing.max_groups, min_special_share=classing.min_special_share, trend=spec.trend or classing.trend,
+        min_class_share=classing.min_class_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
+        max_classes=classing.max_classes, min_special_share=classing.min_special_share, bad_rate_shape=spec.bad_rate_shape or classing.bad_rate_shape,
     )
     binning = coarse.binning
     if spec.unseen != "worst":
-        binning = resolve_fallback(binning, [], [], spec.unseen)
+        binning = resolve_unseen(binning, [], [], spec.unseen)
     return binning, coarse.notes
 
 
@@ -179,39 +179,39 @@ def _provisional(char: Characteristic, settings: Settings) -> Binning:
     """The settings' classing with own bins for every special value and for missing values."""
     spec = settings.characteristic(char.name)
     return binning_from_settings(
-        char.name, char.kind, cuts=spec.cuts, groups=spec.groups, special_values=char.special_values,
+        char.name, char.kind, cuts=spec.cuts, classes=spec.classes, special_values=char.special_values,
         specials=spec.specials, missing=spec.missing, present_specials=char.special_values, has_missing=True,
-        trend=spec.trend or settings.classing.trend,
+        bad_rate_shape=spec.bad_rate_shape or settings.classing.bad_rate_shape,
     )
 
 
-def _finish(binning: Binning, counts: BinCounts, stray: Mapping[str, int], origin: str, settings: Settings, *,
+def _finish(binning: Binning, counts: BinCounts, unseen: Mapping[str, int], origin: str, settings: Settings, *,
             notes: Sequence[str] = ()):
     """Complete a binning from its counts; return the classed characteristic and the code mapping."""
     spec = settings.characteristic(binning.characteristic)
     notes = list(notes)
     if origin == "settings":
         final = without_empty_bins(binning, counts)
-        final = resolve_fallback(final, *development_counts(counts, binning, final), spec.unseen)
+        final = resolve_unseen(final, *development_counts(counts, binning, final), spec.unseen)
     else:
         final = binning
     mapping = code_mapping(binning, final)
     final_counts = counts.regroup(mapping, final.labels)
-    if stray and origin == "settings":
-        shown = ", ".join(f"{level!r} ({n} rows)" for level, n in list(stray.items())[:5])
+    if unseen and origin == "settings":
+        shown = ", ".join(f"{level!r} ({n} rows)" for level, n in list(unseen.items())[:5])
         notes.append(
-            f"{binning.characteristic!r}: levels {shown} are in no group of the settings; they go to group "
-            f"{final.fallback_bin + 1} ({final.labels[final.fallback_bin]}). Add them to a group to decide yourself."
+            f"{binning.characteristic!r}: levels {shown} are in no class of the settings; they go to class "
+            f"{final.unseen_bin + 1} ({final.labels[final.unseen_bin]}). Add them to a class to decide yourself."
         )
     if origin == "settings":
         classing = settings.classing
         broken = check_constraints(
             final, final_counts.goods(), final_counts.bads(), n_goods=final_counts.n_goods(), n_bads=final_counts.n_bads(),
-            min_group_share=classing.min_group_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
-            max_groups=classing.max_groups, trend=spec.trend or classing.trend,
+            min_class_share=classing.min_class_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
+            max_classes=classing.max_classes, bad_rate_shape=spec.bad_rate_shape or classing.bad_rate_shape,
         )
         notes += [f"the classing written in the settings breaks a constraint on this development sample: {problem}. "
-                  "Change its cuts or groups, or remove them for a new proposal." for problem in broken]
+                  "Change its cuts or classes, or remove them for a new proposal." for problem in broken]
     return _classed(final, final_counts, origin, tuple(notes), settings), mapping
 
 
@@ -225,6 +225,6 @@ def _classed(binning: Binning, counts: BinCounts, origin: str, notes, settings: 
     if adjusted:
         notes.append(
             f"{binning.characteristic!r}: bins {', '.join(map(repr, adjusted))} have no goods or no bads in development; "
-            "0.5 was added to both counts to keep their WoE finite. Group them with a neighbour to avoid this."
+            "0.5 was added to both counts to keep their WoE finite. Join them to a neighbouring class to avoid this."
         )
     return ClassedCharacteristic(binning, counts, evidence, origin, tuple(notes))

@@ -345,11 +345,11 @@ def _separation_message(characteristics: list[str], patterns: Patterns, determin
     if len(characteristics) == 1:
         subject = f"characteristic {characteristics[0]!r} separates"
         rule = "a single cut on it"
-        todo = "Group its bins more coarsely or drop it."
+        todo = "Class its bins more coarsely or drop it."
     else:
         subject = f"characteristics {quoted(characteristics)} together separate"
         rule = "a weighted sum of them, cut at one value,"
-        todo = "Group their bins more coarsely or drop one of them."
+        todo = "Class their bins more coarsely or drop one of them."
     if determined.all():
         where = f"{rule} puts every good on one side and every bad on the other (all {n_rows} rows that carry weight)"
     else:
@@ -382,5 +382,5 @@ def numerically_singular_message(singular: SingularInformation, names: tuple[str
     return (
         f"the information matrix is numerically singular, so the coefficients cannot be told apart"
         f"{which}. They are nearly linearly dependent{separation}. Drop or merge characteristics, "
-        f"group bins more coarsely, or fit with a small l2 penalty."
+        f"class bins more coarsely, or fit with a small l2 penalty."
     )

@@ -25,7 +25,7 @@ IDENTIFIER_SHARE = 0.95
 
 
 IDENTIFIER_MIN_ROWS = 20
-NUMBERS_SHARE = 0.95  # a text column whose values are nearly all numbers is numbers with stray text
+NUMBERS_SHARE = 0.95  # a text column whose values are nearly all numbers is numbers with a few values typed as text
 
 
 def role_columns(frame: pd.DataFrame, settings: Settings, source: str, require_outcome: bool) -> set[str]:
@@ -72,7 +72,7 @@ def choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[s
             continue
         kind = spec.kind or detect_kind(series)
         if not spec.kind and kind == CATEGORICAL:
-            _refuse_numbers_with_stray_text(series, name, source)
+            _refuse_numbers_with_some_text(series, name, source)
         if spec.use == "" and (why := looks_like_identifier_or_date(series, kind)):
             left_out[name] = f"{why}; set use = \"auto\" under [characteristics.{name}] to keep it"
             continue
@@ -156,7 +156,7 @@ def check_finite(frame: pd.DataFrame, characteristics: Sequence[Characteristic],
             )
 
 
-def _refuse_numbers_with_stray_text(series: pd.Series, name: str, source: str) -> None:
+def _refuse_numbers_with_some_text(series: pd.Series, name: str, source: str) -> None:
     """Raise LedgerError when a text column holds numbers but for a few values (typed in by hand, say).
 
     Read as text, such a column would become a category with a level per number: a silent, wrong
@@ -169,10 +169,10 @@ def _refuse_numbers_with_stray_text(series: pd.Series, name: str, source: str) -
     if pd.to_numeric(sample, errors="coerce").notna().mean() < NUMBERS_SHARE:
         return
     numbers = pd.to_numeric(series, errors="coerce")
-    stray = (numbers.isna() & series.notna()).to_numpy()
-    if stray.mean() > 1 - NUMBERS_SHARE or not stray.any():
+    texts = (numbers.isna() & series.notna()).to_numpy()
+    if texts.mean() > 1 - NUMBERS_SHARE or not texts.any():
         return
-    rows = np.flatnonzero(stray)
+    rows = np.flatnonzero(texts)
     shown = ", ".join(repr(plain(v)) for v in pd.unique(series.iloc[rows[:50]])[:3])
     raise LedgerError(
         f"{source}, column {name!r}, {describe_rows((rows + 2).tolist())}: the column holds numbers, but these rows "

@@ -167,7 +167,7 @@ def _purpose(build) -> str:
         f"and the points add up to a score from {score_text(table.min_score, table.decimals)} to "
         f"{score_text(table.max_score, table.decimals)}: the higher the score, the lower the risk. The scorecard was "
         f"fitted on past applications in the ledger {build.source} whose outcome is known. What follows is the evidence a "
-        f"model reviewer needs: how the data were split, how each characteristic was grouped and chosen, how "
+        f"model reviewer needs: how the data were split, how each characteristic was classed and chosen, how "
         f"well the score separates good loans from bad ones, and how well its predicted default rates "
         f"match what happened, on every sample."
     )
@@ -467,7 +467,7 @@ def _points(build) -> dict:
     for characteristic in table.characteristics:
         for number, (label, points) in enumerate(zip(characteristic.labels, characteristic.points)):
             rows.append([characteristic.name if number == 0 else "", label, score_text(points, table.decimals)])
-            css.append("group-start" if number == 0 else "")
+            css.append("characteristic-start" if number == 0 else "")
     points = text_table(["characteristic", "bin", "points"], rows, numeric=(2,), row_css=css, css="points-table")
     k = len(table.names)
     scaling = [

@@ -220,41 +220,41 @@ def score_distribution(labels: Sequence[str], goods: Sequence[float], bads: Sequ
     """
     goods, bads = np.asarray(goods, float), np.asarray(bads, float)
     shares = {"goods": goods / goods.sum(), "bads": bads / bads.sum()}
-    return grouped_columns(labels, shares, colours=(GOOD_COLOUR, BAD_COLOUR), x_label="score band",
+    return clustered_columns(labels, shares, colours=(GOOD_COLOUR, BAD_COLOUR), x_label="score band",
                            y_label="share of goods or of bads", title=title, percent=True,
                            width=width, height=height)
 
 
-def grouped_columns(labels: Sequence[str], groups: Mapping[str, Sequence[float]], *, x_label: str, y_label: str,
+def clustered_columns(labels: Sequence[str], series: Mapping[str, Sequence[float]], *, x_label: str, y_label: str,
                     title: str, colours: Sequence[str] = SERIES_COLOURS, percent: bool = False,
                     width: float = WIDTH, height: float = HEIGHT) -> str:
-    """Return vertical columns, one group of columns per label and one colour per group name.
+    """Return vertical columns, one cluster of columns per label and one colour per series.
 
     Parameters
     ----------
     labels : sequence of str
         One per position on the x axis.
-    groups : mapping of str to sequence of float
+    series : mapping of str to sequence of float
         Name (legend) to one non-negative value per label.
     x_label, y_label, title : str
     colours : sequence of str
-        One per group.
+        One per series.
     percent : bool
         Label the value ticks as percentages.
     """
-    values = np.array([np.asarray(v, float) for v in groups.values()])
+    values = np.array([np.asarray(v, float) for v in series.values()])
     ticks = nice_ticks(0.0, float(values.max()) if values.size else 1.0)
     frame = _category_frame(labels, width, height, (ticks[0], ticks[-1]))
     parts = [_horizontal_grid(frame, ticks, percent=percent), _category_axis(frame, labels),
              _axis_titles(frame, x_label, y_label)]
     slot = frame.x(1.0) - frame.x(0.0)
     column = 0.8 * slot / max(len(values), 1)
-    for number, (name, row) in enumerate(zip(groups, values)):
+    for number, (name, row) in enumerate(zip(series, values)):
         for position, value in enumerate(row):
             x = frame.x(position) + 0.1 * slot + number * column
             parts.append(_rect(x, frame.y(value), column - 1, frame.y(0.0) - frame.y(value), colours[number],
                                tooltip=f"{labels[position]}: {name} {_tick_text(value, 0.001, percent)}"))
-    parts.append(_legend(frame, [(name, colours[n], "") for n, name in enumerate(groups)], swatch="block"))
+    parts.append(_legend(frame, [(name, colours[n], "") for n, name in enumerate(series)], swatch="block"))
     return _svg(width, height, title, parts)
 
 

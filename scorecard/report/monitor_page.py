@@ -3,7 +3,7 @@
 ``render_monitor`` turns a ``scorecard.monitor.MonitorResult`` into the page; ``write_monitor``
 writes it. The page leads with the overall status (ok, watch or act) and the checks that set it,
 each with its figure and its threshold, and then gives the detail: stability, discrimination and
-calibration where outcomes are known, the trend per calendar quarter, how the statuses are set,
+calibration where outcomes are known, every check per calendar quarter, how the statuses are set,
 the cautions, and what identifies the model and the ledger.
 
 Like the build report, the page carries its own style and its charts as inline SVG, refers to
@@ -224,7 +224,7 @@ def _stability(result: MonitorResult) -> dict:
     score_status = by_check["score stability"]
     labels = list(score.labels)
     shares = captioned_chart(
-        charts.grouped_columns(labels, {"development": score.expected_share, NEW: score.actual_share},
+        charts.clustered_columns(labels, {"development": score.expected_share, NEW: score.actual_share},
                                x_label="score band", y_label="share of applications", percent=True, width=460,
                                title="Share of applications per score band, development and new"),
         "Share of all applications in each score band fixed on the development sample: development against the "
@@ -281,7 +281,7 @@ def _unseen_table(unseen) -> Table | None:
         return None
     return text_table(["characteristic", "level never seen at build time", "rows"], rows, numeric=(2,),
                       caption="Levels of the new ledger that the development sample did not have. The scorecard "
-                              "scores them in the bin its settings give to unknown levels; check that bin suits them.")
+                              "scores them in the unseen bin its settings give; check that bin suits them.")
 
 
 # --------------------------------------------------------------------------------------------
@@ -410,10 +410,10 @@ def _quarters(result: MonitorResult, saved: SavedModel) -> dict:
     summary = text_table(["quarter", "applications", "goods", "bads", "observed bad rate", "predicted bad rate",
                           "score PSI", "AUC", "status"], summary_rows, numeric=range(1, 8),
                          caption="Each calendar quarter of the ledger on its own, against the development sample.")
-    return {"dated": True, "summary": summary, "checks": _trend_table(result), "charts": _trend_charts(result)}
+    return {"dated": True, "summary": summary, "checks": _quarter_table(result), "charts": _quarter_charts(result)}
 
 
-def _trend_table(result: MonitorResult) -> Table:
+def _quarter_table(result: MonitorResult) -> Table:
     periods = [result.overall, *result.quarters]
     names = list(dict.fromkeys(s.check for p in periods for s in p.statuses))
     by_period = [{s.check: s for s in p.statuses} for p in periods]
@@ -426,18 +426,18 @@ def _trend_table(result: MonitorResult) -> Table:
                          if status else "not checked")
         rows.append(cells)
     return text_table(["check", "whole ledger", *(q.period for q in result.quarters)], rows,
-                      numeric=range(1, len(periods) + 1), css="trend",
+                      numeric=range(1, len(periods) + 1), css="by-quarter",
                       caption="Every check's status and figure, for the whole ledger and each quarter. Levels never "
                               "seen at build time are counted over the whole ledger only.")
 
 
-def _trend_charts(result: MonitorResult) -> list:
+def _quarter_charts(result: MonitorResult) -> list:
     quarters = result.quarters
     labels = [q.period for q in quarters]
     psi = {"score": [q.score_stability.value for q in quarters],
            "largest of the characteristics": [max((c.psi.value for c in q.characteristics), default=0.0) for q in quarters]}
     found = [captioned_chart(
-        charts.grouped_columns(labels, psi, x_label="quarter", y_label="PSI against development",
+        charts.clustered_columns(labels, psi, x_label="quarter", y_label="PSI against development",
                                title="Score PSI and the largest characteristic PSI by quarter", width=460),
         f"PSI of the score and the largest PSI of any model characteristic, per quarter "
         f"(watch from {result.checks.psi_watch:g}, act from {result.checks.psi_act:g}).")]
@@ -446,7 +446,7 @@ def _trend_charts(result: MonitorResult) -> list:
         rates = {"observed": [q.outcomes.in_the_large.observed_rate for q in known],
                  "predicted": [q.outcomes.in_the_large.expected_rate for q in known]}
         found.append(captioned_chart(
-            charts.grouped_columns([q.period for q in known], rates, x_label="quarter", y_label="bad rate",
+            charts.clustered_columns([q.period for q in known], rates, x_label="quarter", y_label="bad rate",
                                    colours=(charts.BAD_COLOUR, charts.MUTED), percent=True, width=460,
                                    title="Observed and predicted bad rate by quarter"),
             "Observed bad rate of each quarter's goods and bads against the mean PD their scores predict."))

@@ -242,24 +242,24 @@ def _stability_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> No
 
 @dataclass(frozen=True)
 class _PsiBlock(Placed):
-    """A placed PSI table, with the first and last sheet row of each group's bins."""
+    """A placed PSI table, with the first and last sheet row of each block of bins."""
 
     blocks: tuple[tuple[int, int], ...] = ()
 
 
-def _psi_block(sheet: Worksheet, groups, *, column: int, label: str, counts: str, caption: str):
+def _psi_block(sheet: Worksheet, tables, *, column: int, label: str, counts: str, caption: str):
     """Write the bins of one or more PSIs: counts and shares as values, contributions as formulas.
 
-    ``groups`` is a sequence of (characteristic name or "", PsiResult). With one unnamed group (the
+    ``tables`` is a sequence of (characteristic name or "", PsiResult). With one unnamed table (the
     score) a total row carries the PSI as the SUM of the contributions.
     """
-    named = any(name for name, _ in groups)
+    named = any(name for name, _ in tables)
     headers = (["Characteristic"] if named else []) + [label, "Count (development)", "Count (new)",
                                                        "Share (development)", "Share (new)", "PSI contribution",
                                                        "Empty-cell addition"]
     letters = {header: get_column_letter(column + i) for i, header in enumerate(headers)}
     rows, blocks, row = [], [], HEADER_ROW + 1
-    for name, result in groups:
+    for name, result in tables:
         first = row
         for bin_label, expected, actual, e_share, a_share, adjusted in zip(
                 result.labels, result.expected_counts, result.actual_counts, result.expected_share,

@@ -21,7 +21,7 @@ if TYPE_CHECKING:  # the binning and the points table are data handed in; rows i
     from ..points import PointsTable
 
 # the label of the bin a counting pass adds after a binning's own, for values the binning does not know
-UNSEEN_LABEL = "(not in any group)"
+UNSEEN_LABEL = "(not in any class)"
 
 
 def code_rows(values: pd.Series | np.ndarray, binning: Binning, *, unseen_code: int | None = None) -> np.ndarray:
@@ -33,7 +33,7 @@ def code_rows(values: pd.Series | np.ndarray, binning: Binning, *, unseen_code: 
         The characteristic's column.
     binning : Binning
     unseen_code : int, optional
-        Code given to values the binning has never seen (default: ``binning.fallback_bin``).
+        Code given to values the binning has never seen (default: ``binning.unseen_bin``).
 
     Returns
     -------
@@ -45,7 +45,7 @@ def code_rows(values: pd.Series | np.ndarray, binning: Binning, *, unseen_code: 
     Numeric: ``searchsorted(cuts, x, side='right')`` puts x in ``[cuts[i-1], cuts[i])``, the same
     intervals as ``pandas.cut(x, [-inf, *cuts, inf], right=False)``.
     """
-    unseen = binning.fallback_bin if unseen_code is None else unseen_code
+    unseen = binning.unseen_bin if unseen_code is None else unseen_code
     dtype = np.uint8 if max(binning.n_bins, unseen + 1) <= 255 else np.uint16
     missing = unseen if binning.missing_bin < 0 else binning.missing_bin
     if binning.kind == NUMERIC:
@@ -56,7 +56,7 @@ def code_rows(values: pd.Series | np.ndarray, binning: Binning, *, unseen_code: 
         codes[np.isnan(x)] = missing
         return codes
     level_codes, uniques = factorize_levels(values)
-    known = {level: bin_ for bin_, group in enumerate(binning.groups) for level in group}
+    known = {level: bin_ for bin_, levels in enumerate(binning.classes) for level in levels}
     lookup = np.array([known.get(level, unseen) for level in uniques] + [missing], dtype=dtype)
     return lookup[level_codes]  # the missing sentinel -1 picks the last entry
 

@@ -2,7 +2,7 @@
 
 Everything after intake works on count tables, so the statistics never see rows. The functions
 here turn bin codes (and scores) into those tables with ``numpy.bincount`` and ``numpy.unique``;
-an engine that groups and counts elsewhere (an embedded SQL engine, a cluster) only has to
+an engine that counts elsewhere (an embedded SQL engine, a cluster) only has to
 produce the same tables (see ``scorecard.rows``).
 
 - ``BinCounts``: one characteristic's bins × (sample, outcome), weighted and raw.

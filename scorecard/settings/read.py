@@ -16,6 +16,8 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import SettingsError
+from ..terms import LATER_SHAPES
+from .renamed import RENAMED_SHAPES, renamed_key, renamed_key_message
 from .schema import SECTIONS, CharacteristicSettings, Settings
 
 
@@ -85,6 +87,8 @@ def _section(cls: type, table: Any, source: str, where: str) -> Any:
     fields = {f.name: f for f in dataclasses.fields(cls)}
     values = {}
     for key, value in table.items():
+        if key not in fields and (new := renamed_key(where, key)):
+            raise SettingsError(renamed_key_message(source, where, key, new, value))
         if key not in fields:
             raise SettingsError(_unknown(source, key, list(fields), where=f"key in [{where}]"))
         values[key] = _coerce(fields[key], value, source, f"{where}.{key}")
@@ -101,8 +105,20 @@ def _coerce(spec: dataclasses.Field, value: Any, source: str, where: str) -> Any
         )
     check, need = spec.metadata.get("check"), spec.metadata.get("need")
     if check is not None and not check(converted):
-        raise SettingsError(f"{source}: {where} = {value!r} is not possible: it must be {need}. Correct it in the settings file.")
+        raise SettingsError(f"{source}: {where} = {value!r} is not possible: it must be {need}.{_hint(spec.name, value)} "
+                            "Correct it in the settings file.")
     return converted
+
+
+def _hint(key: str, value: Any) -> str:
+    """What an impossible bad_rate_shape most likely meant: an old value, or a shape of a later version."""
+    if key != "bad_rate_shape":
+        return ""
+    if value in RENAMED_SHAPES:
+        return f" {value!r} is the old word; the shape it meant is {RENAMED_SHAPES[value]!r}."
+    if value in LATER_SHAPES:
+        return f" {value!r} is kept for a later version of the tool."
+    return ""
 
 
 _WRONG = object()
@@ -143,12 +159,12 @@ def _describe_type(wanted: str) -> str:
         "int": "a whole number",
         "float": "a number",
         "bool": "true or false",
-        "str | int": "'own' or a group number",
+        "str | int": "'own' or a class number",
         "tuple[str, ...]": "a list of values, e.g. [\"a\", \"b\"]",
         "tuple[float, ...]": "a list of numbers, e.g. [-1, 999]",
         "tuple[float, ...] | None": "a list of numbers, e.g. [12, 36, 60]",
         "tuple[tuple[str, ...], ...] | None": "a list of lists of levels, e.g. [[\"own\"], [\"rent\", \"other\"]]",
-        "tuple[str | int, ...]": "a list of 'own' or group numbers",
+        "tuple[str | int, ...]": "a list of 'own' or class numbers",
     }[wanted]
 
 
@@ -186,20 +202,20 @@ def _check_consistency(settings: Settings, source: str) -> None:
         if char.cuts is not None:
             if list(char.cuts) != sorted(set(char.cuts)):
                 raise SettingsError(f"{source}: {where}.cuts must be strictly ascending numbers, got {list(char.cuts)}.")
-        if char.groups is not None:
-            if len(char.groups) < 2:
-                raise SettingsError(f"{source}: {where}.groups needs at least 2 groups, got {len(char.groups)}.")
-            levels = [level for group in char.groups for level in group]
+        if char.classes is not None:
+            if len(char.classes) < 2:
+                raise SettingsError(f"{source}: {where}.classes needs at least 2 classes, got {len(char.classes)}.")
+            levels = [level for class_levels in char.classes for level in class_levels]
             repeated = sorted({level for level in levels if levels.count(level) > 1})
             if repeated:
-                raise SettingsError(f"{source}: {where}.groups lists level {repeated[0]!r} in more than one group. Keep it in one.")
-        if char.cuts is not None and char.groups is not None:
-            raise SettingsError(f"{source}: {where} has both cuts and groups; a numeric characteristic takes cuts, a categorical one groups.")
+                raise SettingsError(f"{source}: {where}.classes lists level {repeated[0]!r} in more than one class. Keep it in one.")
+        if char.cuts is not None and char.classes is not None:
+            raise SettingsError(f"{source}: {where} has both cuts and classes; a numeric characteristic takes cuts, a categorical one classes.")
         for key, value in [("missing", char.missing), ("unseen", char.unseen), *(("specials", v) for v in char.specials)]:
             if isinstance(value, str) and value not in ("own", "worst"):
-                raise SettingsError(f"{source}: {where}.{key} = {value!r} is not possible: use 'own' or a group number (1 = first).")
+                raise SettingsError(f"{source}: {where}.{key} = {value!r} is not possible: use 'own' or a class number (1 = first).")
             if isinstance(value, int) and value < 1:
-                raise SettingsError(f"{source}: {where}.{key} = {value} is not possible: group numbers start at 1.")
+                raise SettingsError(f"{source}: {where}.{key} = {value} is not possible: class numbers start at 1.")
         if char.specials and len(char.specials) != len(char.special_values):
             raise SettingsError(f"{source}: {where}.specials has {len(char.specials)} entries but special_values has {len(char.special_values)}; give one per special value.")
 

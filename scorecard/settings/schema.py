@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from ..terms import ACT_P, ACT_PSI, LEAKAGE_IV, WATCH_P, WATCH_PSI
+from ..terms import ACT_P, ACT_PSI, BAD_RATE_SHAPES, FROM_DATA, LEAKAGE_IV, WATCH_P, WATCH_PSI
 from .text import toml_value
 
 
@@ -100,19 +100,20 @@ class ClassingSettings:
         0.01, "categorical levels rarer than this share of rows are pooled into one bin for rare levels",
         _share, "a share between 0 and 1",
     )
-    min_group_share: float = _key(
-        0.05, "each group holds at least this share of rows", lambda v: 0 <= v <= 0.5, "a share between 0 and 0.5 (two groups must fit)",
+    min_class_share: float = _key(
+        0.05, "each class holds at least this share of rows", lambda v: 0 <= v <= 0.5, "a share between 0 and 0.5 (two classes must fit)",
     )
-    min_goods: int = _key(10, "each group holds at least this many goods", lambda v: v >= 0, "a whole number >= 0")
-    min_bads: int = _key(10, "each group holds at least this many bads", lambda v: v >= 0, "a whole number >= 0")
-    max_groups: int = _key(8, "most groups per characteristic (missing and special bins not counted)", lambda v: v >= 2, "2 or more")
+    min_goods: int = _key(10, "each class holds at least this many goods", lambda v: v >= 0, "a whole number >= 0")
+    min_bads: int = _key(10, "each class holds at least this many bads", lambda v: v >= 0, "a whole number >= 0")
+    max_classes: int = _key(8, "most classes per characteristic (missing and special bins not counted)", lambda v: v >= 2, "2 or more")
     min_special_share: float = _key(
-        0.01, "a missing or special-value bin smaller than this share is merged into the group with the nearest WoE",
+        0.01, "a missing or special-value bin smaller than this share is merged into the class with the nearest WoE",
         _share, "a share between 0 and 1",
     )
-    trend: str = _key(
-        "auto", "WoE trend across a numeric characteristic: auto, ascending, descending or none",
-        _one_of("auto", "ascending", "descending", "none"), "one of auto, ascending, descending, none",
+    bad_rate_shape: str = _key(
+        FROM_DATA, "how the bad rate may move as a numeric characteristic's value grows: from-data (the tool chooses "
+        "falls or rises, whichever gives the larger IV), falls, rises, or any (no order imposed)",
+        _one_of(*BAD_RATE_SHAPES), "one of " + ", ".join(BAD_RATE_SHAPES),
     )
 
 
@@ -126,12 +127,15 @@ class CharacteristicSettings:
         _one_of("", "auto", "always", "never"), "one of auto, always, never",
     )
     special_values: tuple[float, ...] = _key((), "numeric codes with a meaning of their own (e.g. -1 = no record); each gets its own bin")
-    trend: str = _key("", "WoE trend for this characteristic (blank: the [classing] default)", _one_of("", "auto", "ascending", "descending", "none"), "one of auto, ascending, descending, none or blank")
-    cuts: tuple[float, ...] | None = _key(None, "numeric cut points, ascending: groups are 'under c1', 'c1 to under c2', ..., 'ck and over'")
-    groups: tuple[tuple[str, ...], ...] | None = _key(None, "categorical groups: a list of lists of levels")
-    missing: str | int = _key("own", "'own' (a bin of its own) or the number of the group it joins (1 = first)")
-    specials: tuple[str | int, ...] = _key((), "per special value, 'own' or the number of the group it joins")
-    unseen: str | int = _key("worst", "where levels never seen at build time go: 'worst' (lowest WoE) or a group number")
+    bad_rate_shape: str = _key(
+        "", "how the bad rate may move as this characteristic's value grows (blank: the [classing] default)",
+        _one_of("", *BAD_RATE_SHAPES), "one of " + ", ".join(BAD_RATE_SHAPES) + " or blank",
+    )
+    cuts: tuple[float, ...] | None = _key(None, "numeric cut points, ascending: classes are 'under c1', 'c1 to under c2', ..., 'ck and over'")
+    classes: tuple[tuple[str, ...], ...] | None = _key(None, "categorical classes: a list of lists of levels")
+    missing: str | int = _key("own", "'own' (a bin of its own) or the number of the class it joins (1 = first)")
+    specials: tuple[str | int, ...] = _key((), "per special value, 'own' or the number of the class it joins")
+    unseen: str | int = _key("worst", "where levels never seen at build time go: 'worst' (lowest WoE) or a class number")
     label: str = _key("", "plain-language reason text for this characteristic (blank: made from its name)")
     note: str = _key("", "the analyst's reason for a decision about this characteristic; the reports show it")
     reason_code: str = _key("", "stable code of this characteristic's reason (blank: R01, R02, ... in ledger order)")
