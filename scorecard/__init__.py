@@ -35,7 +35,7 @@ _PUBLIC = {
     "EvidenceTable": "evidence", "evidence_table": "evidence", "information_value": "evidence", "woe_values": "evidence",
     # fit, selection, points, scoring, checks
     "fit_logistic": "fitter", "FitResult": "fitter", "select_characteristics": "selection",
-    "SelectionResult": "selection", "scaling": "points", "points_table": "points", "PointsTable": "points",
+    "SelectionResult": "selection", "ScreenTest": "selection", "scaling": "points", "points_table": "points", "PointsTable": "points",
     "Scorecard": "scoring", "validate_build": "validation", "Validation": "validation",
     # the build, the model file, monitoring
     "build_scorecard": "build", "Build": "build",

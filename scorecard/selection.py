@@ -1,11 +1,14 @@
 """Choosing the characteristics of the model, with every decision and its reason on record.
 
-The steps, in order: characteristics the settings force out never enter; the IV screen; the
-leakage flag; of two WoE columns correlated above the threshold, the one with the lower IV
-leaves; stepwise choice (forward, backward or both, by p-value or by BIC); and the reversal
-check: a characteristic whose coefficient comes out negative (a reversal of its WoE's meaning)
-is removed and the model refitted, unless the settings force it in. All of it works on the
-development pattern table; no rows are read.
+The steps, in order: characteristics the settings force out never enter; the IV screen (a
+verdict, or only a proposal the stepwise choice may overrule); the leakage flag; of two WoE
+columns correlated above the threshold, the one with the lower IV leaves; stepwise choice
+(forward, backward or both, by p-value or by BIC); and the reversal check: a characteristic
+whose coefficient comes out negative (a reversal of its WoE's meaning) is removed and the model
+refitted, unless the settings force it in. Last, every characteristic under the screen's IV that
+is not in the model gets a score test against the final model, so that a characteristic the
+screen left out but that would still add significant discrimination is never dropped silently.
+All of it works on the development pattern table; no rows are read.
 """
 
 from __future__ import annotations
@@ -32,10 +35,11 @@ class Decision:
     ----------
     step : str
         'intake' or 'settings' (a column left out before selection), 'forced', 'screen', 'leakage',
-        'correlation', 'stepwise' or 'reversal'.
+        'correlation', 'stepwise', 'reversal' or 'screen test' (a characteristic under the screen's
+        IV, score-tested against the final model).
     characteristic : str
     action : str
-        'forced in', 'left out', 'flagged', 'kept', 'entered' or 'removed'.
+        'forced in', 'left out', 'proposed out', 'flagged', 'kept', 'entered', 'removed' or 'tested'.
     reason : str
         Why, in a sentence a reviewer can check.
     value : float or None
@@ -50,14 +54,55 @@ class Decision:
 
 
 @dataclass(frozen=True)
+class ScreenTest:
+    """A characteristic under the IV screen and not in the model, score-tested against the final model.
+
+    Attributes
+    ----------
+    characteristic : str
+    iv : float
+        Its development IV (under ``selection.min_iv``).
+    statistic, p_value : float
+        The score (Rao) test of adding it to the final model: chi-square with one degree of freedom.
+    significant : bool
+        Whether the p-value is below ``selection.p_enter`` and its coefficient would be positive: it
+        would add significant discrimination to the final model, as the stepwise choice would let in.
+    reverses : bool
+        Whether its coefficient would come out negative (a reversal of its WoE's meaning).
+    left_out_by : str
+        'screen' (the screen was a verdict) or 'stepwise' (the screen was a proposal and the
+        stepwise choice, or a later step, left it out).
+    """
+
+    characteristic: str
+    iv: float
+    statistic: float
+    p_value: float
+    significant: bool
+    reverses: bool
+    left_out_by: str
+
+
+@dataclass(frozen=True)
 class SelectionResult:
-    """The chosen characteristics, the final fit and the log of every decision."""
+    """The chosen characteristics, the final fit, the log of every decision, and the screen's tests.
+
+    ``screen_tests`` holds one ``ScreenTest`` per characteristic under ``selection.min_iv`` that is
+    not in the model, in ledger order; ``screened_significant`` names those whose score test
+    against the final model is significant.
+    """
 
     chosen: tuple[str, ...]
     fit: FitResult
     log: tuple[Decision, ...]
     correlations: pd.DataFrame
     vif: Mapping[str, float]
+    screen_tests: tuple[ScreenTest, ...] = ()
+
+    @property
+    def screened_significant(self) -> tuple[str, ...]:
+        """Characteristics under the screen's IV, not in the model, that would add significant discrimination."""
+        return tuple(t.characteristic for t in self.screen_tests if t.significant)
 
     def to_frame(self) -> pd.DataFrame:
         """Return the selection log as a table."""
@@ -110,8 +155,10 @@ def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[fl
     # the final fit starts from the intercept alone, so that its cost trace shows the whole descent
     final = _WoeDesign(patterns if final_patterns is None else final_patterns, woe, fit, guard=True)
     chosen, result = _remove_reversals(chosen, forced, final, log)
+    tests = _screen_tests(design, chosen, [name for name in patterns.characteristics if name not in forced], iv, selection, log)
     correlations = design.correlation(screened)  # before decorrelation, so the pairs left out show
-    return SelectionResult(tuple(chosen), result, tuple(log), correlations, variance_inflation(design.correlation(chosen)))
+    return SelectionResult(tuple(chosen), result, tuple(log), correlations, variance_inflation(design.correlation(chosen)),
+                           tests)
 
 
 class _WoeDesign:
@@ -226,6 +273,15 @@ def score_statistics(design: _WoeDesign, fit: FitResult | None, candidates: Sequ
     U = z'(g − nπ), V = z'Wz − z'WX (X'WX)⁻¹ X'Wz with W = nπ(1 − π); U²/V is χ² with one
     degree of freedom under the null (C. R. Rao, 1948; standard in stepwise logistic regression).
     """
+    return _chi_square(*score_parts(design, fit, candidates))
+
+
+def score_parts(design: _WoeDesign, fit: FitResult | None, candidates: Sequence[str]) -> tuple[np.ndarray, np.ndarray]:
+    """Return the score U and its variance V of adding each candidate to the fitted model (see ``score_statistics``).
+
+    The sign of U is the sign the candidate's coefficient would take: a negative U on a WoE column
+    is a reversal.
+    """
     good = design.good_probability(fit)
     n = design.weights
     residual = design.patterns.goods - n * good
@@ -236,7 +292,11 @@ def score_statistics(design: _WoeDesign, fit: FitResult | None, candidates: Sequ
     cross = current.T @ (z * w[:, None])
     explained = np.einsum("ij,ij->j", cross, np.linalg.solve(information, cross))
     variance = np.einsum("ij,ij->j", z * w[:, None], z) - explained
-    return np.divide((z.T @ residual) ** 2, variance, out=np.zeros(len(candidates)), where=variance > 1e-12)
+    return z.T @ residual, variance
+
+
+def _chi_square(score: np.ndarray, variance: np.ndarray) -> np.ndarray:
+    return np.divide(score**2, variance, out=np.zeros(len(score)), where=variance > 1e-12)
 
 
 def _screen(candidates, iv, forced, selection: SelectionSettings, log) -> list[str]:
@@ -247,11 +307,49 @@ def _screen(candidates, iv, forced, selection: SelectionSettings, log) -> list[s
                                 f"IV {iv[name]:.3f} is above {selection.leakage_iv}: check it is known at the time of application", iv[name]))
         if name in forced:
             kept.append(name)
-        elif iv[name] < selection.min_iv:
+        elif iv[name] < selection.min_iv and selection.screen == "verdict":
             log.append(Decision("screen", name, "left out", f"IV {iv[name]:.4f} is below min_iv {selection.min_iv}", iv[name]))
+        elif iv[name] < selection.min_iv:
+            log.append(Decision("screen", name, "proposed out", f"IV {iv[name]:.4f} is below min_iv {selection.min_iv}; "
+                                "the screen is a proposal (selection.screen), so it stays a candidate", iv[name]))
+            kept.append(name)
         else:
             kept.append(name)
     return kept
+
+
+def _screen_tests(design: _WoeDesign, chosen, candidates, iv, selection: SelectionSettings, log) -> tuple[ScreenTest, ...]:
+    """Score-test every characteristic under the screen's IV that is not in the model against the final model.
+
+    The final model is refitted on the rows the choice ran on (the same rows as the final fit
+    unless the choice ran on a sample), so the test is the stepwise choice's own entry test.
+    """
+    under = [name for name in candidates if iv[name] < selection.min_iv and name not in chosen]
+    if not under:
+        return ()
+    score, variance = score_parts(design, design.fit(chosen), under)
+    statistics = _chi_square(score, variance)
+    p_values = special.chdtrc(1, statistics)
+    tests = []
+    for name, statistic, p_value, direction in zip(under, statistics, p_values, score):
+        reverses = bool(direction < 0)
+        significant = bool(p_value < selection.p_enter) and not reverses
+        by = "screen" if selection.screen == "verdict" else "stepwise"
+        tests.append(ScreenTest(name, float(iv[name]), float(statistic), float(p_value), significant, reverses, by))
+        verdict = ("it would add significant discrimination to the final model" if significant
+                   else "but its coefficient would be negative (a reversal), so it is no help" if p_value < selection.p_enter
+                   else "it adds nothing significant to the final model")
+        log.append(Decision("screen test", name, "tested",
+                            f"IV {iv[name]:.4f} is under min_iv; score test against the final model: p-value {p_value:.4g}, "
+                            f"{'below' if significant else 'not below'} p_enter {selection.p_enter}: {verdict}", float(p_value)))
+        if significant and by == "screen":
+            warnings.warn(
+                f"{name!r} was left out by the IV screen (IV {iv[name]:.4f} under min_iv {selection.min_iv}), but its score "
+                f"test against the final model gives p-value {p_value:.3g}, below p_enter {selection.p_enter}: it would add "
+                "significant discrimination. Set selection.screen = \"proposal\" to let the stepwise choice weigh it, or "
+                f"use = \"always\" under [characteristics.{name}] to force it in.", ScorecardWarning, stacklevel=3,
+            )
+    return tuple(tests)
 
 
 def _decorrelate(candidates, iv, forced, design: _WoeDesign, selection: SelectionSettings, log) -> list[str]:

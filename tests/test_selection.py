@@ -2,13 +2,15 @@
 
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 import pandas as pd
 import pytest
 
 from scorecard.rows import pattern_table
 from scorecard.evidence import evidence_table
-from scorecard.errors import FitError
+from scorecard.errors import FitError, ScorecardWarning
 from scorecard.selection import (
     _WoeDesign, score_test, select_characteristics, variance_inflation, weighted_correlation,
 )
@@ -51,6 +53,7 @@ def test_screen_correlation_and_stepwise_are_logged_with_reasons():
     assert (result.fit.coefficients[1:] > 0).all()
 
 
+@pytest.mark.filterwarnings("ignore:'weak' was left out by the IV screen")
 def test_forced_characteristic_skips_the_screen():
     patterns, woe, iv, _, _ = _synthetic()
     result = select_characteristics(patterns, woe, iv, forced=["noise"], selection=SelectionSettings(min_iv=0.5))
@@ -119,3 +122,59 @@ def test_score_test_equals_statsmodels():
     for position, column in enumerate([2, 3]):
         result = reference.score_test(exog_extra=rows[:, [column]])
         assert ours[position] == pytest.approx(float(result.pvalue[0]), rel=SCORE_TEST_RTOL)
+
+
+# ---------------------------------------------------------------------------------------------
+# The IV screen: a verdict or a proposal, and the score test of what it leaves out
+
+SCREEN_MIN_IV = 0.05  # between 'weak' (IV about 0.035, a real driver) and 'strong' (about 0.56)
+
+
+def test_a_screened_out_characteristic_that_still_adds_discrimination_is_tested_and_said():
+    patterns, woe, iv, codes, good = _synthetic()
+    assert iv["noise"] < iv["weak"] < SCREEN_MIN_IV < iv["strong"]  # counted on the invented process
+    with pytest.warns(ScorecardWarning, match=r"'weak' was left out by the IV screen .* selection.screen = \"proposal\""):
+        result = select_characteristics(patterns, woe, iv, selection=SelectionSettings(min_iv=SCREEN_MIN_IV))
+    assert result.chosen == ("strong",)
+    tests = {t.characteristic: t for t in result.screen_tests}
+    assert set(tests) == {"weak", "noise"} and result.screened_significant == ("weak",)
+    assert tests["weak"].left_out_by == "screen" and not tests["weak"].reverses and tests["noise"].p_value > 0.05
+    # reference: statsmodels GLM (binomial) score_test of adding each column to the final model on the rows
+    sm = pytest.importorskip("statsmodels.api")
+    rows = np.column_stack([np.asarray(woe[name])[codes[:, i]] for i, name in enumerate(patterns.characteristics)])
+    exog = sm.add_constant(rows[:, [0]])
+    reference = sm.GLM(good.astype(float), exog, family=sm.families.Binomial()).fit()
+    for name, column in (("weak", 2), ("noise", 3)):
+        expected = reference.score_test(exog_extra=rows[:, [column]])
+        assert tests[name].statistic == pytest.approx(float(expected.statistic[0]), rel=SCORE_TEST_RTOL)
+    log = result.to_frame()
+    entry = log[(log.step == "screen test") & (log.characteristic == "weak")].iloc[0]
+    assert entry.action == "tested" and "would add significant discrimination" in entry.reason
+
+
+def test_a_screen_that_is_a_proposal_lets_the_stepwise_choice_decide():
+    patterns, woe, iv, _, _ = _synthetic()
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", ScorecardWarning)  # nothing is left out silently, so nothing to warn of
+        result = select_characteristics(patterns, woe, iv, selection=SelectionSettings(min_iv=SCREEN_MIN_IV, screen="proposal"))
+    assert result.chosen == ("strong", "weak")
+    log = result.to_frame()
+    assert log[(log.step == "screen") & (log.characteristic == "weak")].action.tolist() == ["proposed out"]
+    assert [(t.characteristic, t.left_out_by, t.significant) for t in result.screen_tests] == [("noise", "stepwise", False)]
+
+
+def test_nothing_under_the_screen_means_no_screen_tests():
+    patterns, woe, iv, _, _ = _synthetic()
+    result = select_characteristics(patterns, woe, iv, selection=SelectionSettings(min_iv=0.0))
+    assert result.screen_tests == () and result.screened_significant == ()
+
+
+def test_a_screened_out_characteristic_that_would_come_in_reversed_is_no_help():
+    patterns, woe, iv, _, _ = _synthetic()
+    woe = dict(woe, weak=-np.asarray(woe["weak"]))  # its WoE now runs against its bad rate
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", ScorecardWarning)
+        result = select_characteristics(patterns, woe, iv, selection=SelectionSettings(min_iv=SCREEN_MIN_IV))
+    weak = next(t for t in result.screen_tests if t.characteristic == "weak")
+    assert weak.p_value < 1e-20 and weak.reverses and not weak.significant
+    assert "weak" not in result.screened_significant

@@ -386,7 +386,10 @@ def _selection(build) -> dict:
                      [[d.step, d.characteristic, d.action, d.reason, _decision_value(d.value)] for d in selection.log],
                      numeric=(4,), caption="Every decision in the order it was taken; development sample.")
     settings_text = (
-        f"Screen: IV below {rules.min_iv:g} leaves; IV above {rules.leakage_iv:g} is flagged for leakage. "
+        (f"Screen: IV below {rules.min_iv:g} leaves" if rules.screen == "verdict"
+         else f"Screen: IV below {rules.min_iv:g} is proposed to leave (a proposal: the stepwise choice decides)")
+        + "; every characteristic under it that is not in the model is score-tested against the final model "
+        f"(step 'screen test'). IV above {rules.leakage_iv:g} is flagged for leakage. "
         f"Of two WoE columns correlated above {rules.max_correlation:g}, the one with the lower IV leaves. "
         f"Stepwise: {rules.stepwise}, by {rules.criterion.replace('_', '-')}"
         + (f" (enter below {rules.p_enter:g}, leave above {rules.p_remove:g})" if rules.criterion == "p_value" else "")

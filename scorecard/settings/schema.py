@@ -146,6 +146,11 @@ class SelectionSettings:
     """Which characteristics enter the model and why."""
 
     min_iv: float = _key(0.02, "characteristics with a lower information value are screened out", lambda v: v >= 0, "a number >= 0")
+    screen: str = _key(
+        "verdict", "what the IV screen does: verdict (characteristics under min_iv are left out) or proposal (they stay "
+        "candidates and the stepwise choice decides); either way those left out are score-tested against the final model",
+        _one_of("verdict", "proposal"), "verdict or proposal",
+    )
     leakage_iv: float = _key(
         LEAKAGE_IV, "characteristics with a higher information value are flagged for a leakage check (set use = never to drop one)",
         lambda v: v > 0, "a positive number",
