@@ -86,29 +86,39 @@ def _add_init(commands) -> None:
     )
     parser.add_argument("ledger", type=Path, help="the ledger: CSV, Parquet or .xlsx")
     parser.add_argument("--target", required=True, metavar="COLUMN", help="the outcome column")
-    parser.add_argument("--bad", nargs="+", default=(), metavar="VALUE", help="outcome values meaning bad (default for a 0/1 column: 1)")
-    parser.add_argument("--good", nargs="+", default=(), metavar="VALUE", help="outcome values meaning good (default: every other value)")
-    parser.add_argument("--indeterminate", nargs="+", default=(), metavar="VALUE", help="outcome values meaning neither")
-    parser.add_argument("--id", dest="id_column", metavar="COLUMN", help="the application id column (default: detected)")
-    parser.add_argument("--date", dest="date_column", metavar="COLUMN", help="the application date column (default: detected)")
-    parser.add_argument("--weight", dest="weight_column", metavar="COLUMN", help="a case-weight column")
-    parser.add_argument("--special", nargs="+", default=(), metavar="COLUMN=V[,V]", help="special values of a numeric characteristic, e.g. months_since_arrears=-1,999")
-    parser.add_argument("--leave-out", nargs="+", default=(), metavar="COLUMN", help="columns that are not characteristics (e.g. recorded after the decision)")
-    parser.add_argument("--out-of-time-from", default="", metavar="YYYY-MM-DD", help="rows dated on or after this date form the out-of-time sample")
-    parser.add_argument("--holdout", type=float, metavar="SHARE", help="share of the in-time rows kept back as the hold-out sample (default 0.3)")
+    _add_ledger_options(parser)
     parser.add_argument("--out", type=Path, default=Path("scorecard.toml"), help="settings file to write (default: scorecard.toml)")
     parser.add_argument("--force", action="store_true", help="overwrite the settings file if it exists")
     _add_common(parser)
     parser.set_defaults(make_options=_init_options)
 
 
+def _add_ledger_options(parser: argparse.ArgumentParser, *, only: str = "") -> None:
+    """The options that say how to read a ledger, shared by init and the quick path of build (same meanings)."""
+    parser.add_argument("--bad", nargs="+", default=(), metavar="VALUE", help=f"outcome values meaning bad (default for a 0/1 column: 1){only}")
+    parser.add_argument("--good", nargs="+", default=(), metavar="VALUE", help=f"outcome values meaning good (default: every other value){only}")
+    parser.add_argument("--indeterminate", nargs="+", default=(), metavar="VALUE", help=f"outcome values meaning neither{only}")
+    parser.add_argument("--id", dest="id_column", metavar="COLUMN", help=f"the application id column (default: detected){only}")
+    parser.add_argument("--date", dest="date_column", metavar="COLUMN", help=f"the application date column (default: detected){only}")
+    parser.add_argument("--weight", dest="weight_column", metavar="COLUMN", help=f"a case-weight column{only}")
+    parser.add_argument("--special", nargs="+", default=(), metavar="COLUMN=V[,V]",
+                        help=f"special values of a numeric characteristic, each with its meaning after a colon, e.g. "
+                             f"'months_since_arrears=-1:no arrears on record,999'{only}")
+    parser.add_argument("--leave-out", nargs="+", default=(), metavar="COLUMN", help=f"columns that are not characteristics (e.g. recorded after the decision){only}")
+    parser.add_argument("--out-of-time-from", default="", metavar="YYYY-MM-DD", help=f"rows dated on or after this date form the out-of-time sample{only}")
+    parser.add_argument("--holdout", type=float, metavar="SHARE", help=f"share of the in-time rows kept back as the hold-out sample (default 0.3){only}")
+
+
+def _ledger_choices(args: argparse.Namespace) -> dict:
+    """The ledger options as keyword arguments of InitOptions and BuildOptions."""
+    return dict(bad=tuple(args.bad), good=tuple(args.good), indeterminate=tuple(args.indeterminate),
+                id_column=args.id_column, date_column=args.date_column, weight_column=args.weight_column,
+                special=tuple(args.special), leave_out=tuple(args.leave_out), out_of_time_from=args.out_of_time_from,
+                holdout=args.holdout)
+
+
 def _init_options(args: argparse.Namespace) -> InitOptions:
-    return InitOptions(
-        ledger=args.ledger, target=args.target, bad=tuple(args.bad), good=tuple(args.good),
-        indeterminate=tuple(args.indeterminate), id_column=args.id_column, date_column=args.date_column,
-        weight_column=args.weight_column, special=tuple(args.special), leave_out=tuple(args.leave_out),
-        out_of_time_from=args.out_of_time_from, holdout=args.holdout, out=args.out, force=args.force,
-    )
+    return InitOptions(ledger=args.ledger, target=args.target, **_ledger_choices(args), out=args.out, force=args.force)
 
 
 def _add_set(commands) -> None:
@@ -142,24 +152,22 @@ def _add_build(commands) -> None:
         formatter_class=argparse.RawDescriptionHelpFormatter,
         epilog=_examples(
             "scorewright build scorecard.toml --out run1/",
-            "scorewright build ledger.csv --target outcome --bad bad --out quick/",
+            "scorewright build ledger.csv --target outcome --bad bad --date applied --out-of-time-from 2025-01-01 --out quick/",
         ),
     )
     parser.add_argument("source", type=Path, metavar="SETTINGS_OR_LEDGER", help="a settings file (.toml) or a ledger")
     parser.add_argument("--target", metavar="COLUMN", help="the outcome column (only when building straight from a ledger)")
-    parser.add_argument("--bad", nargs="+", default=(), metavar="VALUE", help="outcome values meaning bad (ledger only)")
-    parser.add_argument("--good", nargs="+", default=(), metavar="VALUE", help="outcome values meaning good (ledger only)")
-    parser.add_argument("--indeterminate", nargs="+", default=(), metavar="VALUE", help="outcome values meaning neither (ledger only)")
+    _add_ledger_options(parser, only="; ledger only, as for init")
     parser.add_argument("--out", type=Path, metavar="DIR", help="output folder (default: NAME-build beside the settings file or ledger)")
-    parser.add_argument("--force", action="store_true", help="write into the output folder even if it exists")
+    parser.add_argument("--force", action="store_true", help="replace the outputs of an earlier build in the output folder")
     parser.add_argument("--no-reports", dest="reports", action="store_false", help="write model.json and settings.toml only")
     parser.add_argument("--timings", action="store_true", help="print the seconds each stage took to stderr, as JSON (for benchmarks)")
     parser.add_argument("--stream", action="store_true",
                         help="read the ledger in batches, never whole (automatic above ledger.stream_above_mb); same result")
     _add_common(parser)
     parser.set_defaults(
-        make_options=lambda a: BuildOptions(a.source, a.target, tuple(a.bad), tuple(a.good), tuple(a.indeterminate), a.out,
-                                            a.force, a.reports, a.timings, a.stream),
+        make_options=lambda a: BuildOptions(a.source, a.target, **_ledger_choices(a), out=a.out, force=a.force,
+                                            reports=a.reports, timings=a.timings, stream=a.stream),
     )
 
 

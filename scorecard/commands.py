@@ -20,7 +20,7 @@ import pandas as pd
 from .build import Stopwatch, build_scorecard
 from .classing import ClassedLedger, class_ledger, classing_settings_values
 from .errors import LedgerError, SettingsError
-from .files import replacing, write_text_atomically
+from .files import replacing, replacing_folder, write_text_atomically
 from .intake import (
     closest_names, default_outcome_mapping, detect_kind, fingerprint_of, ledger_columns, looks_like_identifier_or_date,
     open_ledger, outcome_key, prepare_ledger, read_batches, read_ledger,
@@ -200,13 +200,18 @@ def _proposals(ledger, classed: ClassedLedger, settings: Settings):
 # build
 
 
+# What a build writes, and what a monitoring run writes: each set replaces the one before it whole.
+BUILD_OUTPUTS = ("model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx")
+MONITOR_OUTPUTS = ("monitor.txt", "monitor.html", "monitor.xlsx")
+
+
 def run_build(options: BuildOptions, streams: Streams) -> int:
-    """Build the scorecard and write the model file, the resolved settings and the reports."""
+    """Build the scorecard and write the model file, the resolved settings and the reports, as one set."""
     timings: dict[str, float] = {}
     clock = Stopwatch(timings)
     settings, ledger_path = _build_settings(options)
     out = options.out or ledger_path.parent / f"{options.source.stem}-build"
-    check_output_folder(out, options.force)
+    check_output_folder(out, options.force, outputs=BUILD_OUTPUTS)
     in_batches = reads_in_batches(ledger_path, settings.ledger.stream_above_mb, asked=options.stream or None)
     if in_batches:
         streams.note(f"reading {ledger_path.name} in batches of about {settings.ledger.batch_rows:,} rows")
@@ -217,29 +222,31 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     build = build_scorecard(ledger, settings, rows=rows, progress=lambda items: streams.progress(items, "classing"),
                             timings=timings)
     resolved = replace(build.settings, ledger=replace(build.settings.ledger, path=os.path.relpath(ledger_path.resolve(), out.resolve())))
-    with clock("model file"):
-        document = model_document(replace(build, settings=resolved))
-        summary = build_summary(build)
-        written = [
-            save_model(document, out / "model.json"),
-            write_settings(resolved, out / "settings.toml", header=(
-                "The settings this build used, every classing written out: 'scorewright build' on this file\n"
-                "reproduces the same model file."
-            )),
-            write_text_atomically(out / "summary.txt", summary + "\n"),
-        ]
-    if options.reports:
-        written += _write_build_reports(replace(build, settings=resolved), out, clock, options)
+    summary = build_summary(build)
+    # every output goes into a folder beside --out that replaces it whole at the end: a build that
+    # fails at any step leaves the folder as it was
+    with replacing_folder(out) as folder:
+        with clock("model file"):
+            written = [
+                save_model(model_document(replace(build, settings=resolved)), folder / "model.json"),
+                write_settings(resolved, folder / "settings.toml", header=(
+                    "The settings this build used, every classing written out: 'scorewright build' on this file\n"
+                    "reproduces the same model file."
+                )),
+                write_text_atomically(folder / "summary.txt", summary + "\n"),
+            ]
+        if options.reports:
+            written += _write_build_reports(replace(build, settings=resolved), folder, clock, options, out)
     if options.timings:
         print(json.dumps({stage: round(seconds, 4) for stage, seconds in timings.items()}), file=streams.err)
     streams.say(summary)
     streams.say()
-    streams.say("written: " + ", ".join(str(path) for path in written))
+    streams.say("written: " + ", ".join(str(out / path.name) for path in written))
     return EXIT_OK
 
 
-def _write_build_reports(build, out: Path, clock, options: BuildOptions) -> list[Path]:
-    """Run every validation check and write the HTML report and the workbook."""
+def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out: Path) -> list[Path]:
+    """Run every validation check and write the HTML report and the workbook into ``folder``."""
     from .report.build_page import write_report
     from .report.build_sheets import write_workbook
     from .validation import validate_build
@@ -248,9 +255,9 @@ def _write_build_reports(build, out: Path, clock, options: BuildOptions) -> list
         validation = validate_build(build)
     command = "scorewright build " + " ".join(shlex.quote(str(a)) for a in (options.source, "--out", out))
     with clock("report"):
-        report = write_report(build, validation, out / "report.html", generated_by=command)
+        report = write_report(build, validation, folder / "report.html", generated_by=command)
     with clock("workbook"):
-        book = write_workbook(build, validation, out / "workbook.xlsx")
+        book = write_workbook(build, validation, folder / "workbook.xlsx")
     return [report, book]
 
 
@@ -259,8 +266,10 @@ def _build_settings(options: BuildOptions) -> tuple[Settings, Path]:
     if source.is_dir():
         raise SettingsError(f"{source}: is a folder. Give a settings file (.toml) or a ledger file.")
     if source.suffix.lower() == ".toml":
-        if options.target or options.bad or options.good:
-            raise SettingsError(f"{source}: --target, --bad and --good are for building straight from a ledger; with a settings file, set them under [outcome].")
+        given = [flag for flag, value in _ledger_flags(options).items() if value]
+        if given:
+            raise SettingsError(f"{source}: {', '.join(given)} {'is' if len(given) == 1 else 'are'} for building straight "
+                                "from a ledger; with a settings file, set them in the file (scorewright set).")
         settings = read_settings(source)
         if not settings.ledger.path:
             raise SettingsError(f"{source}: no ledger named. Set path under [ledger] to the ledger file.")
@@ -268,17 +277,46 @@ def _build_settings(options: BuildOptions) -> tuple[Settings, Path]:
     if not options.target:
         raise SettingsError(f"{source}: building straight from a ledger needs --target COLUMN (or give a settings file written by 'scorewright init').")
     frame = read_ledger(source)
-    settings = command_line_settings(frame, ledger=source, target=options.target, bad=options.bad, good=options.good,
-                                     indeterminate=options.indeterminate, folder=source.resolve().parent, source=source.name)
+    settings = command_line_settings(
+        frame, ledger=source, target=options.target, bad=options.bad, good=options.good,
+        indeterminate=options.indeterminate, id_column=options.id_column, date_column=options.date_column,
+        weight_column=options.weight_column, special=options.special, folder=source.resolve().parent, source=source.name,
+        leave_out=options.leave_out, out_of_time_from=options.out_of_time_from, holdout=options.holdout,
+    )
     return settings, source
 
 
-def check_output_folder(out: Path, force: bool) -> None:
-    """Refuse to write into an existing folder without --force; refuse a file in its place."""
+def _ledger_flags(options: BuildOptions) -> dict[str, object]:
+    """The options of the quick path, by the flag that sets each."""
+    return {"--target": options.target, "--bad": options.bad, "--good": options.good,
+            "--indeterminate": options.indeterminate, "--id": options.id_column, "--date": options.date_column,
+            "--weight": options.weight_column, "--special": options.special, "--leave-out": options.leave_out,
+            "--out-of-time-from": options.out_of_time_from, "--holdout": options.holdout is not None}
+
+
+def check_output_folder(out: Path, force: bool, *, outputs: tuple[str, ...] | None = None) -> None:
+    """Refuse to write into an existing folder without --force; refuse a file in its place.
+
+    With ``outputs`` (the names of a set that replaces the folder whole), also refuse a folder that
+    holds anything else: it would be lost with the earlier set.
+    """
     if out.exists() and not out.is_dir():
         raise SettingsError(f"{out}: exists and is not a folder. Choose another --out.")
     if out.exists() and any(out.iterdir()) and not force:
         raise SettingsError(f"{out}: the output folder exists and is not empty. Pass --force to write into it, or choose another --out.")
+    if outputs is not None and out.is_dir():
+        foreign = sorted(entry.name for entry in out.iterdir() if entry.name not in outputs and not _temporary(entry.name))
+        if foreign:
+            shown = ", ".join(repr(name) for name in foreign[:5]) + (f" and {len(foreign) - 5} more" if len(foreign) > 5 else "")
+            raise SettingsError(
+                f"{out}: the output folder holds {shown} besides the outputs of an earlier run. The new outputs "
+                f"replace the folder whole, so these would be lost: move them, or choose another --out."
+            )
+
+
+def _temporary(name: str) -> bool:
+    """A temporary file or folder this tool leaves beside its outputs (from a run that was killed)."""
+    return name.startswith(".") and name.endswith((".part", ".old"))
 
 
 # --------------------------------------------------------------------------------------------
@@ -371,7 +409,7 @@ def run_monitor(options: MonitorOptions, streams: Streams) -> int:
     from .report.monitor_sheets import write_monitor_workbook
 
     out = options.out or options.ledger.parent / f"{options.ledger.stem}-monitor"
-    check_output_folder(out, options.force)
+    check_output_folder(out, options.force, outputs=MONITOR_OUTPUTS)
     saved = load_model(options.model)
     source = options.ledger.name
     settings = monitoring_settings(saved.settings, ledger_columns(options.ledger))
@@ -387,16 +425,17 @@ def run_monitor(options: MonitorOptions, streams: Streams) -> int:
             streams.note(note)
     summary = monitor_summary(result, model=options.model)
     command = "scorewright monitor " + " ".join(shlex.quote(str(a)) for a in (options.model, options.ledger, "--out", out))
-    written = [
-        write_text_atomically(out / "monitor.txt", summary + "\n"),
-        write_monitor(result, saved, out / "monitor.html", model_path=options.model,
-                      ledger_fingerprint=ledger.fingerprint, generated_by=command),
-        write_monitor_workbook(result, saved, out / "monitor.xlsx", model_path=options.model,
-                               ledger_fingerprint=ledger.fingerprint),
-    ]
+    with replacing_folder(out) as folder:  # the set replaces the folder whole, or not at all
+        written = [
+            write_text_atomically(folder / "monitor.txt", summary + "\n"),
+            write_monitor(result, saved, folder / "monitor.html", model_path=options.model,
+                          ledger_fingerprint=ledger.fingerprint, generated_by=command),
+            write_monitor_workbook(result, saved, folder / "monitor.xlsx", model_path=options.model,
+                                   ledger_fingerprint=ledger.fingerprint),
+        ]
     streams.say(summary)
     streams.say()
-    streams.say("written: " + ", ".join(str(path) for path in written))
+    streams.say("written: " + ", ".join(str(out / path.name) for path in written))
     failing = {"watch": ("watch", "act"), "act": ("act",)}.get(options.fail_on or "", ())
     return EXIT_CHECK_FAILED if result.status in failing else EXIT_OK
 

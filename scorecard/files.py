@@ -3,12 +3,21 @@
 A failed or interrupted run therefore leaves either the old file or the new one, never half of
 one; the temporary file is removed on failure. Every module that writes a file uses this
 (``settings``, ``modelfile``, ``report``, ``commands``, the demo generator).
+
+A set of outputs (a build's model file, settings and reports; a monitoring run's reports) is one
+unit too: ``replacing_folder`` writes the whole set into a temporary folder beside the output
+folder and switches it in as one step, so the folder holds the old set or the new one, never a
+mix of the two.
 """
 
 from __future__ import annotations
 
 import contextlib
+import ctypes
+import errno
 import os
+import shutil
+import sys
 import tempfile
 from collections.abc import Iterator
 from pathlib import Path
@@ -48,7 +57,97 @@ def write_text_atomically(path: str | os.PathLike[str], text: str) -> Path:
     return Path(path)
 
 
-def _mode_for_new_files() -> int:
+@contextlib.contextmanager
+def replacing_folder(path: str | os.PathLike[str]) -> Iterator[Path]:
+    """Yield a new, empty temporary folder beside ``path``; when the block ends normally, switch it in for ``path``.
+
+    Write every output of a set into the temporary folder. When the block ends normally, the folder
+    at ``path`` (if any) and the temporary one trade places in one step, and the old one is then
+    removed: ``path`` holds exactly the new set. When the block raises, the temporary folder is
+    removed and ``path`` is left as it was. Callers check beforehand that ``path`` holds nothing
+    but an earlier set of the same outputs (it is replaced whole).
+
+    What it guarantees:
+
+    - On Linux, the two folders trade places with ``renameat2(..., RENAME_EXCHANGE)``: at every
+      instant ``path`` is the whole old set or the whole new set.
+    - Elsewhere, or on a file system without that call, the old folder is first renamed aside
+      (``.NAME.*.old``) and the new one renamed to ``path``: two renames, each atomic. Between them
+      ``path`` is briefly absent while the old set lies whole beside it; it is never a mix.
+    - When ``path`` does not exist, the new folder is renamed to it (atomic everywhere).
+
+    Example
+    -------
+    >>> with replacing_folder(out) as folder:  # doctest: +SKIP
+    ...     save_model(document, folder / "model.json")
+    ...     write_report(build, checks, folder / "report.html")
+    """
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    temporary = Path(tempfile.mkdtemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent))
+    try:
+        yield temporary
+        # mkdtemp makes a private folder (0700); the set gets the old folder's mode, or a new folder's usual one
+        os.chmod(temporary, path.stat().st_mode & 0o7777 if path.is_dir() else 0o777 & ~_umask())
+        old = _switch_folders(temporary, path)
+    except BaseException:
+        shutil.rmtree(temporary, ignore_errors=True)
+        raise
+    if old is not None:
+        shutil.rmtree(old, ignore_errors=True)
+
+
+def _switch_folders(new: Path, path: Path) -> Path | None:
+    """Put ``new`` at ``path``; return where the old folder now is (to be removed), or None."""
+    if not path.exists():
+        os.rename(new, path)
+        return None
+    if exchange_folders(new, path):
+        return new  # the old set now lies under the temporary name
+    aside = Path(tempfile.mkdtemp(prefix=f".{path.name}.", suffix=".old", dir=path.parent))
+    os.rename(path, aside / path.name)
+    os.rename(new, path)
+    return aside
+
+
+def exchange_folders(first: str | os.PathLike[str], second: str | os.PathLike[str]) -> bool:
+    """Swap two folders in one step where the system can (Linux ``renameat2`` with ``RENAME_EXCHANGE``).
+
+    Returns False, touching nothing, where it cannot (another system, an old C library, a file
+    system without the call); any other failure is raised as ``OSError``.
+    """
+    call = _renameat2()
+    if call is None:
+        return False
+    if call(_AT_FDCWD, os.fsencode(first), _AT_FDCWD, os.fsencode(second), _RENAME_EXCHANGE) == 0:
+        return True
+    number = ctypes.get_errno()
+    if number in (errno.ENOSYS, errno.EINVAL, errno.EOPNOTSUPP, errno.ENOTSUP):
+        return False
+    raise OSError(number, os.strerror(number), str(second))
+
+
+# renameat2(2): the directory of relative paths is the working directory; the flag swaps the two names
+_AT_FDCWD, _RENAME_EXCHANGE = -100, 2
+
+
+def _renameat2():
+    if not sys.platform.startswith("linux"):
+        return None
+    try:
+        call = ctypes.CDLL(None, use_errno=True).renameat2
+    except (OSError, AttributeError):  # a C library older than glibc 2.28, or not glibc
+        return None
+    call.argtypes = (ctypes.c_int, ctypes.c_char_p, ctypes.c_int, ctypes.c_char_p, ctypes.c_uint)
+    call.restype = ctypes.c_int
+    return call
+
+
+def _umask() -> int:
     umask = os.umask(0)
     os.umask(umask)
-    return 0o666 & ~umask
+    return umask
+
+
+def _mode_for_new_files() -> int:
+    return 0o666 & ~_umask()

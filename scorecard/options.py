@@ -85,13 +85,21 @@ class SetOptions:
 
 @dataclass(frozen=True)
 class BuildOptions:
-    """Options of ``scorewright build``."""
+    """Options of ``scorewright build``; the ledger options (from ``bad`` to ``holdout``) mean what they mean
+    for ``init`` and are only for building straight from a ledger."""
 
     source: Path
     target: str | None = None
     bad: tuple[str, ...] = ()
     good: tuple[str, ...] = ()
     indeterminate: tuple[str, ...] = ()
+    id_column: str | None = None
+    date_column: str | None = None
+    weight_column: str | None = None
+    special: tuple[str, ...] = ()
+    leave_out: tuple[str, ...] = ()
+    out_of_time_from: str = ""
+    holdout: float | None = None
     out: Path | None = None
     force: bool = False
     reports: bool = True

@@ -4,6 +4,7 @@
 from __future__ import annotations
 
 import io
+import json
 import re
 from pathlib import Path
 
@@ -385,3 +386,67 @@ def test_set_refuses_what_the_file_would_refuse(ledger_csv, tmp_path, assignment
     code, _, err = run("set", settings, assignment)
     assert code == 2 and re.search(message, err), err
     assert settings.read_bytes() == before
+
+
+# --------------------------------------------------------------------------------------------
+# the outputs of a build are one set
+
+
+def test_a_build_that_fails_half_way_leaves_the_output_folder_as_it_was(ledger_csv, tmp_path, monkeypatch):
+    from scorecard.report import build_sheets
+
+    out = tmp_path / "run1"
+    code, _, stderr = run("build", ledger_csv, "--target", "outcome", "--bad", "bad", "--out", out, "--quiet")
+    assert code == 0, stderr
+    before = {path.name: path.read_bytes() for path in out.iterdir()}
+    assert set(before) == {"model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx"}
+
+    def broken(*args, **kwargs):
+        raise OSError(28, "No space left on device", str(out / "workbook.xlsx"))
+
+    # the last output of the set fails, after the model file, the settings and both reports were written
+    monkeypatch.setattr(build_sheets, "write_workbook", broken)
+    code, _, stderr = run("build", ledger_csv, "--target", "outcome", "--bad", "bad", "--holdout", "0.5",
+                          "--out", out, "--force", "--quiet")
+    assert code == 2 and "No space left on device" in stderr
+    assert {path.name: path.read_bytes() for path in out.iterdir()} == before
+    assert sorted(path.name for path in tmp_path.iterdir()) == ["ledger.csv", "run1"]  # no temporary left
+
+
+def test_a_build_refuses_a_folder_holding_more_than_an_earlier_set(ledger_csv, tmp_path):
+    out = tmp_path / "run1"
+    out.mkdir()
+    (out / "notes.txt").write_text("mine", encoding="utf-8")
+    code, _, stderr = run("build", ledger_csv, "--target", "outcome", "--bad", "bad", "--out", out, "--force")
+    assert code == 2 and "holds 'notes.txt' besides the outputs of an earlier run" in stderr
+    assert [path.name for path in out.iterdir()] == ["notes.txt"]
+
+
+def test_the_quick_path_takes_every_ledger_option_of_init_with_the_same_meaning(tmp_path):
+    frame = small_ledger(900)
+    rng = np.random.default_rng(5)
+    frame["applied"] = (pd.Timestamp("2024-07-01") + pd.to_timedelta(rng.integers(0, 365, len(frame)), unit="D")).strftime("%Y-%m-%d")
+    frame["weight"] = rng.choice([1.0, 2.0], len(frame))
+    frame.loc[frame.index % 9 == 0, "months_at_address"] = 999
+    frame["late_note"] = rng.choice(["a", "b"], len(frame))
+    path = tmp_path / "dated.csv"
+    frame.to_csv(path, index=False)
+    options = ["--target", "outcome", "--bad", "bad", "--id", "app_id", "--date", "applied", "--weight", "weight",
+               "--special", "months_at_address=999", "--leave-out", "late_note", "--out-of-time-from", "2025-04-01",
+               "--holdout", "0.25"]
+    code, _, err = run("init", path, *options, "--out", tmp_path / "scorecard.toml")
+    assert code == 0, err
+    code, _, err = run("build", tmp_path / "scorecard.toml", "--out", tmp_path / "from-settings", "--quiet")
+    assert code == 0, err
+    code, _, err = run("build", path, *options, "--out", tmp_path / "quick", "--quiet")
+    assert code == 0, err
+    slow, quick = (json.loads((tmp_path / name / "model.json").read_text()) for name in ("from-settings", "quick"))
+    for section in ("ledger", "outcome", "samples"):
+        assert quick["settings"][section] == slow["settings"][section], section
+    assert quick["settings"]["samples"] == {**slow["settings"]["samples"], "holdout_fraction": 0.25,
+                                            "out_of_time_from": "2025-04-01"}
+    assert quick["ledger"]["samples"] == slow["ledger"]["samples"]  # the same rows in every sample, weighted alike
+    specials = quick["settings"]["characteristics"]["months_at_address"]["special_values"]
+    assert specials == slow["settings"]["characteristics"]["months_at_address"]["special_values"] == [999.0]
+    code, _, err = run("build", tmp_path / "scorecard.toml", "--holdout", "0.2", "--out", tmp_path / "x")
+    assert code == 2 and "--holdout is for building straight from a ledger" in err
