@@ -125,7 +125,7 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
         classed = class_ledger(ledger, settings, rows=rows, progress=progress)
     names = classed.names
     with clock("pattern table"):
-        choice, final_table = _pattern_tables(classed, rows, settings)
+        choice, final_table = _pattern_tables(classed, rows)
     with clock("selection and fit"):
         forced = [name for name in names if settings.characteristic(name).use == "always"]
         selection = select_characteristics(
@@ -155,24 +155,14 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
                  selection, scorecard, histograms, notes)
 
 
-def selection_rows(rows: np.ndarray, settings: Settings) -> np.ndarray:
-    """Development rows the choice of characteristics runs on: all, or a seeded sample of a large ledger."""
-    limit = settings.selection.sample_rows
-    if not limit or len(rows) <= limit:
-        return rows
-    rng = np.random.default_rng(settings.samples.seed + 2)
-    return np.sort(rng.choice(rows, size=limit, replace=False))
-
-
-def _pattern_tables(classed: ClassedLedger, rows: InProcessRows, settings: Settings):
+def _pattern_tables(classed: ClassedLedger, rows: InProcessRows):
     """The pattern table the choice runs on, and a function making the final fit's table for some characteristics.
 
     When the choice runs on every development row, the final table is a subset of its table;
     otherwise the development rows are counted again for the chosen characteristics only, so
     that a large ledger's table never holds every candidate.
     """
-    fitting = rows.fitting_rows()
-    chosen = selection_rows(fitting, settings)
+    fitting, chosen = rows.fitting_rows(), rows.fitting_rows("selection")
 
     def table(which: np.ndarray, columns: Sequence[str]) -> PatternTable:
         return rows.pattern_table(which, [classed.get(name).binning for name in columns], kept=classed.kept)

@@ -8,7 +8,7 @@ import warnings
 import numpy as np
 import pytest
 
-from scorecard.build import build_scorecard, selection_rows
+from scorecard.build import build_scorecard
 from scorecard.intake import open_ledger
 from scorecard.modelfile import model_document
 from scorecard.settings import CharacteristicSettings, Settings
@@ -91,12 +91,3 @@ def test_each_stage_is_timed(frame):
         build_scorecard(frame, _settings(), timings=timings)
     assert list(timings) == ["intake", "classing", "pattern table", "selection and fit", "points and scoring"]
     assert all(seconds >= 0 for seconds in timings.values())
-
-
-def test_the_choice_runs_on_a_seeded_sorted_sample_of_a_large_development_sample():
-    rows = np.arange(0, 3_000, 3)
-    settings = Settings().replace(selection={"sample_rows": 100})
-    chosen = selection_rows(rows, settings)
-    assert len(chosen) == 100 and np.all(np.diff(chosen) > 0) and np.isin(chosen, rows).all()
-    np.testing.assert_array_equal(selection_rows(rows, settings), chosen)  # seeded
-    assert selection_rows(rows, Settings().replace(selection={"sample_rows": 0})) is rows

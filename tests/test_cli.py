@@ -16,6 +16,7 @@ import scorecard.commands  # noqa: F401  loaded once here, so the first test doe
 from scorecard import LedgerError, read_settings
 from scorecard.cli import main
 from scorecard.intake import split_samples
+from scorecard.intake.samples import sample_keys
 from scorecard.terms import BAD, DEVELOPMENT, GOOD
 
 
@@ -343,7 +344,7 @@ def test_init_on_credit_data_proposes_monotone_classings(credit_csv, tmp_path):
     assert "rownames" not in settings.characteristics
     frame = pd.read_csv(credit_csv)
     outcome = np.where(frame["Status"] == "bad", BAD, GOOD).astype(np.int8)
-    development = split_samples(outcome, None, settings) == DEVELOPMENT
+    development = split_samples(outcome, None, settings, keys=sample_keys(frame, settings)) == DEVELOPMENT
     numeric = [c for c in frame.columns if c not in ("rownames", "Status") and pd.api.types.is_numeric_dtype(frame[c])]
     assert len(numeric) == 9  # counted from the data
     for name in numeric:

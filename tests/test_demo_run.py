@@ -22,12 +22,17 @@ from scorecard.modelfile import load_model
 
 SIGNIFICANT = 10  # well above the noise of a different BLAS, well below any change a reader would see
 # SHA-256 of the figures of the demo's model file (8000 rows, seed 2024) as the tool before the layout
-# of issue 14 wrote it (tests/reference/demo-model-format-1.json)
+# of issue 14 wrote it (tests/reference/demo-model-format-1.json; the hold-out then was a seeded
+# random choice over row order)
 FORMAT_1_FIGURES = "d94de527d8aca40f0beccbc533a55b7665076923b5438715589ca559d8e13ec7"
 # ... and as the tool writes it today. Issue 16 added the score tests of the characteristics under the
-# IV screen to the selection log (new figures; the points table is unchanged, see the last test).
-DEMO_FIGURES = "428249051f9a5849b531d8230c221cbe222900e1f402068f3231d4121dac320e"
+# IV screen to the selection log; issue 13 draws the hold-out by a seeded hash of the id (every
+# figure moved once; the streamed build gives the same file)
+DEMO_FIGURES = "e843b1d4b322b99734429519aab2e5f6a73bafbc024d0075ef4e6d52845ccd5c"
 FORMAT_1 = Path(__file__).parent / "reference" / "demo-model-format-1.json"
+# SHA-256 of the CSV text of the scores and reasons the format-1 file gives the demo's new applications,
+# recorded at commit bea8143, when the tool's own demo build gave that very model (scores equal)
+FORMAT_1_SCORES = "704d22e344bccd6b02c052cd72ad830e51e254d8fe358b7980d760c50dfbc5bd"
 
 
 def _numbers(value):
@@ -75,10 +80,8 @@ def test_the_demo_model_file_has_the_recorded_figures(demo):
 
 
 @pytest.mark.slow
-def test_the_model_file_of_format_1_scores_the_new_applications_as_the_new_one_does(demo):
+def test_the_model_file_of_format_1_still_scores_the_new_applications_as_it_did(demo):
     folder, _ = demo
-    older, newer = load_model(FORMAT_1), load_model(folder / "build" / "model.json")
-    assert older.scorecard.table.to_frame().equals(newer.scorecard.table.to_frame())
     applications = pd.read_csv(folder / "data" / "new_applications.csv")
-    pd.testing.assert_frame_equal(older.scorecard.score(applications, reason_count=4),
-                                  newer.scorecard.score(applications, reason_count=4))
+    scored = load_model(FORMAT_1).scorecard.score(applications, reason_count=4)
+    assert hashlib.sha256(scored.to_csv(index=False).encode()).hexdigest() == FORMAT_1_SCORES

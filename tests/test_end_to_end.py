@@ -136,8 +136,10 @@ def test_scoring_without_a_characteristic_names_it(credit_run, tmp_path):
 
 def test_scoring_counts_unseen_levels(credit_run, tmp_path):
     folder, _ = credit_run
+    document = json.loads((folder / "run1" / "model.json").read_text())
+    name = next(c["name"] for c in document["characteristics"] if c["binning"]["kind"] == "categorical")
     frame = pd.read_csv(folder / "credit.csv").head(50)
-    frame.loc[:4, "Home"] = "boat"
+    frame.loc[:4, name] = "boat"
     frame.to_csv(tmp_path / "new.csv", index=False)
     code, _, err = _run("score", str(folder / "run1" / "model.json"), str(tmp_path / "new.csv"), "--out", str(tmp_path / "s.csv"))
     assert code == 0

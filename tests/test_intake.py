@@ -16,6 +16,7 @@ import pytest
 
 from scorecard import LedgerError, ScorecardWarning, Settings, prepare_ledger, read_ledger, split_samples
 from scorecard.intake import fingerprint_of
+from scorecard.intake.samples import draw_subsamples, frame_tie_texts, holdout_count, sample_keys, subsample_keys
 from scorecard.terms import (
     BAD, CATEGORICAL, DEVELOPMENT, GOOD, HOLDOUT, INDETERMINATE, NUMERIC, OUT_OF_TIME, UNKNOWN,
 )
@@ -382,8 +383,8 @@ def test_text_in_the_date_column_is_named():
 # --------------------------------------------------------------------------------------------
 # Samples
 
-# a class's hold-out count is round(fraction × its rows), so each sample's bad rate is within one
-# row's worth of the other (hand-worked from the definition of the split)
+# a class's hold-out count is floor(fraction × its rows + 1/2), so each sample's bad rate is within
+# one row's worth of the other (hand-worked from the definition of the split)
 ONE_ROW = 1.0
 
 
@@ -392,11 +393,16 @@ def stratified_outcome(n_goods: int, n_bads: int, seed: int = 11) -> np.ndarray:
     return np.random.default_rng(seed).permutation(outcome)
 
 
+def keys_of(n_rows: int, settings: Settings = SETTINGS) -> np.ndarray:
+    """Split keys of ledger rows whose id column holds A0, A1, ..."""
+    return sample_keys(pd.DataFrame({"id": [f"A{i}" for i in range(n_rows)]}), settings.replace(ledger={"id_column": "id"}))
+
+
 def test_holdout_fraction_is_honoured_per_outcome_class():
     outcome = stratified_outcome(827, 173)
-    sample = split_samples(outcome, None, SETTINGS.replace(samples={"holdout_fraction": 0.3}))
+    sample = split_samples(outcome, None, SETTINGS.replace(samples={"holdout_fraction": 0.3}), keys=keys_of(1000))
     holdout = sample == HOLDOUT
-    # round(0.3 × 173) = 52 bads and round(0.3 × 827) = 248 goods (hand-worked)
+    # floor(0.3 × 173 + 1/2) = 52 bads and floor(0.3 × 827 + 1/2) = 248 goods (hand-worked)
     assert np.count_nonzero(holdout & (outcome == BAD)) == 52
     assert np.count_nonzero(holdout & (outcome == GOOD)) == 248
     assert set(np.unique(sample)) == {DEVELOPMENT, HOLDOUT}
@@ -406,6 +412,24 @@ def test_holdout_fraction_is_honoured_per_outcome_class():
     assert abs(rate_holdout - rate_development) <= ONE_ROW / min(n_holdout, n_development)
 
 
+def test_the_holdout_is_the_rows_of_smallest_key_in_each_class():
+    outcome = stratified_outcome(90, 30)
+    keys = keys_of(120)
+    holdout = split_samples(outcome, None, SETTINGS, keys=keys) == HOLDOUT
+    for outcome_class, count in ((GOOD, 27), (BAD, 9)):  # floor(0.3 × 90 + 1/2), floor(0.3 × 30 + 1/2)
+        rows = np.flatnonzero(outcome == outcome_class)
+        smallest = rows[np.argsort(keys[rows])[:count]]  # the slow oracle: sort the whole class
+        np.testing.assert_array_equal(np.flatnonzero(holdout & (outcome == outcome_class)), np.sort(smallest))
+
+
+def test_holdout_counts_round_half_up_in_exact_arithmetic():
+    # halves go up: 0.5 × 1 = 0.5 gives 1 (Python's round() gives 0); the fraction is read as the
+    # decimal it is written as: 0.15 × 10 = 1.5 gives 2, though the float product is
+    # 1.4999999999999998 (hand-worked)
+    assert [holdout_count(n, 0.3) for n in (0, 1, 2, 5, 10)] == [0, 0, 1, 2, 3]
+    assert holdout_count(10, 0.15) == 2 and holdout_count(1, 0.5) == 1
+
+
 def test_holdout_fraction_zero_keeps_every_row_in_development():
     sample = split_samples(stratified_outcome(60, 40), None, SETTINGS.replace(samples={"holdout_fraction": 0.0}))
     assert (sample == DEVELOPMENT).all()
@@ -413,23 +437,82 @@ def test_holdout_fraction_zero_keeps_every_row_in_development():
 
 def test_split_is_seeded():
     outcome = stratified_outcome(300, 100)
-    first = split_samples(outcome, None, SETTINGS.replace(samples={"seed": 5}))
-    again = split_samples(outcome, None, SETTINGS.replace(samples={"seed": 5}))
-    other = split_samples(outcome, None, SETTINGS.replace(samples={"seed": 6}))
+    settings = {seed: SETTINGS.replace(samples={"seed": seed}) for seed in (5, 6)}
+    first = split_samples(outcome, None, settings[5], keys=keys_of(400, settings[5]))
+    again = split_samples(outcome, None, settings[5], keys=keys_of(400, settings[5]))
+    other = split_samples(outcome, None, settings[6], keys=keys_of(400, settings[6]))
     np.testing.assert_array_equal(first, again)
     assert (first != other).any()
+
+
+@pytest.mark.parametrize("id_column", ["", "id"])
+def test_the_split_follows_the_rows_whatever_their_order(id_column):
+    frame = small_frame(200, seed=3).assign(id=[f"C{i:04d}" for i in range(200)])
+    settings = SETTINGS.replace(ledger={"id_column": id_column})
+    order = np.random.default_rng(0).permutation(len(frame))
+    shuffled = frame.iloc[order].reset_index(drop=True)
+    first, second = (prepare_ledger(f, settings).sample for f in (frame, shuffled))
+    np.testing.assert_array_equal(first[order], second)
+    assert (first == HOLDOUT).sum() == 60
+
+
+def test_without_an_id_column_identical_rows_are_interchangeable():
+    frame = small_frame(40).drop(columns=["income", "months_at_address"])  # few distinct rows: many are equal
+    ledger = prepare_ledger(frame, SETTINGS)
+    shuffled = frame.iloc[::-1].reset_index(drop=True)
+    again = prepare_ledger(shuffled, SETTINGS)
+
+    def holdout_rows(f, sample):
+        return sorted(map(tuple, f[sample == HOLDOUT].astype(str).to_numpy().tolist()))
+
+    assert holdout_rows(frame, ledger.sample) == holdout_rows(shuffled, again.sample)
+
+
+def test_rows_of_equal_key_at_the_edge_are_ordered_by_their_id_text():
+    outcome = np.array([GOOD] * 10, dtype=np.int8)
+    ids = pd.DataFrame({"id": ["b", "a", "é", "c", "B", "d", "e", "f", "g", "h"]})
+    settings = SETTINGS.replace(ledger={"id_column": "id"})
+    # every key equal: the 3 hold-out rows (floor(0.3 × 10 + 1/2)) are the 3 smallest id texts in
+    # UTF-8 byte order: 'B' (0x42) before 'a' (0x61) and 'b'; 'é' (0xC3 0xA9) comes last
+    sample = split_samples(outcome, None, settings, keys=np.zeros(10, np.int64), tie_texts=frame_tie_texts(ids, settings))
+    assert sorted(ids["id"][sample == HOLDOUT]) == ["B", "a", "b"]
+
+
+def test_a_large_development_sample_gives_seeded_subsamples_for_classing_and_selection():
+    outcome = stratified_outcome(2_400, 600)
+    outcome[::50] = INDETERMINATE  # never in a sub-sample: only goods and bads are fitted
+    settings = SETTINGS.replace(classing={"fine_sample_rows": 1_000}, selection={"sample_rows": 500})
+    keys = keys_of(3_000, settings)
+    sample = split_samples(outcome, None, settings, keys=keys)
+    drawn = draw_subsamples(sample, outcome, keys, settings)
+    fitting = np.flatnonzero((sample == DEVELOPMENT) & (outcome != INDETERMINATE))
+    for purpose, size in (("classing", 1_000), ("selection", 500)):
+        rows = drawn[purpose]
+        assert len(rows) == size and np.all(np.diff(rows) > 0) and np.isin(rows, fitting).all()
+        # the oracle: sort every fitting row by its reordered key
+        np.testing.assert_array_equal(rows, np.sort(fitting[np.argsort(subsample_keys(keys[fitting], purpose))[:size]]))
+    # drawn apart from each other and from the hold-out: about 1000 × 500 / 2100 rows in both (hand-worked)
+    assert 180 < len(np.intersect1d(drawn["classing"], drawn["selection"])) < 300
+    assert draw_subsamples(sample, outcome, keys, SETTINGS) == {}  # a small ledger: every fitting row
+    assert draw_subsamples(sample, outcome, keys, settings.replace(selection={"sample_rows": 0})).keys() == {"classing"}
+
+
+def test_the_subsample_keys_keep_distinct_keys_distinct():
+    keys = keys_of(5_000)
+    assert len(np.unique(subsample_keys(keys, "classing"))) == len(np.unique(keys))
+    assert (subsample_keys(keys, "classing") >= 0).all() and (subsample_keys(keys, "selection") < 2**60).all()
 
 
 def test_out_of_time_rows_are_those_dated_on_or_after_the_date():
     dates = np.arange(np.datetime64("2024-01-01"), np.datetime64("2024-01-01") + 100).astype("datetime64[D]")
     outcome = stratified_outcome(70, 30)
     settings = SETTINGS.replace(samples={"out_of_time_from": "2024-03-01"}, ledger={"date_column": "applied"})
-    sample = split_samples(outcome, dates, settings)
+    sample = split_samples(outcome, dates, settings, keys=keys_of(100))
     # 2024-03-01 is day 60 of 2024 counting from 0 (31 + 29 days, a leap year; hand-worked)
     np.testing.assert_array_equal(sample == OUT_OF_TIME, np.arange(100) >= 60)
     in_time = outcome[:60]
     holdout = sample[:60] == HOLDOUT
-    assert holdout.sum() == round(0.3 * np.sum(in_time == GOOD)) + round(0.3 * np.sum(in_time == BAD))
+    assert holdout.sum() == holdout_count(np.sum(in_time == GOOD), 0.3) + holdout_count(np.sum(in_time == BAD), 0.3)
 
 
 def test_out_of_time_without_a_date_column():

@@ -277,7 +277,7 @@ def test_editing_keeps_every_other_line_and_adds_new_keys_and_sections(tmp_path)
     edit_settings(path, {"samples.seed": 7, "characteristics.age.use": "never", "characteristics.new one.use": "never"})
     text = path.read_text(encoding="utf-8")
     changed = [line for line in text.splitlines() if line not in original.splitlines()]
-    assert changed == ['seed = 7  # seed of the random hold-out split', 'use = "never"',
+    assert changed == ['seed = 7  # seed of the hold-out split (a seeded hash of each row\'s id, or of the row)', 'use = "never"',
                        '[characteristics."new one"]', 'use = "never"']
     assert read_settings(path).characteristic("new one").use == "never"
 

@@ -7,13 +7,14 @@ import json
 import warnings
 
 import numpy as np
+import pandas as pd
 import pytest
 
 from scorecard.build import build_scorecard
 from scorecard.cli import main
 from scorecard.demo.generator import generate_ledger, write_ledger
 from scorecard.errors import LedgerError
-from scorecard.intake import stream_ledger
+from scorecard.intake import open_ledger, stream_ledger
 from scorecard.modelfile import model_document
 from scorecard.settings import Settings
 
@@ -23,10 +24,10 @@ pytestmark = pytest.mark.slow
 BATCH_ROWS = 1_700  # small, so that a 9000-row ledger is read in several batches, the last one short
 
 
-def _settings():
+def _settings(id_column="application_id"):
     return Settings().replace(
         outcome={"column": "outcome", "bad": ("bad",), "good": ("good",), "indeterminate": ("indeterminate",)},
-        ledger={"id_column": "application_id", "date_column": "application_date", "leave_out": ("collections_status",),
+        ledger={"id_column": id_column, "date_column": "application_date", "leave_out": ("collections_status",),
                 "batch_rows": BATCH_ROWS},
         samples={"out_of_time_from": "2025-07-01"},
         selection={"sample_rows": 2_000},  # the choice on a sample: its rows must be the same ones too
@@ -40,15 +41,46 @@ def ledgers(tmp_path_factory):
     return write_ledger(frame, folder / "ledger.csv"), write_ledger(frame, folder / "ledger.parquet")
 
 
-@pytest.mark.parametrize("kind", ["csv", "parquet"])
-def test_streamed_build_equals_the_build_in_memory(ledgers, kind):
+@pytest.mark.parametrize("kind, id_column", [("csv", "application_id"), ("parquet", "application_id"), ("csv", "")])
+def test_streamed_build_equals_the_build_in_memory(ledgers, kind, id_column):
+    # without an id column the hold-out is drawn from a hash of every value of the row
     path = ledgers[0] if kind == "csv" else ledgers[1]
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        whole = model_document(build_scorecard(path, _settings(), stream=False))
-        streamed = model_document(build_scorecard(path, _settings(), stream=True))
+        whole = model_document(build_scorecard(path, _settings(id_column), stream=False))
+        streamed = model_document(build_scorecard(path, _settings(id_column), stream=True))
     # the model file's content, to the last decimal (integer weights make every sum exact)
     assert json.dumps(streamed, sort_keys=True) == json.dumps(whole, sort_keys=True)
+
+
+def test_rows_of_equal_key_are_split_alike_in_memory_and_in_batches(ledgers, monkeypatch):
+    # keys cut to 4 bits: every class's hold-out edge falls among hundreds of rows of equal key,
+    # which are then ordered by their texts (the id's, then the whole row's)
+    import scorecard.intake.prepare
+    import scorecard.intake.samples
+    from scorecard.rows.keys import split_keys
+
+    def coarse(frame, columns, seed):
+        return split_keys(frame, columns, seed) >> 56
+
+    for module in (scorecard.intake.prepare, scorecard.intake.samples):
+        monkeypatch.setattr(module, "split_keys", coarse)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        samples = [open_ledger(ledgers[0], _settings(), stream=stream)[0].sample for stream in (False, True)]
+    np.testing.assert_array_equal(samples[0], samples[1])
+
+
+@pytest.mark.parametrize("stream", [False, True])
+def test_a_ledger_in_another_row_order_gives_the_same_model(ledgers, tmp_path, stream):
+    frame = pd.read_csv(ledgers[0])
+    shuffled = write_ledger(frame.sample(frac=1.0, random_state=5), tmp_path / ledgers[0].name)  # the same name
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        documents = [model_document(build_scorecard(path, _settings(), stream=stream)) for path in (ledgers[0], shuffled)]
+    for document in documents:  # the file's bytes differ, so does their hash; everything else must not
+        del document["ledger"]["fingerprint"]["sha256"]
+    assert json.dumps(documents[0], sort_keys=True) == json.dumps(documents[1], sort_keys=True)
 
 
 def test_the_ledger_is_really_read_in_several_batches(ledgers):

@@ -48,7 +48,8 @@ def fine_classing(values: pd.Series | np.ndarray, weights: np.ndarray, *, name: 
     level_codes, uniques = factorize_levels(values)
     totals = np.bincount(level_codes[level_codes >= 0], weights=weights[level_codes >= 0], minlength=len(uniques))
     share = totals / max(totals.sum(), np.finfo(float).tiny)
-    order = np.argsort(-totals, kind="stable")
+    # largest first, then by text: the order of the rows must not decide the order of the levels
+    order = sorted(range(len(uniques)), key=lambda i: (-totals[i], uniques[i]))
     common = tuple((uniques[i],) for i in order if share[i] >= rare_level_share)
     rare = tuple(uniques[i] for i in order if share[i] < rare_level_share)
     classes = common + ((rare,) if rare else ())

@@ -98,7 +98,8 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
 
     Notes
     -----
-    Fine cut points are taken from a seeded sample of the development rows. Pass 1 (only for
+    Fine cut points are taken from the development rows, or from their seeded sub-sample when
+    there are more than ``classing.fine_sample_rows`` (drawn at intake from the split keys). Pass 1 (only for
     characteristics without a fixed classing) counts fine bins; the best classing follows from
     those counts. Pass 2 codes every characteristic and counts its bins, with a bin of its own for
     values the binning does not know; the settings' classing is then completed from the counts
@@ -107,7 +108,7 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
     rows = rows_in_memory(ledger) if rows is None else rows
     characteristics = ledger.characteristics
     proposed = [c for c in characteristics if not _is_fixed(settings, c.name)]
-    fine_rows, fine_weights = rows.gather(_fine_sample(rows.fitting_rows(), settings), [c.name for c in proposed],
+    fine_rows, fine_weights = rows.gather(rows.fitting_rows("classing"), [c.name for c in proposed],
                                           empty=ledger.frame)
     fine = {c.name: _fine_binning(fine_rows[c.name], fine_weights, c, settings) for c in proposed}
     binnings, coarse_notes = {}, {}
@@ -142,15 +143,6 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
 def _is_fixed(settings: Settings, name: str) -> bool:
     spec = settings.characteristic(name)
     return spec.cuts is not None or spec.classes is not None
-
-
-def _fine_sample(rows: np.ndarray, settings: Settings) -> np.ndarray:
-    """Rows the fine cut points are taken from: all, or a seeded sample when the ledger is large."""
-    limit = settings.classing.fine_sample_rows
-    if len(rows) <= limit:
-        return rows
-    rng = np.random.default_rng(settings.samples.seed + 1)
-    return np.sort(rng.choice(rows, size=limit, replace=False))
 
 
 def _fine_binning(values, weights, char: Characteristic, settings: Settings) -> Binning:

@@ -60,6 +60,11 @@ class Ledger:
     notes : tuple of str
         What intake left out or repaired, and why (the reports list them).
     fingerprint : Fingerprint
+    left_out : mapping of str to str
+        Columns that are not characteristics, and why.
+    subsamples : mapping of str to numpy.ndarray
+        Ascending row numbers of the seeded sub-samples of a large development sample
+        ('classing', 'selection'; ``scorecard.intake.samples.draw_subsamples``).
     """
 
     source: str
@@ -73,6 +78,7 @@ class Ledger:
     notes: tuple[str, ...]
     fingerprint: Fingerprint
     left_out: Mapping[str, str] = field(default_factory=dict)
+    subsamples: Mapping[str, np.ndarray] = field(default_factory=dict)
 
     @property
     def n_rows(self) -> int:

@@ -16,12 +16,13 @@ import pandas as pd
 
 from ..errors import LedgerError, ScorecardWarning
 from ..rows import BATCH_READABLE, InProcessRows, reads_in_batches
+from ..rows.keys import split_keys
 from ..settings import Settings
 from .kinds import check_finite, choose_characteristics, role_columns
 from .ledger import Fingerprint, Ledger, fingerprint_of
-from .read import arrow_types, checked_file, file_batches, read_head, read_ledger
+from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, read_head, read_ledger
 from .roles import check_roles, role_values, unit_weights
-from .samples import split_samples
+from .samples import draw_subsamples, frame_tie_texts, key_columns, needs_keys, sample_keys, split_samples
 
 
 def open_ledger(data: pd.DataFrame | str | os.PathLike[str], settings: Settings, *, stream: bool | None = None,
@@ -47,7 +48,7 @@ def open_ledger(data: pd.DataFrame | str | os.PathLike[str], settings: Settings,
     """
     if not isinstance(data, pd.DataFrame) and reads_in_batches(data, settings.ledger.stream_above_mb, asked=stream):
         ledger, batches = stream_ledger(data, settings, require_outcome=require_outcome)
-        return ledger, InProcessRows(ledger.outcome, ledger.weight, ledger.sample, batches)
+        return ledger, InProcessRows(ledger.outcome, ledger.weight, ledger.sample, batches, subsamples=ledger.subsamples)
     frame = read_ledger(data)
     if isinstance(data, pd.DataFrame):
         ledger = prepare_ledger(frame, settings, require_outcome=require_outcome)
@@ -59,7 +60,7 @@ def open_ledger(data: pd.DataFrame | str | os.PathLike[str], settings: Settings,
 
 def rows_in_memory(ledger: Ledger) -> InProcessRows:
     """The row source of a ledger held in memory."""
-    return InProcessRows.from_frame(ledger.frame, ledger.outcome, ledger.weight, ledger.sample)
+    return InProcessRows.from_frame(ledger.frame, ledger.outcome, ledger.weight, ledger.sample, subsamples=ledger.subsamples)
 
 
 def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "DataFrame",
@@ -95,7 +96,10 @@ def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "Da
     check_finite(frame, characteristics, source)
     outcome, weight, dates = role_values(frame, settings, source)
     repairs = check_roles(outcome, weight, settings, source, require_outcome=require_outcome)
-    sample = split_samples(outcome, dates, settings, source=source)
+    keys = sample_keys(frame, settings) if require_outcome and needs_keys(len(frame), settings) else None
+    tie_texts = frame_tie_texts(frame, settings)
+    sample = split_samples(outcome, dates, settings, keys=keys, tie_texts=tie_texts, source=source)
+    subsamples = draw_subsamples(sample, outcome, keys, settings, tie_texts=tie_texts) if keys is not None else {}
     ids = frame[settings.ledger.id_column].to_numpy() if settings.ledger.id_column else None
     kept = frame[[c.name for c in characteristics]]
     if fingerprint is None:
@@ -106,6 +110,7 @@ def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "Da
     return Ledger(
         source=source, frame=kept, characteristics=tuple(characteristics), outcome=outcome, weight=weight,
         sample=sample, dates=dates, ids=ids, notes=tuple(notes), fingerprint=fingerprint, left_out=left_out,
+        subsamples=subsamples,
     )
 
 
@@ -129,9 +134,10 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
 
     Notes
     -----
-    Pass 1 reads the outcome, weight and date columns only; the characteristics' kinds and
-    left-out columns are judged on the first ``scorecard.intake.read.HEAD_ROWS`` rows (set them in the settings file to
-    decide yourself). The samples are split exactly as for a ledger held in memory.
+    Pass 1 reads the outcome, weight and date columns, and the columns of the split key (the id
+    column, or every column when there is none); the characteristics' kinds and left-out columns
+    are judged on the first ``scorecard.intake.read.HEAD_ROWS`` rows (set them in the settings
+    file to decide yourself). The samples are split exactly as for a ledger held in memory.
     """
     path, suffix = checked_file(source)
     batch_rows = settings.ledger.batch_rows  # rows per batch (Parquet; CSV batches are about that size)
@@ -143,9 +149,12 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
         raise LedgerError(f"{source_name}: the file has a header but no data rows. Export the ledger again with its data.")
     roles = role_columns(head, settings, source_name, require_outcome)
     characteristics, left_out = choose_characteristics(head, settings, roles, source_name)
-    types = arrow_types(head)
+    types = arrow_types(head, exact=[settings.ledger.id_column])
     role_names = [c for c in (settings.outcome.column, settings.ledger.weight_column, settings.ledger.date_column)
-                    if c and c in head.columns]
+                  if c and c in head.columns]
+    drawn = require_outcome and needs_keys(len(head) if len(head) < HEAD_ROWS else None, settings)
+    keyed = key_columns(head.columns, settings) if drawn else []
+    first_pass = list(dict.fromkeys([*role_names, *keyed])) or list(head.columns[:1])
 
     def batches(columns: Sequence[str]):
         read = [c for c in characteristics if c.name in columns]
@@ -153,19 +162,34 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
             check_finite(frame, read, source_name, first_row=first_row)
             yield first_row, frame
 
-    parts = [role_values(frame, settings, source_name, first_row=first_row)
-             for first_row, frame in file_batches(path, suffix, role_names or list(head.columns[:1]), types, batch_rows)]
+    parts = [(*role_values(frame, settings, source_name, first_row=first_row),
+              split_keys(frame, keyed, settings.samples.seed) if drawn else None)
+             for first_row, frame in file_batches(path, suffix, first_pass, types, batch_rows)]
     outcome = np.concatenate([p[0] for p in parts])
     weight = np.concatenate([p[1] for p in parts]) if settings.ledger.weight_column else unit_weights(len(outcome))
     dates = np.concatenate([p[2] for p in parts]) if settings.ledger.date_column else None
+    keys = np.concatenate([p[3] for p in parts]) if drawn else None
+    del parts
     repairs = check_roles(outcome, weight, settings, source_name, require_outcome=require_outcome)
-    sample = split_samples(outcome, dates, settings, source=source_name)
+
+    def tie_texts(rows: np.ndarray):  # the file is read again for the few rows of equal key at an edge
+        order = np.argsort(rows, kind="stable")
+        ascending, found = rows[order], []
+        for first_row, frame in file_batches(path, suffix, list(head.columns), types, batch_rows):
+            inside = ascending[(ascending >= first_row) & (ascending < first_row + len(frame))]
+            found.append(frame.iloc[inside - first_row])
+        texts = frame_tie_texts(pd.concat(found, ignore_index=True), settings)(np.arange(len(rows)))
+        return [texts[i] for i in np.argsort(order)]
+
+    sample = split_samples(outcome, dates, settings, keys=keys, tie_texts=tie_texts, source=source_name)
+    subsamples = draw_subsamples(sample, outcome, keys, settings, tie_texts=tie_texts) if drawn else {}
+    del keys
     notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
     for note in repairs:
         warnings.warn(note, ScorecardWarning, stacklevel=2)
     ledger = Ledger(
         source=source_name, frame=head.iloc[:0][[c.name for c in characteristics]], characteristics=tuple(characteristics),
         outcome=outcome, weight=weight, sample=sample, dates=dates, ids=None, notes=tuple(notes),
-        fingerprint=fingerprint_of(path, len(outcome)), left_out=left_out,
+        fingerprint=fingerprint_of(path, len(outcome)), left_out=left_out, subsamples=subsamples,
     )
     return ledger, batches

@@ -11,6 +11,7 @@ import os
 from collections.abc import Sequence
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 
 from ..errors import LedgerError
@@ -28,6 +29,11 @@ EMPTY_WORDS = (
     "", "#N/A", "#N/A N/A", "#NA", "-1.#IND", "-1.#QNAN", "-NaN", "-nan", "1.#IND", "1.#QNAN", "<NA>", "N/A", "NA",
     "NULL", "NaN", "None", "n/a", "nan", "null",
 )
+
+
+# the words pandas reads as true and false (its read_csv documentation, true_values), for batches read with pyarrow
+TRUE_WORDS = ("True", "TRUE", "true")
+FALSE_WORDS = ("False", "FALSE", "false")
 
 
 def read_ledger(source: str | os.PathLike[str] | pd.DataFrame, *, columns: Sequence[str] | None = None) -> pd.DataFrame:
@@ -173,11 +179,32 @@ def read_head(path: Path, suffix: str) -> pd.DataFrame:
     return pd.read_csv(path, nrows=HEAD_ROWS, encoding="utf-8-sig", low_memory=False, sep=csv_delimiter(path))
 
 
-def arrow_types(head: pd.DataFrame) -> dict[str, object]:
-    """Column types for reading batches: numbers as float64, everything else as text."""
+def arrow_types(head: pd.DataFrame, *, exact: Sequence[str] = ()) -> dict[str, object]:
+    """Column types for reading batches: numbers as float64, true/false as booleans, everything else as text.
+
+    A column named in ``exact`` (the id column) keeps whole numbers as 64-bit integers, since a
+    float64 would round a long number and change the row's split key.
+    """
     import pyarrow as pa
 
-    return {str(c): pa.float64() if detect_kind(head[c]) == NUMERIC else pa.string() for c in head.columns}
+    def kind(column) -> object:
+        series = head[column]
+        if pd.api.types.is_bool_dtype(series) or _true_or_false(series):
+            return pa.bool_()
+        if str(column) in exact and pd.api.types.is_integer_dtype(series):
+            return pa.int64()
+        return pa.float64() if detect_kind(series) == NUMERIC else pa.string()
+
+    return {str(c): kind(c) for c in head.columns}
+
+
+def _true_or_false(series: pd.Series) -> bool:
+    """Whether a column read whole holds only True, False and missing (pandas keeps it as objects)."""
+    if not pd.api.types.is_object_dtype(series):
+        return False
+    present = series.dropna()
+    return len(present) > 0 and all(isinstance(v, (bool, np.bool_)) for v in present.iloc[:1000]) and \
+        present.isin([True, False]).all()
 
 
 def file_batches(path: Path, suffix: str, columns: list[str], types: dict[str, object], batch_rows: int):
@@ -218,6 +245,7 @@ def _arrow_batches(path: Path, suffix: str, columns: list[str], types: dict[str,
         convert_options=pacsv.ConvertOptions(
             include_columns=columns, column_types={c: types[c] for c in columns},
             null_values=sorted(EMPTY_WORDS), strings_can_be_null=True, quoted_strings_can_be_null=True,
+            true_values=list(TRUE_WORDS), false_values=list(FALSE_WORDS),
         ),
     )
     yield from reader

@@ -243,12 +243,18 @@ def _attention(build, validation) -> list[str]:
 # 2. Data and samples
 
 
+def _key_source(settings) -> str:
+    id_column = settings.ledger.id_column
+    return f"the id column {id_column!r}" if id_column else "all the values of the row (there is no id column)"
+
+
 def _data(build) -> dict:
     settings = build.settings
     samples = settings.samples
     drawn = [
-        f"Hold-out: {percent_text(samples.holdout_fraction, 0)} of the in-time rows of each outcome, drawn at random "
-        f"with seed {samples.seed}, so development and hold-out have the same bad rate to within one row.",
+        f"Hold-out: {percent_text(samples.holdout_fraction, 0)} of the in-time rows of each outcome, those with the "
+        f"smallest keys, a hash with seed {samples.seed} of {_key_source(settings)}: the same rows whatever their order "
+        "or where they are read, and development and hold-out have the same bad rate to within one row.",
     ]
     if samples.out_of_time_from:
         drawn.append(f"Out-of-time: every row dated on or after {samples.out_of_time_from} "

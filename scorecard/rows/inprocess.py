@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import concurrent.futures
 from collections.abc import Callable, Iterable, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -45,6 +45,8 @@ class InProcessRows:
         ``batches(columns)``: one pass over the ledger reading those columns, as (first row, frame).
     frame : pandas.DataFrame or None
         The characteristic columns when the ledger is held in memory; None when it is read in batches.
+    subsamples : mapping of str to numpy.ndarray
+        The seeded sub-samples of a large development sample (see ``fitting_rows``).
     """
 
     outcome: np.ndarray
@@ -52,11 +54,13 @@ class InProcessRows:
     sample: np.ndarray
     batches: Batches
     frame: pd.DataFrame | None = None
+    subsamples: Mapping[str, np.ndarray] = field(default_factory=dict)
 
     @classmethod
-    def from_frame(cls, frame: pd.DataFrame, outcome: np.ndarray, weight: np.ndarray, sample: np.ndarray) -> InProcessRows:
+    def from_frame(cls, frame: pd.DataFrame, outcome: np.ndarray, weight: np.ndarray, sample: np.ndarray, *,
+                   subsamples: Mapping[str, np.ndarray] | None = None) -> InProcessRows:
         """Rows held in memory: every pass sees the whole frame at once."""
-        return cls(outcome, weight, sample, lambda columns: iter([(0, frame)]), frame)
+        return cls(outcome, weight, sample, lambda columns: iter([(0, frame)]), frame, dict(subsamples or {}))
 
     @property
     def in_memory(self) -> bool:
@@ -68,8 +72,11 @@ class InProcessRows:
         """Mask of the development rows with a good or bad outcome: the rows every fit and classing is made on."""
         return (self.sample == DEVELOPMENT) & ((self.outcome == GOOD) | (self.outcome == BAD))
 
-    def fitting_rows(self) -> np.ndarray:
-        """Row numbers of the development rows with a good or bad outcome."""
+    def fitting_rows(self, subsample: str = "") -> np.ndarray:
+        """Row numbers of the development rows with a good or bad outcome, or of their seeded sub-sample
+        ('classing' or 'selection', drawn at intake when the development sample is large)."""
+        if subsample in self.subsamples:
+            return self.subsamples[subsample]
         return np.flatnonzero(self.fitting)
 
     # ----------------------------------------------------------------------------------------

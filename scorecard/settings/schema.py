@@ -80,7 +80,8 @@ class SampleSettings:
         0.3, "share of the in-time rows kept back as the hold-out sample (stratified by outcome)",
         lambda v: 0.0 <= v < 1.0, "a share from 0 up to (not including) 1",
     )
-    seed: int = _key(20260101, "seed of the random hold-out split", lambda v: v >= 0, "a whole number >= 0")
+    seed: int = _key(20260101, "seed of the hold-out split (a seeded hash of each row's id, or of the row)",
+                     lambda v: v >= 0, "a whole number >= 0")
     out_of_time_from: str = _key(
         "", "rows dated on or after this ISO date form the out-of-time sample (blank: none)",
         lambda v: v == "" or _is_iso_date(v), "an ISO date such as 2025-07-01, or blank",
