@@ -28,13 +28,15 @@ MOST_HONEST_FIRST = ("out-of-time", "hold-out", "development")
 NUMERIC, CATEGORICAL = "numeric", "categorical"
 
 # How the bad rate may move as a numeric characteristic's value grows (the settings' bad_rate_shape):
-# as the data say (the tool tries falls and rises and keeps the classing with the larger IV), it
-# falls, it rises, or in any order. WoE = ln(good share / bad share), so a bad rate that falls as
-# the value grows is a WoE that rises with it. The single-bend shapes "falls-then-rises" and
-# "rises-then-falls" are kept for a later version; the settings say so when they are asked for.
+# as the data say (the tool tries every shape below but 'any', and takes a single bend only when it
+# buys a clear gain in IV), it falls, it rises, it falls and then rises (one bend), it rises and then
+# falls, or in any order. WoE = ln(good share / bad share), so a bad rate that falls as the value
+# grows is a WoE that rises with it.
 FROM_DATA, FALLS, RISES, ANY = "from-data", "falls", "rises", "any"
-BAD_RATE_SHAPES = (FROM_DATA, FALLS, RISES, ANY)
-LATER_SHAPES = ("falls-then-rises", "rises-then-falls")
+FALLS_THEN_RISES, RISES_THEN_FALLS = "falls-then-rises", "rises-then-falls"
+BAD_RATE_SHAPES = (FROM_DATA, FALLS, RISES, FALLS_THEN_RISES, RISES_THEN_FALLS, ANY)
+ONE_WAY_SHAPES = (FALLS, RISES)
+SINGLE_BEND_SHAPES = (FALLS_THEN_RISES, RISES_THEN_FALLS)
 
 # Added to both counts of a cell with no goods or no bads (WoE) or an empty bin (PSI), which keeps
 # the logarithm finite; the reports say where it was done (common practice, no source).
@@ -61,7 +63,9 @@ def shape_words(shape: str) -> str:
     return {
         FALLS: "the bad rate falls as the value grows",
         RISES: "the bad rate rises as the value grows",
-        FROM_DATA: "the bad rate moves one way as the value grows",
+        FALLS_THEN_RISES: "the bad rate falls, then rises, as the value grows (one bend)",
+        RISES_THEN_FALLS: "the bad rate rises, then falls, as the value grows (one bend)",
+        FROM_DATA: "the bad rate moves one way, or bends once, as the value grows",
         ANY: "the bad rate may move either way",
     }[shape]
 

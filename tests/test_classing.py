@@ -12,7 +12,7 @@ from hypothesis import given, settings, strategies as st
 
 from scorecard.classing import (
     Binning, ClassLimits, binning_from_settings, categorical_binning, check_constraints, coarse_classing,
-    fine_classing, numeric_binning, best_classing, quantile_cuts, roundest_between,
+    fine_classing, keeps_shape, numeric_binning, best_classing, quantile_cuts, roundest_between,
 )
 from scorecard.rows import code_rows, unseen_levels
 from scorecard.terms import CATEGORICAL, NUMERIC
@@ -20,6 +20,7 @@ from scorecard.errors import ClassingError
 from scorecard.evidence import information_value, woe_values
 
 IV_ATOL = 1e-12  # the programme and the enumeration add the same floats in a different order
+SHAPES = ["falls", "rises", "falls-then-rises", "rises-then-falls", "any"]
 HYPOTHESIS = settings(max_examples=200, deadline=None, derandomize=True)
 
 
@@ -125,24 +126,42 @@ def _all_partitions(n):
             yield (0, *inner)
 
 
+def _moves_as_asked(woe, shape):
+    """The oracle of a shape, step by step: WoE rises where the bad rate falls (and the other way round)."""
+    steps = [1 if b > a else -1 if b < a else 0 for a, b in zip(woe, woe[1:])]
+    if shape == "any":
+        return True
+    if shape in ("falls", "rises"):
+        return all(step == (1 if shape == "falls" else -1) for step in steps)
+    first, second = (1, -1) if shape == "falls-then-rises" else (-1, 1)
+    # one bend after any number of steps (none, or all of them: the bend at an end)
+    return any(all(step == first for step in steps[:bend]) and all(step == second for step in steps[bend:])
+               for bend in range(len(steps) + 1))
+
+
+def _class_counts(starts, goods, bads):
+    ends = [*starts[1:], len(goods)]
+    g = np.array([goods[s:e].sum() for s, e in zip(starts, ends)])
+    b = np.array([bads[s:e].sum() for s, e in zip(starts, ends)])
+    return g, b
+
+
+def _meets(starts, goods, bads, limits, shape):
+    g, b = _class_counts(starts, goods, bads)
+    if len(starts) > limits.max_classes:
+        return False
+    if ((g + b) < limits.min_rows - 1e-9).any() or (g < limits.min_goods).any() or (b < limits.min_bads).any():
+        return False
+    return _moves_as_asked(woe_values(g, b, goods.sum(), bads.sum()), shape)
+
+
 def _brute_force(goods, bads, limits, shape):
     best, best_iv = None, -np.inf
-    total_goods, total_bads = goods.sum(), bads.sum()
     for starts in _all_partitions(len(goods)):
-        if len(starts) > limits.max_classes:
+        if not _meets(starts, goods, bads, limits, shape):
             continue
-        ends = [*starts[1:], len(goods)]
-        g = np.array([goods[s:e].sum() for s, e in zip(starts, ends)])
-        b = np.array([bads[s:e].sum() for s, e in zip(starts, ends)])
-        if ((g + b) < limits.min_rows - 1e-9).any() or (g < limits.min_goods).any() or (b < limits.min_bads).any():
-            continue
-        woe = woe_values(g, b, total_goods, total_bads)
-        # the bad rate falls as the value grows: WoE rises from class to class
-        if shape == "falls" and (np.diff(woe) <= 0).any():
-            continue
-        if shape == "rises" and (np.diff(woe) >= 0).any():
-            continue
-        iv = information_value(g, b, total_goods=total_goods, total_bads=total_bads)
+        g, b = _class_counts(starts, goods, bads)
+        iv = information_value(g, b, total_goods=goods.sum(), total_bads=bads.sum())
         if iv > best_iv + 1e-15:
             best, best_iv = starts, iv
     return best, best_iv
@@ -158,12 +177,13 @@ def _partition_iv(starts, goods, bads):
 @given(
     counts=st.lists(st.tuples(st.integers(0, 60), st.integers(0, 20)), min_size=1, max_size=9),
     min_rows=st.integers(0, 40), min_goods=st.integers(0, 10), min_bads=st.integers(0, 5),
-    max_classes=st.integers(2, 6), shape=st.sampled_from(["falls", "rises", "any"]),
+    max_classes=st.integers(2, 6), shape=st.sampled_from(SHAPES),
 )
 @HYPOTHESIS
 def test_best_classing_equals_brute_force_enumeration(counts, min_rows, min_goods, min_bads, max_classes, shape):
     # the exact optimum of W. D. Fisher, "On grouping for maximum homogeneity", JASA 1958, with
-    # constraints added, checked against enumerating every partition of the ordered bins
+    # constraints added (the single-bend shapes as one more state), checked against enumerating
+    # every partition of the ordered bins and keeping those the step-by-step oracle accepts
     goods = np.array([c[0] for c in counts], float)
     bads = np.array([c[1] for c in counts], float)
     if goods.sum() == 0 or bads.sum() == 0:
@@ -174,7 +194,27 @@ def test_best_classing_equals_brute_force_enumeration(counts, min_rows, min_good
     if expected is None:
         assert starts == (0,)
     else:
+        assert _meets(starts, goods, bads, limits, shape)
         assert _partition_iv(starts, goods, bads) == pytest.approx(expected_iv, abs=IV_ATOL)
+
+
+@given(woe=st.lists(st.integers(-3, 3), min_size=1, max_size=7), shape=st.sampled_from(SHAPES + ["from-data"]))
+@HYPOTHESIS
+def test_keeps_shape_equals_the_step_by_step_oracle(woe, shape):
+    expected = (any(_moves_as_asked(woe, option) for option in SHAPES[:4]) if shape == "from-data"
+                else _moves_as_asked(woe, shape))
+    assert keeps_shape(np.array(woe, float), shape) == expected
+
+
+def test_a_bend_classing_finds_the_bend_where_the_data_turn():
+    # bad rates 30, 20, 10, 5, 10, 20, 30 % over seven bins of 100 rows: falls, then rises; with
+    # no limits, one way can keep at most a falling or a rising chain, the bend keeps every bin
+    bads = np.array([30.0, 20, 10, 5, 10, 20, 30])
+    goods = 100 - bads
+    totals = dict(total_goods=goods.sum(), total_bads=bads.sum(), limits=ClassLimits(max_classes=8))
+    assert best_classing(goods, bads, shape="falls-then-rises", **totals) == (0, 1, 2, 3, 4, 5, 6)
+    assert len(best_classing(goods, bads, shape="falls", **totals)) < 7
+    assert best_classing(goods, bads, shape="rises-then-falls", **totals) != (0, 1, 2, 3, 4, 5, 6)
 
 
 def test_unconstrained_classing_keeps_every_bin_of_a_monotone_sequence():
@@ -343,3 +383,74 @@ def test_from_data_picks_the_shape_the_data_have():
     goods, bads = _fine_counts(fine, x, bad)
     chosen = coarse_classing(fine, goods, bads, bad_rate_shape="from-data").binning
     assert chosen.bad_rate_shape == "falls" and chosen.n_chain > 2
+
+
+# ---------------------------------------------------------------------------------------------
+# Single-bend shapes in the coarse classing
+
+
+def _bent(n=8000, seed=21, bend=1.0):
+    """Invented process: the bad rate falls as x grows to 50, then rises again (one bend); ``bend=-1``
+    turns it over (rises, then falls)."""
+    rng = np.random.default_rng(seed)
+    x = rng.uniform(0, 100, size=n)
+    p_bad = 1 / (1 + np.exp(-(-2.0 + bend * (0.0012 * (x - 50) ** 2 - 1.0))))
+    return x, rng.random(n) < p_bad
+
+
+def _class_bad_rates(binning, x, bad):
+    codes = code_rows(x, binning)
+    chain = binning.n_chain
+    return np.bincount(codes, weights=bad, minlength=binning.n_bins)[:chain] / np.bincount(codes, minlength=binning.n_bins)[:chain]
+
+
+def test_from_data_takes_a_bend_where_it_buys_a_clear_gain():
+    x, bad = _bent()
+    fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC)
+    goods, bads = _fine_counts(fine, x, bad)
+    result = coarse_classing(fine, goods, bads, bad_rate_shape="from-data")
+    assert result.binning.bad_rate_shape == "falls-then-rises"
+    one_way = max(coarse_classing(fine, goods, bads, bad_rate_shape=shape).iv for shape in ("falls", "rises"))
+    assert result.iv > 1.1 * one_way  # more than bend_min_gain (0.1) above the best one-way IV
+    assert any("so from-data takes it" in note for note in result.notes)
+    # counted on the rows: the class bad rates fall to one class and rise after it
+    steps = np.sign(np.diff(_class_bad_rates(result.binning, x, bad)))
+    bend = int(np.argmax(steps > 0))
+    assert 0 < bend < len(steps) and (steps[:bend] < 0).all() and (steps[bend:] > 0).all()
+
+
+def test_from_data_keeps_one_way_when_the_bend_buys_too_little():
+    x, bad = _bent()
+    fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC)
+    goods, bads = _fine_counts(fine, x, bad)
+    assert coarse_classing(fine, goods, bads, bend_min_gain=1e6).binning.bad_rate_shape in ("falls", "rises")
+    # and on a process whose bad rate only falls, the default never bends
+    x, bad = _synthetic()
+    fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC, special_values=[-1])
+    goods, bads = _fine_counts(fine, x, bad)
+    assert coarse_classing(fine, goods, bads).binning.bad_rate_shape == "falls"
+
+
+@pytest.mark.parametrize("shape, first, second", [("falls-then-rises", -1, 1), ("rises-then-falls", 1, -1)])
+def test_a_single_bend_shape_asked_for_is_kept_by_the_class_bad_rates(shape, first, second):
+    x, bad = _bent(bend=1.0 if shape == "falls-then-rises" else -1.0)
+    fine = fine_classing(x, np.ones(len(x)), name="x", kind=NUMERIC)
+    goods, bads = _fine_counts(fine, x, bad)
+    binning = coarse_classing(fine, goods, bads, bad_rate_shape=shape).binning
+    assert binning.bad_rate_shape == shape
+    # counted on the rows: the class bad rates move the first way, turn once, and move the other way
+    steps = np.sign(np.diff(_class_bad_rates(binning, x, bad)))
+    turn = int(np.argmax(steps != first))
+    assert 0 < turn < len(steps) and (steps[:turn] == first).all() and (steps[turn:] == second).all()
+
+
+def test_a_fixed_classing_with_a_bend_breaks_a_one_way_shape_only():
+    binning = binning_from_settings("x", NUMERIC, cuts=[10, 20], has_missing=False)
+    goods = np.array([60.0, 90, 60])
+    bads = np.array([40.0, 10, 40])  # bad rates 40, 10, 40 %: falls, then rises
+    limits = dict(min_class_share=0.05, min_goods=10, min_bads=10, max_classes=8)
+    assert any("asks that the bad rate falls as the value grows" in p
+               for p in check_constraints(binning, goods, bads, bad_rate_shape="falls", **limits))
+    assert check_constraints(binning, goods, bads, bad_rate_shape="falls-then-rises", **limits) == []
+    assert check_constraints(binning, goods, bads, bad_rate_shape="from-data", **limits) == []
+    assert check_constraints(binning, goods, bads, bad_rate_shape="rises-then-falls", **limits) != []

@@ -12,6 +12,8 @@ from __future__ import annotations
 import re
 from pathlib import Path
 
+from scorecard.terms import BAD_RATE_SHAPES
+
 ROOT = Path(__file__).resolve().parent.parent
 OLD_NAMES = re.compile(
     r"\btrend|\bgroups?\b|\bgrouping\b|max_groups|min_group_share|fallback|\bstray\b|\"ascending\"|\"descending\"",
@@ -48,3 +50,21 @@ def test_the_old_names_live_in_one_place():
     text = KEEPER.read_text(encoding="utf-8")
     for old in ("trend", "max_groups", "min_group_share", "groups", "fallback_bin", "ascending", "descending"):
         assert old in text
+
+
+# The single-bend shapes are ours too: 'falls-then-rises' and 'rises-then-falls', never the usual
+# library words for them. checks/ (the KS gap where it peaks) and fitter/ (the convex cone of the
+# separation test) speak of other things and are not searched.
+LIBRARY_SHAPE_WORDS = re.compile(r"\bpeak|\bvalley|\bconvex|\bconcave|\bu-?shaped?\b|\binverted[- ]u\b|\bhump", re.IGNORECASE)
+
+
+def test_the_bent_shapes_have_names_of_our_own():
+    found = []
+    for path in _shipped_files():
+        if {"checks", "fitter"} & set(path.relative_to(ROOT).parts):
+            continue
+        for number, line in enumerate(path.read_text(encoding="utf-8").splitlines(), start=1):
+            if LIBRARY_SHAPE_WORDS.search(line):
+                found.append(f"{path.relative_to(ROOT)}:{number}: {line.strip()}")
+    assert not found, "\n".join(found)
+    assert {"falls-then-rises", "rises-then-falls"} <= set(BAD_RATE_SHAPES)

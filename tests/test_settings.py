@@ -312,11 +312,16 @@ def test_an_old_key_is_refused_naming_the_new_one(document, message):
 @pytest.mark.parametrize("value, message", [
     ("ascending", "'ascending' is the old word; the shape it meant is 'falls'"),
     ("none", "'none' is the old word; the shape it meant is 'any'"),
-    ("falls-then-rises", "'falls-then-rises' is kept for a later version of the tool"),
 ])
-def test_an_old_or_later_bad_rate_shape_says_what_it_means(value, message):
-    with pytest.raises(SettingsError, match=f"must be one of from-data, falls, rises, any. {message}"):
+def test_an_old_bad_rate_shape_says_what_it_means(value, message):
+    with pytest.raises(SettingsError, match=f"must be one of from-data, falls, rises, falls-then-rises, rises-then-falls, any. {message}"):
         settings_from_mapping({"classing": {"bad_rate_shape": value}})
+
+
+@pytest.mark.parametrize("shape", ["falls-then-rises", "rises-then-falls"])
+def test_the_single_bend_shapes_are_settings_values(shape):
+    settings = settings_from_mapping({"classing": {"bad_rate_shape": shape}, "characteristics": {"age": {"bad_rate_shape": shape}}})
+    assert settings.classing.bad_rate_shape == shape == settings.characteristic("age").bad_rate_shape
 
 
 def test_a_settings_file_with_an_old_key_stops_the_build_with_exit_code_2(tmp_path):

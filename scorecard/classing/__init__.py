@@ -2,12 +2,13 @@
 
 - ``bins``: ``Binning`` (where every value of a characteristic goes) and the bins' labels;
 - ``fine``: candidate bins from weighted quantiles or levels;
-- ``best``: the best classing, the monotone partition with the largest information value (exact DP);
+- ``best``: the best classing, the partition with the largest information value under a bad-rate shape
+  (one way or one bend; exact DP);
 - ``overrides``: a classing fixed in the settings, completed from counts and checked against the limits;
 - ``passes``: classing a whole ledger in passes over its rows (``class_ledger``).
 """
 
-from .best import CoarseClassing, ClassLimits, coarse_classing, best_classing, worst_bin
+from .best import CoarseClassing, ClassLimits, coarse_classing, best_classing, keeps_shape, worst_bin
 from .bins import (
     MISSING_LABEL, RARE_LABEL, Binning, categorical_binning, format_number, class_label, interval_labels, numeric_binning,
 )
@@ -19,5 +20,5 @@ __all__ = [
     "MISSING_LABEL", "RARE_LABEL", "Binning", "ClassedCharacteristic", "ClassedLedger", "CoarseClassing", "ClassLimits",
     "binning_from_settings", "categorical_binning", "check_constraints", "class_ledger", "classing_settings_values",
     "coarse_classing", "fine_classing", "format_number", "class_label", "interval_labels", "numeric_binning",
-    "best_classing", "quantile_cuts", "resolve_unseen", "roundest_between", "worst_bin",
+    "best_classing", "keeps_shape", "quantile_cuts", "resolve_unseen", "roundest_between", "worst_bin",
 ]

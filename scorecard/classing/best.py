@@ -1,9 +1,11 @@
-"""The best classing: the monotone partition of the fine bins with the largest information value.
+"""The best classing: the partition of the fine bins with the largest information value under a bad-rate shape.
 
 Coarse classing joins adjacent fine bins into the classes with the largest information value
-that keep the bad rate to its shape (falling or rising as the value grows) and every class large
-enough: an exact dynamic programme over the ordered fine bins, not a greedy merge (W. D. Fisher,
-"On grouping for maximum homogeneity", JASA 53, 1958, with constraints added). Missing and
+that keep the bad rate to its shape (falling or rising as the value grows, or one of the two
+single-bend shapes: falling then rising, rising then falling) and every class large enough: an
+exact dynamic programme over the ordered fine bins, not a greedy merge
+(W. D. Fisher, "On grouping for maximum homogeneity", JASA 53, 1958, with constraints added; a
+bend is one more state of the programme, the leg of the shape the last class is on). Missing and
 special-value bins stand alone, or join the class nearest in WoE when they are too small.
 """
 
@@ -15,7 +17,10 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..evidence import information_value, woe_values
-from ..terms import ANY, CATEGORICAL, EMPTY_CELL, FALLS, FROM_DATA, NUMERIC, RISES, shape_words
+from ..terms import (
+    ANY, CATEGORICAL, EMPTY_CELL, FALLS, FALLS_THEN_RISES, FROM_DATA, NUMERIC, ONE_WAY_SHAPES, RISES, RISES_THEN_FALLS,
+    SINGLE_BEND_SHAPES, shape_words,
+)
 from .bins import MISSING_LABEL, Binning, categorical_binning, format_number, numeric_binning
 
 
@@ -39,6 +44,11 @@ class ClassLimits:
     max_classes: int = 8
 
 
+# Each shape is a run of legs along the chain; on a leg the WoE moves one way from class to class:
+# +1 rises, -1 falls, 0 either way. A bad rate that falls as the value grows is a WoE that rises.
+_LEGS = {FALLS: (1,), RISES: (-1,), ANY: (0,), FALLS_THEN_RISES: (1, -1), RISES_THEN_FALLS: (-1, 1)}
+
+
 def best_classing(goods: np.ndarray, bads: np.ndarray, *, total_goods: float, total_bads: float,
                      n_goods: np.ndarray | None = None, n_bads: np.ndarray | None = None,
                      limits: ClassLimits = ClassLimits(), shape: str = FALLS) -> tuple[int, ...]:
@@ -53,9 +63,11 @@ def best_classing(goods: np.ndarray, bads: np.ndarray, *, total_goods: float, to
     n_goods, n_bads : numpy.ndarray, optional
         Raw counts for the minimum-count limits (default: the weighted counts).
     limits : ClassLimits
-    shape : {'falls', 'rises', 'any'}
+    shape : {'falls', 'rises', 'falls-then-rises', 'rises-then-falls', 'any'}
         How the bad rate must move from class to class along the sequence: 'falls' asks for a
-        strictly rising WoE, 'rises' for a strictly falling one, 'any' for no order.
+        strictly rising WoE, 'rises' for a strictly falling one; 'falls-then-rises' for a WoE that
+        strictly rises and then strictly falls (one bend, anywhere, or none), 'rises-then-falls'
+        the other way round; 'any' for no order.
 
     Returns
     -------
@@ -67,30 +79,40 @@ def best_classing(goods: np.ndarray, bads: np.ndarray, *, total_goods: float, to
     -----
     IV is a sum over classes, so the best partition of bins ``[0, k)`` whose last class is
     ``[j, k)`` extends the best partition of ``[0, j)`` whose last class ``[i, j)`` has a WoE on
-    the right side of ``[j, k)``'s. Tracking the last class makes the monotone constraint exact:
-    O(G n^3) for n bins and at most G classes (Fisher 1958, with constraints added).
+    the right side of ``[j, k)``'s. Tracking the last class makes the order constraint exact:
+    O(G n^3) for n bins and at most G classes (Fisher 1958, with constraints added). A single-bend
+    shape adds the leg of the shape the last class is on: a step either stays on its leg or turns
+    onto the next, and must move the way the leg it lands on moves; so the bend's position is
+    chosen by the programme too, exactly, at twice the cost.
     """
     n = len(goods)
     n_goods = goods if n_goods is None else n_goods
     n_bads = bads if n_bads is None else n_bads
     woe, iv, feasible = _segment_tables(goods, bads, n_goods, n_bads, total_goods, total_bads, limits)
-    # best[g, i, j]: largest IV of bins [0, j) in g+1 classes whose last class is [i, j)
-    best = np.full((limits.max_classes, n + 1, n + 1), -np.inf)
-    best[0, 0, :] = np.where(feasible[0, :], iv[0, :], -np.inf)
+    legs = _LEGS[shape]
+    # best[l, g, i, j]: largest IV of bins [0, j) in g+1 classes whose last class is [i, j), on leg l
+    best = np.full((len(legs), limits.max_classes, n + 1, n + 1), -np.inf)
+    # came_from[l, g, i, j]: leg × (n + 1) + start of the class before [i, j) on that best partition
+    came_from = np.zeros(best.shape, dtype=np.int64)
+    best[0, 0, 0, :] = np.where(feasible[0, :], iv[0, :], -np.inf)
     for g in range(1, limits.max_classes):
         for j in range(1, n):
-            previous = best[g - 1, :, j]  # over i: last class [i, j)
-            if not np.isfinite(previous).any():
-                continue
-            allowed = _order_allowed(woe[:, j][:, None], woe[j, :][None, :], shape)
-            candidates = np.where(allowed, previous[:, None], -np.inf)
-            value = candidates.max(axis=0) + iv[j, :]
-            best[g, j, :] = np.where(feasible[j, :], value, -np.inf)
-    finals = best[:, :, n]
+            for leg, direction in enumerate(legs):
+                sources = [leg - 1, leg] if leg else [leg]  # stay on this leg, or turn onto it
+                previous = best[sources, g - 1, :, j]  # over (source leg, i): last class [i, j)
+                if not np.isfinite(previous).any():
+                    continue
+                allowed = _step_allowed(woe[:, j][:, None], woe[j, :][None, :], direction)  # over (i, k)
+                candidates = np.where(allowed[None, :, :], previous[:, :, None], -np.inf).reshape(-1, n + 1)
+                pick = np.argmax(candidates, axis=0)
+                value = candidates[pick, np.arange(n + 1)] + iv[j, :]
+                best[leg, g, j, :] = np.where(feasible[j, :], value, -np.inf)
+                came_from[leg, g, j, :] = np.asarray(sources)[pick // (n + 1)] * (n + 1) + pick % (n + 1)
+    finals = best[:, :, :, n]
     if not np.isfinite(finals).any():
         return (0,)
-    g, i = np.unravel_index(np.argmax(finals), finals.shape)
-    return _backtrack(best, woe, iv, int(g), int(i), n, shape)
+    leg, g, i = np.unravel_index(np.argmax(finals), finals.shape)
+    return _backtrack(came_from, int(leg), int(g), int(i), n)
 
 
 def _segment_tables(goods, bads, n_goods, n_bads, total_goods, total_bads, limits):
@@ -112,33 +134,46 @@ def _segment_tables(goods, bads, n_goods, n_bads, total_goods, total_bads, limit
     return woe, iv, feasible
 
 
-def _order_allowed(before: np.ndarray, after: np.ndarray, shape: str) -> np.ndarray:
+def _step_allowed(before: np.ndarray, after: np.ndarray, direction: int) -> np.ndarray:
     # a bad rate that falls is a WoE that rises
     with np.errstate(invalid="ignore"):
-        if shape == FALLS:
+        if direction > 0:
             return before < after
-        if shape == RISES:
+        if direction < 0:
             return before > after
     return np.isfinite(before) & np.isfinite(after)
 
 
-def _backtrack(best, woe, iv, g, i, n, shape) -> tuple[int, ...]:
-    starts, j, k = [i], i, n
+def _backtrack(came_from, leg, g, start, n) -> tuple[int, ...]:
+    starts, end = [start], n
     while g > 0:
-        target = best[g, j, k] - iv[j, k]
-        previous = best[g - 1, :, j]
-        allowed = _order_allowed(woe[:, j], np.full(len(previous), woe[j, k]), shape)
-        candidates = np.where(allowed, previous, -np.inf)
-        i = int(np.argmin(np.abs(candidates - target)))
-        starts.append(i)
-        g, j, k = g - 1, i, j
+        leg, previous = divmod(int(came_from[leg, g, start, end]), n + 1)
+        starts.append(previous)
+        g, start, end = g - 1, previous, start
     return tuple(reversed(starts))
+
+
+def keeps_shape(woe: np.ndarray, shape: str) -> bool:
+    """Whether WoE along the chain moves as a bad-rate shape asks, strictly from class to class.
+
+    'from-data' is kept by any shape the tool could propose (one way, or one bend); a single-bend
+    shape is also kept by a chain that never turns (the bend at one end).
+    """
+    if shape == FROM_DATA:
+        return any(keeps_shape(woe, option) for option in SINGLE_BEND_SHAPES)
+    legs = _LEGS[shape]
+    if legs == (0,):
+        return True
+    steps = np.sign(np.diff(np.asarray(woe, float)))
+    first_leg = int(np.argmax(steps != legs[0])) if (steps != legs[0]).any() else len(steps)
+    rest = steps[first_leg:]
+    return len(rest) == 0 or (len(legs) == 2 and bool((rest == legs[1]).all()))
 
 
 def coarse_classing(fine: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goods: np.ndarray | None = None,
                     n_bads: np.ndarray | None = None, min_class_share: float = 0.05, min_goods: int = 10,
                     min_bads: int = 10, max_classes: int = 8, min_special_share: float = 0.01,
-                    bad_rate_shape: str = FROM_DATA) -> CoarseClassing:
+                    bad_rate_shape: str = FROM_DATA, bend_min_gain: float = 0.1) -> CoarseClassing:
     """Join a fine binning's bins into the classes with the largest information value that keep the bad rate's shape.
 
     Parameters
@@ -153,10 +188,14 @@ def coarse_classing(fine: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goo
     min_special_share : float
         Missing and special bins smaller than this share, or with fewer goods or bads than the
         limits, are merged into the class of the chain with the nearest WoE.
-    bad_rate_shape : {'from-data', 'falls', 'rises', 'any'}
+    bad_rate_shape : {'from-data', 'falls', 'rises', 'falls-then-rises', 'rises-then-falls', 'any'}
         How the bad rate may move as the value grows; numeric characteristics only (categorical
         levels are ordered by WoE, so their classes are monotone by construction). 'from-data'
-        takes whichever of 'falls' and 'rises' gives the larger IV.
+        takes whichever of 'falls' and 'rises' gives the larger IV, unless the better single-bend
+        shape's IV is more than ``bend_min_gain`` above it.
+    bend_min_gain : float
+        The share by which a single bend's IV must exceed the best one-way IV for 'from-data' to
+        take it (0.1: more than 10% more IV; a rule of thumb of ours, no source).
 
     Returns
     -------
@@ -170,14 +209,16 @@ def coarse_classing(fine: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goo
     chain = _chain_order(fine, goods, bads, total_goods, total_bads)
     chain_goods, chain_bads = goods[chain], bads[chain]
     kwargs = dict(total_goods=total_goods, total_bads=total_bads, n_goods=n_goods[chain], n_bads=n_bads[chain], limits=limits)
-    shapes = [FALLS] if fine.kind == CATEGORICAL else ([FALLS, RISES] if bad_rate_shape == FROM_DATA else [bad_rate_shape])
-    options = [(best_classing(chain_goods, chain_bads, shape=shape, **kwargs), shape) for shape in shapes]
-    starts, shape = max(options, key=lambda o: _partition_iv(o[0], chain_goods, chain_bads, total_goods, total_bads))
+    shapes = [FALLS] if fine.kind == CATEGORICAL else (
+        [*ONE_WAY_SHAPES, *SINGLE_BEND_SHAPES] if bad_rate_shape == FROM_DATA else [bad_rate_shape])
+    options = {shape: best_classing(chain_goods, chain_bads, shape=shape, **kwargs) for shape in shapes}
+    ivs = {shape: _partition_iv(starts, chain_goods, chain_bads, total_goods, total_bads) for shape, starts in options.items()}
+    shape, notes = _chosen_shape(ivs, bend_min_gain, fine.characteristic)
+    starts = options[shape]
     if fine.kind == CATEGORICAL:
         shape = ANY
-    notes = [] if len(starts) > 1 or len(chain) < 2 else [
-        f"{fine.characteristic!r}: no classing of its {len(chain)} fine bins meets the limits; it has a single class."
-    ]
+    if len(starts) < 2 <= len(chain):
+        notes.append(f"{fine.characteristic!r}: no classing of its {len(chain)} fine bins meets the limits; it has a single class.")
     fine_to_coarse = np.empty(fine.n_bins, dtype=np.int64)
     class_of_chain = np.searchsorted(np.asarray(starts), np.arange(len(chain)), side="right") - 1
     fine_to_coarse[chain] = class_of_chain
@@ -191,6 +232,20 @@ def coarse_classing(fine: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goo
     iv = information_value(coarse_goods, coarse_bads)
     fine_to_coarse.setflags(write=False)
     return CoarseClassing(binning, fine_to_coarse, iv, tuple(notes))
+
+
+def _chosen_shape(ivs: dict[str, float], bend_min_gain: float, name: str) -> tuple[str, list[str]]:
+    """The shape to keep: the one asked for, or (from-data) the better one-way shape unless a bend buys a clear gain."""
+    if len(ivs) == 1:
+        return next(iter(ivs)), []
+    one_way = max(ONE_WAY_SHAPES, key=lambda shape: ivs[shape])  # falls first on a tie, as before bends
+    bend = max(SINGLE_BEND_SHAPES, key=lambda shape: ivs[shape])
+    if ivs[bend] <= ivs[one_way] * (1 + bend_min_gain):
+        return one_way, []
+    return bend, [
+        f"{name!r}: {shape_words(bend)}; the bend gives IV {ivs[bend]:.4f} against {ivs[one_way]:.4f} one way "
+        f"({shape_words(one_way)}), more than bend_min_gain = {bend_min_gain:g} above it, so from-data takes it."
+    ]
 
 
 def _chain_order(fine: Binning, goods, bads, total_goods, total_bads) -> np.ndarray:
@@ -268,8 +323,7 @@ def _nearest_class(chain_goods, chain_bads, goods, bads, total_goods, total_bads
     for candidate in order:
         woe = woe_values(chain_goods + goods * (np.arange(len(chain_goods)) == candidate),
                          chain_bads + bads * (np.arange(len(chain_bads)) == candidate), total_goods, total_bads)
-        steps = np.diff(woe)
-        if shape == ANY or (shape == FALLS and (steps > 0).all()) or (shape == RISES and (steps < 0).all()):
+        if keeps_shape(woe, shape):
             return int(candidate), True
     return int(order[0]), False
 

@@ -17,8 +17,8 @@ import numpy as np
 from ..errors import ClassingError
 from ..evidence import woe_values
 from ..rows import UNSEEN_LABEL, BinCounts
-from ..terms import ANY, CATEGORICAL, FALLS, NUMERIC, RISES, shape_words
-from .best import worst_bin
+from ..terms import ANY, CATEGORICAL, NUMERIC, shape_words
+from .best import keeps_shape, worst_bin
 from .bins import Binning, categorical_binning, numeric_binning
 
 
@@ -125,10 +125,7 @@ def check_constraints(binning: Binning, goods: np.ndarray, bads: np.ndarray, *, 
             problems.append(f"{name!r} class {i + 1} ({binning.labels[i]}) has {n_goods[i]:.0f} goods and {n_bads[i]:.0f} bads, under the minimum {min_goods} and {min_bads}")
     if binning.kind == NUMERIC and bad_rate_shape != ANY and n_chain > 1:
         woe = woe_values(goods[:n_chain], bads[:n_chain], goods.sum(), bads.sum())
-        steps = np.diff(woe)
-        # a bad rate that falls as the value grows is a WoE that rises
-        falls, rises = bool((steps > 0).all()), bool((steps < 0).all())
-        if not {FALLS: falls, RISES: rises}.get(bad_rate_shape, falls or rises):
+        if not keeps_shape(woe, bad_rate_shape):
             problems.append(f"{name!r}: bad_rate_shape = {bad_rate_shape!r} asks that {shape_words(bad_rate_shape)}, but "
                             f"across its classes it does not (WoE {', '.join(f'{w:.3f}' for w in woe)})")
     return problems

@@ -159,7 +159,8 @@ def _coarse(fine: Binning, counts: BinCounts, settings: Settings) -> tuple[Binni
     coarse = coarse_classing(
         fine, counts.goods()[known], counts.bads()[known], n_goods=counts.n_goods()[known], n_bads=counts.n_bads()[known],
         min_class_share=classing.min_class_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
-        max_classes=classing.max_classes, min_special_share=classing.min_special_share, bad_rate_shape=spec.bad_rate_shape or classing.bad_rate_shape,
+        max_classes=classing.max_classes, min_special_share=classing.min_special_share,
+        bad_rate_shape=spec.bad_rate_shape or classing.bad_rate_shape, bend_min_gain=classing.bend_min_gain,
     )
     binning = coarse.binning
     if spec.unseen != "worst":

@@ -21,7 +21,7 @@ from markupsafe import Markup
 from .. import __version__
 from ..files import write_text_atomically
 from ..settings import settings_to_toml
-from ..terms import ACT_PSI, DEVELOPMENT_NAME, WATCH_PSI, most_honest
+from ..terms import ACT_PSI, DEVELOPMENT_NAME, NUMERIC, WATCH_PSI, most_honest, shape_words
 from . import CAUTION, charts
 from .page_kit import (
     ADJUSTED_MARK, DASH, Cell, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text,
@@ -337,6 +337,7 @@ def _characteristic_view(classed, position: int, why: str) -> dict:
         "iv": fixed_text(evidence.iv, 4),
         "strength": evidence.strength,
         "origin": _origin(classed.origin),
+        "shape": shape_words(classed.binning.bad_rate_shape) if classed.binning.kind == NUMERIC else "",
         "leakage": evidence.leakage_flag,
         "table": _evidence_table(evidence),
         "adjusted": bool(evidence.adjusted.any()),

@@ -16,7 +16,6 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import SettingsError
-from ..terms import LATER_SHAPES
 from .renamed import RENAMED_SHAPES, renamed_key, renamed_key_message
 from .schema import SECTIONS, CharacteristicSettings, Settings
 
@@ -111,14 +110,10 @@ def _coerce(spec: dataclasses.Field, value: Any, source: str, where: str) -> Any
 
 
 def _hint(key: str, value: Any) -> str:
-    """What an impossible bad_rate_shape most likely meant: an old value, or a shape of a later version."""
-    if key != "bad_rate_shape":
+    """What an impossible bad_rate_shape most likely meant: an old value."""
+    if key != "bad_rate_shape" or value not in RENAMED_SHAPES:
         return ""
-    if value in RENAMED_SHAPES:
-        return f" {value!r} is the old word; the shape it meant is {RENAMED_SHAPES[value]!r}."
-    if value in LATER_SHAPES:
-        return f" {value!r} is kept for a later version of the tool."
-    return ""
+    return f" {value!r} is the old word; the shape it meant is {RENAMED_SHAPES[value]!r}."
 
 
 _WRONG = object()

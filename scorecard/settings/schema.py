@@ -112,9 +112,13 @@ class ClassingSettings:
         _share, "a share between 0 and 1",
     )
     bad_rate_shape: str = _key(
-        FROM_DATA, "how the bad rate may move as a numeric characteristic's value grows: from-data (the tool chooses "
-        "falls or rises, whichever gives the larger IV), falls, rises, or any (no order imposed)",
+        FROM_DATA, "how the bad rate may move as a numeric characteristic's value grows: from-data (the tool chooses), "
+        "falls, rises, falls-then-rises or rises-then-falls (one bend, found exactly), or any (no order imposed)",
         _one_of(*BAD_RATE_SHAPES), "one of " + ", ".join(BAD_RATE_SHAPES),
+    )
+    bend_min_gain: float = _key(
+        0.1, "from-data takes a single-bend shape only when its IV is more than this share above the best one-way "
+        "classing's (0.1: 10% more); a rule of thumb of ours, no source", lambda v: v >= 0, "a share >= 0",
     )
 
 
