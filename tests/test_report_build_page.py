@@ -131,6 +131,20 @@ def test_every_note_of_the_build_is_listed(built, page):
     assert all(note in text for note in build.notes)  # each note is one list item
 
 
+def test_the_classing_rules_and_every_merging_with_its_iv_before_and_after_are_shown(built, page):
+    build, _ = built
+    report = pages.Page(page)
+    section = report.section("characteristics")
+    assert "likelihood-ratio test" in section and "p-value at or above 0.05 (classing.merge_p)" in section
+    merged = [c for c in build.characteristics if c.merging is not None]
+    assert len(merged) == 3  # counted on this invented ledger: every proposal had alike neighbours
+    shown = report.table("characteristic", "classes before", "classes after", "IV before", "IV after")
+    assert sorted(shown) == sorted(
+        [c.name, str(c.merging.classes_before), str(c.merging.classes_after), f"{c.merging.iv_before:.4f}",
+         f"{c.merging.iv_after:.4f}"] for c in merged)
+    assert all(f"{c.merging.iv_after:.4f}" == f"{c.evidence.iv:.4f}" for c in merged)  # the IV the report shows
+
+
 def test_the_cutoff_rows_shown_are_rows_of_the_holdout_table(built, page):
     _, validation = built
     table = validation.samples["hold-out"].cutoffs

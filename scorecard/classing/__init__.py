@@ -8,7 +8,10 @@
 - ``passes``: classing a whole ledger in passes over its rows (``class_ledger``).
 """
 
-from .best import CoarseClassing, ClassLimits, coarse_classing, best_classing, keeps_shape, worst_bin
+from .best import (
+    CoarseClassing, ClassLimits, Merging, best_classing, coarse_classing, keeps_shape, merge_alike_neighbours,
+    neighbour_p_values, worst_bin,
+)
 from .bins import (
     MISSING_LABEL, RARE_LABEL, Binning, categorical_binning, format_number, class_label, interval_labels, numeric_binning,
 )
@@ -20,5 +23,5 @@ __all__ = [
     "MISSING_LABEL", "RARE_LABEL", "Binning", "ClassedCharacteristic", "ClassedLedger", "CoarseClassing", "ClassLimits",
     "binning_from_settings", "categorical_binning", "check_constraints", "class_ledger", "classing_settings_values",
     "coarse_classing", "fine_classing", "format_number", "class_label", "interval_labels", "numeric_binning",
-    "best_classing", "keeps_shape", "quantile_cuts", "resolve_unseen", "roundest_between", "worst_bin",
+    "best_classing", "keeps_shape", "merge_alike_neighbours", "Merging", "neighbour_p_values", "quantile_cuts", "resolve_unseen", "roundest_between", "worst_bin",
 ]

@@ -7,6 +7,11 @@ exact dynamic programme over the ordered fine bins, not a greedy merge
 (W. D. Fisher, "On grouping for maximum homogeneity", JASA 53, 1958, with constraints added; a
 bend is one more state of the programme, the leg of the shape the last class is on). Missing and
 special-value bins stand alone, or join the class nearest in WoE when they are too small.
+
+Maximising IV always prefers more classes, so neighbouring classes may end up with bad rates that
+differ by no more than chance. Such neighbours are then merged, one pair at a time, the least
+different first, while a likelihood-ratio test between the two says their bad rates do not differ
+significantly (``classing.merge_p``); merging neighbours keeps the shape and every limit.
 """
 
 from __future__ import annotations
@@ -15,6 +20,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
 import numpy as np
+from scipy import special
 
 from ..evidence import information_value, woe_values
 from ..terms import (
@@ -25,6 +31,21 @@ from .bins import MISSING_LABEL, Binning, categorical_binning, format_number, nu
 
 
 @dataclass(frozen=True)
+class Merging:
+    """What merging neighbouring classes that do not differ significantly did to one classing.
+
+    ``iv_before`` is the IV the classing would have had with no neighbours merged; the class
+    counts are of the chain (missing and special bins not counted).
+    """
+
+    classes_before: int
+    classes_after: int
+    iv_before: float
+    iv_after: float
+    merge_p: float
+
+
+@dataclass(frozen=True)
 class CoarseClassing:
     """The result of coarse classing: the binning, how fine bins map to it, and what was done."""
 
@@ -32,6 +53,7 @@ class CoarseClassing:
     fine_to_coarse: np.ndarray  # coarse bin of each fine bin
     iv: float
     notes: tuple[str, ...]
+    merging: Merging | None = None  # None when no neighbours were merged
 
 
 @dataclass(frozen=True)
@@ -173,7 +195,7 @@ def keeps_shape(woe: np.ndarray, shape: str) -> bool:
 def coarse_classing(fine: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goods: np.ndarray | None = None,
                     n_bads: np.ndarray | None = None, min_class_share: float = 0.05, min_goods: int = 10,
                     min_bads: int = 10, max_classes: int = 8, min_special_share: float = 0.01,
-                    bad_rate_shape: str = FROM_DATA, bend_min_gain: float = 0.1) -> CoarseClassing:
+                    bad_rate_shape: str = FROM_DATA, bend_min_gain: float = 0.1, merge_p: float = 0.05) -> CoarseClassing:
     """Join a fine binning's bins into the classes with the largest information value that keep the bad rate's shape.
 
     Parameters
@@ -196,6 +218,9 @@ def coarse_classing(fine: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goo
     bend_min_gain : float
         The share by which a single bend's IV must exceed the best one-way IV for 'from-data' to
         take it (0.1: more than 10% more IV; a rule of thumb of ours, no source).
+    merge_p : float
+        Neighbouring classes whose likelihood-ratio test p-value is at or above this are merged
+        (``merge_alike_neighbours``; 0: none are), before the shapes are compared.
 
     Returns
     -------
@@ -212,26 +237,106 @@ def coarse_classing(fine: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goo
     shapes = [FALLS] if fine.kind == CATEGORICAL else (
         [*ONE_WAY_SHAPES, *SINGLE_BEND_SHAPES] if bad_rate_shape == FROM_DATA else [bad_rate_shape])
     options = {shape: best_classing(chain_goods, chain_bads, shape=shape, **kwargs) for shape in shapes}
-    ivs = {shape: _partition_iv(starts, chain_goods, chain_bads, total_goods, total_bads) for shape, starts in options.items()}
+    merged = {shape: merge_alike_neighbours(starts, n_goods[chain], n_bads[chain], merge_p=merge_p)
+              for shape, starts in options.items()}
+    ivs = {shape: _partition_iv(starts, chain_goods, chain_bads, total_goods, total_bads) for shape, starts in merged.items()}
     shape, notes = _chosen_shape(ivs, bend_min_gain, fine.characteristic)
-    starts = options[shape]
-    if fine.kind == CATEGORICAL:
-        shape = ANY
-    if len(starts) < 2 <= len(chain):
+    if len(merged[shape]) < 2 <= len(chain):
         notes.append(f"{fine.characteristic!r}: no classing of its {len(chain)} fine bins meets the limits; it has a single class.")
+    own = (goods, bads, n_goods, n_bads, min_special_share, min_goods, min_bads)
+    result = _finished(fine, chain, merged[shape], ANY if fine.kind == CATEGORICAL else shape, own, notes)
+    if len(merged[shape]) == len(options[shape]):
+        return result
+    before = _finished(fine, chain, options[shape], result.binning.bad_rate_shape, own, [])
+    merging = Merging(len(options[shape]), len(merged[shape]), before.iv, result.iv, merge_p)
+    note = (f"{fine.characteristic!r}: {_count(merging.classes_before - merging.classes_after, 'pair')} of neighbouring classes "
+            f"did not differ significantly in bad rate (likelihood-ratio test, p-value at or above merge_p = {merge_p:g}) "
+            f"and were merged: {merging.classes_before} classes became {merging.classes_after}; IV {merging.iv_before:.4f} "
+            f"before, {merging.iv_after:.4f} after.")
+    return replace(result, notes=(*result.notes, note), merging=merging)
+
+
+def _finished(fine: Binning, chain: np.ndarray, starts: Sequence[int], shape: str, own, notes: list[str]) -> CoarseClassing:
+    """The classing of a chain partition: missing and special bins placed, the unseen bin chosen, the IV."""
+    goods, bads, n_goods, n_bads, min_special_share, min_goods, min_bads = own
+    total_goods, total_bads = goods.sum(), bads.sum()
+    notes = list(notes)
     fine_to_coarse = np.empty(fine.n_bins, dtype=np.int64)
-    class_of_chain = np.searchsorted(np.asarray(starts), np.arange(len(chain)), side="right") - 1
-    fine_to_coarse[chain] = class_of_chain
-    binning = _coarse_binning(fine, chain, starts, shape)
-    own = _place_own_bins(fine, binning, fine_to_coarse, goods, bads, n_goods, n_bads, total_goods, total_bads,
-                          min_special_share, min_goods, min_bads, notes)
-    binning = own
+    fine_to_coarse[chain] = np.searchsorted(np.asarray(starts), np.arange(len(chain)), side="right") - 1
+    binning = _place_own_bins(fine, _coarse_binning(fine, chain, starts, shape), fine_to_coarse, goods, bads, n_goods,
+                              n_bads, total_goods, total_bads, min_special_share, min_goods, min_bads, notes)
     coarse_goods = np.bincount(fine_to_coarse, weights=goods, minlength=binning.n_bins)
     coarse_bads = np.bincount(fine_to_coarse, weights=bads, minlength=binning.n_bins)
     binning = replace(binning, unseen_bin=worst_bin(coarse_goods, coarse_bads))
-    iv = information_value(coarse_goods, coarse_bads)
     fine_to_coarse.setflags(write=False)
-    return CoarseClassing(binning, fine_to_coarse, iv, tuple(notes))
+    return CoarseClassing(binning, fine_to_coarse, information_value(coarse_goods, coarse_bads), tuple(notes))
+
+
+def merge_alike_neighbours(starts: Sequence[int], n_goods: np.ndarray, n_bads: np.ndarray, *,
+                           merge_p: float) -> tuple[int, ...]:
+    """Merge neighbouring classes whose bad rates do not differ significantly, the least different first.
+
+    Parameters
+    ----------
+    starts : sequence of int
+        The start of each class along the ordered bins (as ``best_classing`` returns them).
+    n_goods, n_bads : numpy.ndarray
+        Goods and bads of each ordered bin, as rows (the test's sample size).
+    merge_p : float
+        While the largest p-value of ``neighbour_p_values`` is at or above this, that pair is
+        merged and the tests are made again; 0 merges nothing.
+
+    Returns
+    -------
+    tuple of int
+        The starts of the classes left: every pair of neighbours among them differs
+        significantly (p-value below ``merge_p``).
+
+    Notes
+    -----
+    A merged class's WoE lies between its two parts' WoEs, so a chain that moved one way, or bent
+    once, still does; classes only grow, so every size limit still holds.
+    """
+    starts = list(starts)
+    while merge_p > 0 and len(starts) > 1:
+        p_values = neighbour_p_values(_class_sums(starts, n_goods), _class_sums(starts, n_bads))
+        alike = int(np.argmax(p_values))
+        if p_values[alike] < merge_p:
+            break
+        del starts[alike + 1]
+    return tuple(starts)
+
+
+def neighbour_p_values(goods: np.ndarray, bads: np.ndarray) -> np.ndarray:
+    """Return the likelihood-ratio test p-value of each pair of neighbouring classes' bad rates.
+
+    Parameters
+    ----------
+    goods, bads : numpy.ndarray
+        Goods and bads of each class, in chain order.
+
+    Returns
+    -------
+    numpy.ndarray
+        One p-value per pair (class i against class i + 1).
+
+    Notes
+    -----
+    G² = 2 Σ O ln(O / E) over the 2 × 2 table of the two classes' goods and bads, E being the
+    counts expected if both had their pooled bad rate; G² is chi-square with one degree of
+    freedom when the bad rates are equal (the likelihood-ratio test of independence; A. Agresti,
+    Categorical Data Analysis, 2nd ed., 2002, section 3.2, from memory).
+    """
+    goods, bads = np.asarray(goods, float), np.asarray(bads, float)
+    table = np.stack([goods[:-1], bads[:-1], goods[1:], bads[1:]], axis=-1).reshape(-1, 2, 2)  # pair, class, outcome
+    expected = table.sum(axis=2, keepdims=True) * table.sum(axis=1, keepdims=True) / table.sum(axis=(1, 2), keepdims=True)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        terms = np.where(table > 0, table * np.log(table / expected), 0.0)  # an empty cell adds nothing
+    return special.chdtrc(1, 2 * terms.sum(axis=(1, 2)))
+
+
+def _class_sums(starts: Sequence[int], values: np.ndarray) -> np.ndarray:
+    return np.add.reduceat(np.asarray(values, float), np.asarray(starts))
 
 
 def _chosen_shape(ivs: dict[str, float], bend_min_gain: float, name: str) -> tuple[str, list[str]]:

@@ -21,7 +21,7 @@ from ..intake import Characteristic, Ledger, rows_in_memory
 from ..rows import BinCounts, InProcessRows, KeptCodes
 from ..settings import Settings
 from ..terms import LEAKAGE_IV, SAMPLE_NAMES
-from .best import coarse_classing
+from .best import Merging, coarse_classing
 from .bins import Binning
 from .fine import fine_classing
 from .overrides import (
@@ -38,6 +38,7 @@ class ClassedCharacteristic:
     evidence: EvidenceTable
     origin: str  # "settings" (fixed by the analyst) or "proposed" (the best classing)
     notes: tuple[str, ...]
+    merging: Merging | None = None  # what merging neighbours that do not differ did (proposed classings only)
 
     @property
     def name(self) -> str:
@@ -111,11 +112,11 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
     fine_rows, fine_weights = rows.gather(rows.fitting_rows("classing"), [c.name for c in proposed],
                                           empty=ledger.frame)
     fine = {c.name: _fine_binning(fine_rows[c.name], fine_weights, c, settings) for c in proposed}
-    binnings, coarse_notes = {}, {}
+    binnings, coarse_notes, mergings = {}, {}, {}
     if fine:
         fine_counts, _, _ = rows.count_bins(fine, keep_codes=False, progress=progress)
         for name in fine:
-            binnings[name], coarse_notes[name] = _coarse(fine[name], fine_counts[name], settings)
+            binnings[name], coarse_notes[name], mergings[name] = _coarse(fine[name], fine_counts[name], settings)
     binnings.update({c.name: _provisional(c, settings) for c in characteristics if c.name not in fine})
     binnings = {c.name: binnings[c.name] for c in characteristics}
     keep_codes = rows.in_memory
@@ -124,7 +125,7 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
     for char in characteristics:
         origin = "settings" if char.name not in fine else "proposed"
         result, mapping = _finish(binnings[char.name], counts[char.name], unseen.get(char.name, {}), origin, settings,
-                                  notes=coarse_notes.get(char.name, ()))
+                                  notes=coarse_notes.get(char.name, ()), merging=mergings.get(char.name))
         classed.append(result)
         notes.extend(result.notes)
         if keep_codes:
@@ -151,7 +152,7 @@ def _fine_binning(values, weights, char: Characteristic, settings: Settings) -> 
                          max_bins=classing.max_fine_bins, rare_level_share=classing.rare_level_share)
 
 
-def _coarse(fine: Binning, counts: BinCounts, settings: Settings) -> tuple[Binning, tuple[str, ...]]:
+def _coarse(fine: Binning, counts: BinCounts, settings: Settings) -> tuple[Binning, tuple[str, ...], Merging | None]:
     """The best classing of a fine binning, from its development counts (the unseen bin left aside)."""
     classing = settings.classing
     spec = settings.characteristic(fine.characteristic)
@@ -161,11 +162,12 @@ def _coarse(fine: Binning, counts: BinCounts, settings: Settings) -> tuple[Binni
         min_class_share=classing.min_class_share, min_goods=classing.min_goods, min_bads=classing.min_bads,
         max_classes=classing.max_classes, min_special_share=classing.min_special_share,
         bad_rate_shape=spec.bad_rate_shape or classing.bad_rate_shape, bend_min_gain=classing.bend_min_gain,
+        merge_p=classing.merge_p,
     )
     binning = coarse.binning
     if spec.unseen != "worst":
         binning = resolve_unseen(binning, [], [], spec.unseen)
-    return binning, coarse.notes
+    return binning, coarse.notes, coarse.merging
 
 
 def _provisional(char: Characteristic, settings: Settings) -> Binning:
@@ -179,7 +181,7 @@ def _provisional(char: Characteristic, settings: Settings) -> Binning:
 
 
 def _finish(binning: Binning, counts: BinCounts, unseen: Mapping[str, int], origin: str, settings: Settings, *,
-            notes: Sequence[str] = ()):
+            notes: Sequence[str] = (), merging: Merging | None = None):
     """Complete a binning from its counts; return the classed characteristic and the code mapping."""
     spec = settings.characteristic(binning.characteristic)
     notes = list(notes)
@@ -205,10 +207,11 @@ def _finish(binning: Binning, counts: BinCounts, unseen: Mapping[str, int], orig
         )
         notes += [f"the classing written in the settings breaks a constraint on this development sample: {problem}. "
                   "Change its cuts or classes, or remove them for a new proposal." for problem in broken]
-    return _classed(final, final_counts, origin, tuple(notes), settings), mapping
+    return _classed(final, final_counts, origin, tuple(notes), settings, merging), mapping
 
 
-def _classed(binning: Binning, counts: BinCounts, origin: str, notes, settings: Settings) -> ClassedCharacteristic:
+def _classed(binning: Binning, counts: BinCounts, origin: str, notes, settings: Settings,
+             merging: Merging | None = None) -> ClassedCharacteristic:
     evidence = evidence_table(
         counts.goods(), counts.bads(), labels=binning.labels, characteristic=binning.characteristic,
         n_goods=counts.n_goods(), n_bads=counts.n_bads(), leakage_iv=settings.selection.leakage_iv,
@@ -220,4 +223,4 @@ def _classed(binning: Binning, counts: BinCounts, origin: str, notes, settings: 
             f"{binning.characteristic!r}: bins {', '.join(map(repr, adjusted))} have no goods or no bads in development; "
             "0.5 was added to both counts to keep their WoE finite. Join them to a neighbouring class to avoid this."
         )
-    return ClassedCharacteristic(binning, counts, evidence, origin, tuple(notes))
+    return ClassedCharacteristic(binning, counts, evidence, origin, tuple(notes), merging)

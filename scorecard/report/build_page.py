@@ -318,7 +318,34 @@ def _characteristics(build) -> dict:
     views = [_characteristic_view(c, position, "" if c.name in model else _why_left_out(c.name, build.selection.log))
              for position, c in enumerate(ordered)]
     return {"overview": overview, "model": views[:len(model)], "others": views[len(model):],
-            "leakage_iv": f"{build.settings.selection.leakage_iv:g}"}
+            "leakage_iv": f"{build.settings.selection.leakage_iv:g}", "classing": _classing_rules(build.settings.classing),
+            "merged": _merged_table([c for c in ordered if c.merging is not None])}
+
+
+def _classing_rules(classing) -> str:
+    merging = ("then neighbouring classes whose bad rates do not differ significantly are merged, one pair at a time, the "
+               f"least different first, while a likelihood-ratio test between the two gives a p-value at or above "
+               f"{classing.merge_p:g} (classing.merge_p); merging keeps the shape and every size limit"
+               if classing.merge_p > 0 else "neighbouring classes are not merged (classing.merge_p = 0)")
+    return (
+        "A classing proposed by the tool has the classes with the largest IV whose bad rate keeps its shape (it falls, or "
+        "rises, as the value grows, or bends once: falls then rises, or rises then falls) and whose classes meet the size "
+        f"limits, found exactly by dynamic programming; from-data takes a bend only when it gives more than "
+        f"{classing.bend_min_gain:.0%} more IV than one way (classing.bend_min_gain). {merging[0].upper()}{merging[1:]}."
+    )
+
+
+def _merged_table(merged) -> Table | None:
+    if not merged:
+        return None
+    return text_table(
+        ["characteristic", "classes before", "classes after", "IV before", "IV after"],
+        [[c.name, str(c.merging.classes_before), str(c.merging.classes_after), fixed_text(c.merging.iv_before, 4),
+          fixed_text(c.merging.iv_after, 4)] for c in merged],
+        numeric=(1, 2, 3, 4),
+        caption="Characteristics whose proposed classing had neighbouring classes merged, with the IV before and after. "
+                "Development sample.",
+    )
 
 
 def _why_left_out(name: str, log) -> str:

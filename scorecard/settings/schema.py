@@ -116,6 +116,10 @@ class ClassingSettings:
         "falls, rises, falls-then-rises or rises-then-falls (one bend, found exactly), or any (no order imposed)",
         _one_of(*BAD_RATE_SHAPES), "one of " + ", ".join(BAD_RATE_SHAPES),
     )
+    merge_p: float = _key(
+        0.05, "neighbouring classes whose bad rates do not differ significantly (likelihood-ratio test p-value at or above "
+        "this) are merged, the least different first (0: never merge)", lambda v: 0 <= v < 1, "a p-value from 0 up to 1",
+    )
     bend_min_gain: float = _key(
         0.1, "from-data takes a single-bend shape only when its IV is more than this share above the best one-way "
         "classing's (0.1: 10% more); a rule of thumb of ours, no source", lambda v: v >= 0, "a share >= 0",
