@@ -194,7 +194,8 @@ def test_wrong_type(section, key, value, shown):
     ({"outcome": {"column": "y"}, "ledger": {"id_column": "y"}}, r"ledger\.id_column and outcome\.column both name column .y."),
     ({"classing": {"max_classes": 1}}, r"classing\.max_classes = 1 is not possible: it must be 2 or more"),
     ({"samples": {"holdout_fraction": 1.0}}, r"samples\.holdout_fraction = 1\.0 is not possible"),
-    ({"characteristics": {"home": {"classes": [["own", "rent"]]}}}, r"characteristics\.home\.classes needs at least 2 classes, got 1"),
+    ({"characteristics": {"home": {"classes": []}}}, r"characteristics\.home\.classes needs at least 1 class, and every class at least 1 level"),
+    ({"characteristics": {"home": {"classes": [["own"], []]}}}, r"characteristics\.home\.classes needs at least 1 class, and every class at least 1 level"),
     ({"characteristics": {"income": {"cuts": [30, 10, 20]}}}, r"characteristics\.income\.cuts must be strictly ascending numbers, got \[30\.0, 10\.0, 20\.0\]"),
     ({"characteristics": {"income": {"cuts": [10, 10]}}}, r"characteristics\.income\.cuts must be strictly ascending"),
     ({"checks": {"psi_watch": 0.25, "psi_act": 0.25}}, r"checks\.psi_act \(0\.25\) must be larger than checks\.psi_watch \(0\.25\)"),
@@ -335,3 +336,9 @@ def test_a_settings_file_with_an_old_key_stops_the_build_with_exit_code_2(tmp_pa
     assert main(["build", str(path)], stdout=io.StringIO(), stderr=err) == 2
     assert err.getvalue() == (f"scorewright: error: {path}: [classing] trend is an old name: the key is now bad_rate_shape. "
                               "Write bad_rate_shape = \"from-data\" instead ('auto' there means 'from-data'), then run again.\n")
+
+
+def test_a_categorical_characteristic_may_have_one_class():
+    # as a numeric one may have no cut: what the tool proposes when no two of its levels differ significantly
+    settings = settings_from_mapping({"characteristics": {"home": {"classes": [["own", "rent"]]}}})
+    assert settings.characteristic("home").classes == (("own", "rent"),)

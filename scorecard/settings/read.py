@@ -198,8 +198,9 @@ def _check_consistency(settings: Settings, source: str) -> None:
             if list(char.cuts) != sorted(set(char.cuts)):
                 raise SettingsError(f"{source}: {where}.cuts must be strictly ascending numbers, got {list(char.cuts)}.")
         if char.classes is not None:
-            if len(char.classes) < 2:
-                raise SettingsError(f"{source}: {where}.classes needs at least 2 classes, got {len(char.classes)}.")
+            # one class is allowed, as cuts = [] is: the proposal of a characteristic whose levels do not differ
+            if not char.classes or not all(char.classes):
+                raise SettingsError(f"{source}: {where}.classes needs at least 1 class, and every class at least 1 level.")
             levels = [level for class_levels in char.classes for level in class_levels]
             repeated = sorted({level for level in levels if levels.count(level) > 1})
             if repeated:
