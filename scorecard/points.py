@@ -150,13 +150,13 @@ class PointsTable:
 
     @property
     def min_score(self) -> float:
-        """The lowest possible score."""
-        return float(sum(c.points.min() for c in self.characteristics))
+        """The lowest possible score (rounded to the table's decimals, as scores are)."""
+        return round(float(sum(c.points.min() for c in self.characteristics)), self.decimals)
 
     @property
     def max_score(self) -> float:
-        """The highest possible score."""
-        return float(sum(c.points.max() for c in self.characteristics))
+        """The highest possible score (rounded to the table's decimals, as scores are)."""
+        return round(float(sum(c.points.max() for c in self.characteristics)), self.decimals)
 
     def get(self, name: str) -> CharacteristicPoints:
         """Return one characteristic's points."""

@@ -46,3 +46,14 @@ def test_scorecard_scores_a_frame_and_names_a_missing_column():
     assert scored["score"].tolist() == expected.tolist()
     with pytest.raises(LedgerError, match="column 'housing' of the scorecard is not in the ledger"):
         card.score(frame.drop(columns="housing"), source="new.csv")
+
+
+def test_scores_with_decimals_are_the_nearest_double_to_their_decimal_value():
+    # 0.1 + 0.2 as floats is 0.30000000000000004; summed as floats, 600.3 + 15.6 gave 615.9000000000001
+    table = _table(decimals=1)
+    codes = np.array([[i, j, k] for i in range(3) for j in range(2) for k in range(4)])
+    scores = score_codes(codes, table)
+    exact = [round(sum(float(c.points[code]) for c, code in zip(table.characteristics, row)), 1) for row in codes]
+    assert scores.tolist() == exact  # Python's round(x, 1) is the double nearest the decimal value
+    assert [repr(float(s)) for s in scores] == [f"{s:.1f}" for s in scores]  # no float noise in the text
+    assert table.max_score == round(table.max_score, 1) and table.min_score == round(table.min_score, 1)

@@ -103,10 +103,16 @@ def score_codes(codes: np.ndarray, table: PointsTable) -> np.ndarray:
     Returns
     -------
     numpy.ndarray
-        int64 scores when points are whole, else float64.
+        int64 scores when points are whole, else float64 scores rounded to the table's decimals.
+
+    Notes
+    -----
+    Points are added as whole units of the table's last decimal and divided once at the end, so
+    a score is the double nearest its decimal value (615.9, never the 615.9000000000001 a sum of
+    floats can give) and equals what the exported SQL and Python forms compute.
     """
-    dtype = np.int64 if table.decimals == 0 else np.float64
-    scores = np.zeros(codes.shape[0], dtype=dtype)
+    unit = 10**table.decimals
+    units = np.zeros(codes.shape[0], dtype=np.int64)
     for column, char in enumerate(table.characteristics):
-        scores += np.take(char.points.astype(dtype), codes[:, column])
-    return scores
+        units += np.take(np.rint(char.points * unit).astype(np.int64), codes[:, column])
+    return units if table.decimals == 0 else units / unit
