@@ -52,6 +52,16 @@ WATCH_PSI, ACT_PSI = 0.10, 0.25
 WATCH_P, ACT_P = 0.05, 0.01
 
 
+def caution(subject: str) -> str:
+    """Return the caution every deliverable carries (reports, workbooks, exported scorecards), said of ``subject``."""
+    return (
+        f"{subject} supports, and does not replace, the lender's own credit policy, model risk "
+        "management and the law that applies where it lends: fair-lending, consumer-credit and "
+        "data-protection rules. Lending decisions made with this scorecard must follow local "
+        "regulation and licensed practice, and must be reviewed by people accountable for them."
+    )
+
+
 def most_honest(samples: Iterable[str]) -> str:
     """Return the most honest of the named samples (out-of-time, else hold-out, else development), or ''."""
     present = set(samples)
