@@ -22,13 +22,13 @@ demo: $(STAMP)
 bench: $(STAMP)
 	$(BIN)/python -m benchmarks
 
-# The programs the workbook and report checks drive (LibreOffice, Chromium) and GNU time for the
-# benchmarks. Without them those tests are skipped locally; CI installs them.
+# The programs the workbook and report checks drive (LibreOffice, Chromium), Java 17 for the PMML
+# evaluator the export checks run, and GNU time for the benchmarks. CI installs them.
 SUDO := $(shell if [ "$$(id -u)" != 0 ] && command -v sudo >/dev/null; then echo sudo; fi)
 system-deps:
 	$(SUDO) apt-get update -qq
 	DEBIAN_FRONTEND=noninteractive $(SUDO) apt-get install -y -qq --no-install-recommends \
-	    libreoffice-calc chromium fonts-dejavu-core time
+	    libreoffice-calc chromium fonts-dejavu-core time openjdk-17-jre-headless
 
 wheel: $(STAMP)
 	$(BIN)/python -m build --wheel --outdir dist .

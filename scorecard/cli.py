@@ -21,8 +21,8 @@ from pathlib import Path
 from typing import IO
 
 from .options import (
-    EXIT_BAD_INPUT, EXIT_CODES, EXIT_OK, BuildOptions, DemoOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions,
-    Streams,
+    EXIT_BAD_INPUT, EXIT_CODES, EXIT_OK, BuildOptions, DemoOptions, ExportOptions, InitOptions, MonitorOptions, ScoreOptions,
+    SetOptions, Streams,
 )
 
 # Each command's work: module and function. The demo is a script over the other commands, so
@@ -33,6 +33,7 @@ COMMANDS = {
     "build": "commands:run_build",
     "score": "commands:run_score",
     "monitor": "commands:run_monitor",
+    "export": "commands:run_export",
     "demo": "demo.run:run_demo",
 }
 
@@ -48,6 +49,7 @@ def build_parser() -> argparse.ArgumentParser:
             "scorewright build scorecard.toml --out run1/",
             "scorewright score run1/model.json new.csv --out scored.csv",
             "scorewright monitor run1/model.json q3.csv --out q3/",
+            "scorewright export run1/model.json --out scorecard.pmml",
         ),
     )
     parser.add_argument("--version", action="version", version=f"scorewright {_version()}")
@@ -57,6 +59,7 @@ def build_parser() -> argparse.ArgumentParser:
     _add_build(commands)
     _add_score(commands)
     _add_monitor(commands)
+    _add_export(commands)
     _add_demo(commands)
     return parser
 
@@ -217,6 +220,37 @@ def _add_monitor(commands) -> None:
     parser.add_argument("--stream", action="store_true", help="read the ledger in batches (automatic above ledger.stream_above_mb)")
     _add_common(parser)
     parser.set_defaults(make_options=lambda a: MonitorOptions(a.model, a.ledger, a.out, a.fail_on, a.force, a.stream))
+
+
+def _add_export(commands) -> None:
+    parser = commands.add_parser(
+        "export", help="write a saved scorecard as PMML, one SQL query or a Python file",
+        description=(
+            "Write a saved scorecard in a form other systems run: PMML 4.4 (the open standard's Scorecard "
+            "model, for any PMML evaluator), one SQL query over a table of applications, or a Python file "
+            "that needs only the standard library. Each gives the scores, probabilities and reasons "
+            "'scorewright score' gives, and states the model's checksum, its scaling and the caution. "
+            "The form follows the file's ending (.pmml or .xml, .sql, .py) unless --form says it."
+        ),
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+        epilog=_examples(
+            "scorewright export run1/model.json --out scorecard.pmml",
+            "scorewright export run1/model.json --out scorecard.sql --table loan_applications --id application_id",
+            "scorewright export run1/model.json --out scorecard.py --reasons 2",
+        ),
+    )
+    parser.add_argument("model", type=Path, help="model.json written by 'scorewright build'")
+    parser.add_argument("--out", type=Path, required=True, metavar="FILE", help="file to write (.pmml, .xml, .sql or .py)")
+    parser.add_argument("--form", choices=("pmml", "sql", "python"), help="the form to write (default: from FILE's ending)")
+    parser.add_argument("--reasons", type=int, metavar="N", help="reasons per application (default: reasons.count of the model's settings)")
+    parser.add_argument("--table", default="applications", metavar="NAME", help="SQL: the table of applications (default: applications)")
+    parser.add_argument("--id", dest="id_column", metavar="COLUMN", help="SQL: its id column (default: the model's id column)")
+    parser.add_argument("--materialize", action="store_true",
+                        help="SQL: mark the points step MATERIALIZED (not standard SQL; SQLite then runs the query many times faster)")
+    parser.add_argument("--force", action="store_true", help="overwrite FILE if it exists")
+    _add_common(parser)
+    parser.set_defaults(make_options=lambda a: ExportOptions(a.model, a.out, a.form, a.reasons, a.table, a.id_column,
+                                                             a.materialize, a.force))
 
 
 def _add_demo(commands) -> None:

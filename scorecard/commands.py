@@ -27,7 +27,7 @@ from .intake import (
 )
 from .modelfile import load_model, model_document, save_model
 from .options import (
-    EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions, Streams,
+    EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, ExportOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions, Streams,
 )
 from .report.text import build_summary, iv_table, monitor_summary
 from .rows import reads_in_batches, tally_unseen
@@ -457,6 +457,45 @@ def monitoring_settings(settings: Settings, columns) -> Settings:
         # a characteristic the new ledger lacks is named by the scorecard's own check, which says why it matters
         characteristics={name: spec for name, spec in settings.characteristics.items() if name in columns},
     )
+
+
+# --------------------------------------------------------------------------------------------
+# export
+
+EXPORT_FORMS = {".pmml": "pmml", ".xml": "pmml", ".sql": "sql", ".py": "python"}
+
+
+def run_export(options: ExportOptions, streams: Streams) -> int:
+    """Write a saved scorecard as PMML, one SQL query or a standard-library Python file."""
+    from .exports import export_model, pmml_text, python_text, sql_text
+
+    out = options.out
+    form = options.form or EXPORT_FORMS.get(out.suffix.lower())
+    if form is None:
+        raise SettingsError(f"{out}: say the form with --form pmml, sql or python, or end the file name in "
+                            ".pmml, .sql or .py.")
+    if out.is_dir():
+        raise SettingsError(f"{out}: is a folder. Give --out the name of the file to write, e.g. {out / ('scorecard.' + form.replace('python', 'py'))}.")
+    if out.exists() and options.model.exists() and out.samefile(options.model):
+        raise SettingsError(f"{out}: this is the model file itself; choose another name with --out.")
+    if out.exists() and not options.force:
+        raise SettingsError(f"{out}: the file exists. Pass --force to overwrite it, or choose another --out.")
+    saved = load_model(options.model)
+    model = export_model(saved, reasons=options.reasons)
+    if form == "pmml":
+        text = pmml_text(model)
+    elif form == "python":
+        text = python_text(model)
+    else:
+        id_column = options.id_column or model.id_column
+        if not id_column:
+            raise SettingsError(f"{options.model}: the model has no id column. Name the id column of the table of "
+                                "applications with --id COLUMN.")
+        text = sql_text(model, table=options.table, id_column=id_column, materialize=options.materialize)
+    write_text_atomically(out, text)
+    streams.note(f"{form} scorecard of {len(model.characteristics)} characteristics, model checksum {model.fingerprint[:12]}…")
+    streams.say(f"written: {out}")
+    return EXIT_OK
 
 
 # --------------------------------------------------------------------------------------------

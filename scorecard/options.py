@@ -132,6 +132,20 @@ class MonitorOptions:
 
 
 @dataclass(frozen=True)
+class ExportOptions:
+    """Options of ``scorewright export``."""
+
+    model: Path
+    out: Path
+    form: str | None = None
+    reasons: int | None = None
+    table: str = "applications"
+    id_column: str | None = None
+    materialize: bool = False
+    force: bool = False
+
+
+@dataclass(frozen=True)
 class DemoOptions:
     """Options of ``scorewright demo``."""
 

@@ -458,3 +458,43 @@ def test_the_quick_path_takes_every_ledger_option_of_init_with_the_same_meaning(
     assert specials == slow["settings"]["characteristics"]["months_at_address"]["special_values"] == [999.0]
     code, _, err = run("build", tmp_path / "scorecard.toml", "--holdout", "0.2", "--out", tmp_path / "x")
     assert code == 2 and "--holdout is for building straight from a ledger" in err
+
+
+# --------------------------------------------------------------------------------------------
+# export (the forms themselves: tests/test_exports.py and tests/test_exports_engines.py)
+
+REFERENCE_MODEL = Path(__file__).parent / "reference" / "demo-model-format-1.json"
+
+
+def test_export_writes_the_form_its_file_name_asks_for(tmp_path):
+    for name, start in (("card.pmml", "<?xml"), ("card.sql", "-- Scorecard"), ("card.py", '"""score(record)')):
+        code, stdout, stderr = run("export", REFERENCE_MODEL, "--out", tmp_path / name)
+        assert code == 0, stderr
+        assert stdout == f"written: {tmp_path / name}\n" and "model checksum" in stderr
+        assert (tmp_path / name).read_text(encoding="utf-8").startswith(start)
+    code, _, _ = run("export", REFERENCE_MODEL, "--out", tmp_path / "card.txt", "--form", "sql", "--reasons", "2")
+    assert code == 0 and "AS reason_2_text" in (tmp_path / "card.txt").read_text() and "reason_3" not in (tmp_path / "card.txt").read_text()
+
+
+@pytest.mark.parametrize(("extra", "out", "message"), [
+    ((), "card.txt", r"card\.txt: say the form with --form pmml, sql or python"),
+    ((), "existing.sql", r"existing\.sql: the file exists\. Pass --force"),
+    ((), "folder.py", r"folder\.py: is a folder"),
+    (("--reasons", "-1"), "card.py", r"--reasons -1: give 0 or more reasons"),
+    (("--form", "sql"), "card.sql", r"the model has no id column\. Name the id column .* with --id COLUMN"),
+])
+def test_export_refuses_what_it_cannot_write(extra, out, message, tmp_path):
+    (tmp_path / "existing.sql").write_text("kept", encoding="utf-8")
+    (tmp_path / "folder.py").mkdir()
+    model = REFERENCE_MODEL
+    if "--form" in extra:  # a model saved without an id column
+        document = json.loads(REFERENCE_MODEL.read_text(encoding="utf-8"))
+        document["settings"]["ledger"]["id_column"] = ""
+        from scorecard.modelfile import save_model
+
+        model = save_model(document, tmp_path / "no-id.json")
+    before = sorted(p.name for p in tmp_path.iterdir())
+    code, stdout, stderr = run("export", model, "--out", tmp_path / out, *extra)
+    assert code == 2 and stdout == "" and "Traceback" not in stderr
+    assert re.search(message, stderr), stderr
+    assert sorted(p.name for p in tmp_path.iterdir()) == before and (tmp_path / "existing.sql").read_text() == "kept"

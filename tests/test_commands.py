@@ -18,7 +18,7 @@ from scorecard.settings import CharacteristicSettings, Settings
 
 
 def test_every_command_of_the_table_is_a_function_of_options_and_streams():
-    assert set(cli.COMMANDS) == {"init", "set", "build", "score", "monitor", "demo"}
+    assert set(cli.COMMANDS) == {"init", "set", "build", "score", "monitor", "export", "demo"}
     for name in cli.COMMANDS:
         run = cli._command(name)
         assert list(inspect.signature(run).parameters) == ["options", "streams"], name

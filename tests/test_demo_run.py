@@ -9,14 +9,12 @@ rewording messages leaves it alone; a change in what the tool computes does not.
 from __future__ import annotations
 
 import hashlib
-import io
 import json
 from pathlib import Path
 
 import pandas as pd
 import pytest
 
-from scorecard.cli import main
 from scorecard.modelfile import load_model
 
 
@@ -58,11 +56,8 @@ def test_the_recorded_figures_are_those_of_the_model_file_the_earlier_tool_wrote
 
 
 @pytest.fixture(scope="module")
-def demo(tmp_path_factory):
-    folder = tmp_path_factory.mktemp("demo")
-    out, err = io.StringIO(), io.StringIO()
-    assert main(["demo", "--rows", "8000", "--out", str(folder), "--force"], stdout=out, stderr=err) == 0, err.getvalue()
-    return folder, out.getvalue()
+def demo(demo_run):
+    return demo_run  # tests/conftest.py: the demo runs once for every module that reads it
 
 
 @pytest.mark.slow
