@@ -5,7 +5,7 @@ BIN    := $(VENV)/bin
 STAMP  := $(VENV)/.installed
 DEMO_OUT ?= demo-run
 
-.PHONY: test demo bench system-deps wheel clean
+.PHONY: test demo bench soak system-deps wheel clean
 
 $(STAMP): pyproject.toml
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
@@ -21,6 +21,11 @@ demo: $(STAMP)
 
 bench: $(STAMP)
 	$(BIN)/python -m benchmarks
+
+# Long property runs, kept out of `make test`: the exports' round trip on 1,000,000 generated
+# applications (make test runs 100,000)
+soak: $(STAMP)
+	SCOREWRIGHT_ROUND_TRIP_ROWS=1000000 $(BIN)/python -m pytest -q tests/test_exports_engines.py -k round_trip
 
 # The programs the workbook and report checks drive (LibreOffice, Chromium), Java 17 for the PMML
 # evaluator the export checks run, and GNU time for the benchmarks. CI installs them.
