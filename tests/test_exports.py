@@ -159,13 +159,17 @@ def test_the_schema_rejects_a_broken_scorecard(demo, schema):
         assert not schema.validate(etree.fromstring(broken.encode("utf-8")))
 
 
-def test_pmml_baselines_are_half_a_unit_below_each_best(awkward):
+def test_pmml_baselines_rank_losses_as_our_scorer_does(awkward):
     document = etree.fromstring(pmml_text(awkward).encode("utf-8"))
     characteristics = document.findall(".//p:Characteristic", NAMESPACE)
     assert len(characteristics) == len(awkward.characteristics)
-    for element, c in zip(characteristics, awkward.characteristics):
+    k, unit = len(characteristics), 0.1  # the awkward model's points have 1 decimal
+    for position, (element, c) in enumerate(zip(characteristics, awkward.characteristics)):
         best = max(float(a.get("partialScore")) for a in element.findall("p:Attribute", NAMESPACE))
-        assert float(element.get("baselineScore")) == pytest.approx(best - 0.05, abs=1e-9)  # 1 decimal
+        # between half a unit and 1/2k of a unit below the best, less for the later characteristics
+        part = float(element.get("baselineScore")) - best
+        assert part == pytest.approx(-unit / 2 + (k - 1 - position) / (2 * k) * unit, abs=1e-9)
+        assert -unit / 2 - 1e-9 <= part < 0
         assert element.get("reasonCode") == c.reason_code
 
 

@@ -19,6 +19,7 @@ from __future__ import annotations
 import math
 import os
 import time
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -246,3 +247,29 @@ def test_generated_applications_round_trip_through_all_four_paths(demo, awkward_
     awkward_rows = ROUND_TRIP_ROWS // 5 // BATCH_ROWS * BATCH_ROWS
     _round_trip(demo[0], ROUND_TRIP_ROWS - awkward_rows, tmp_path / "demo")
     _round_trip(awkward_model_file, awkward_rows, tmp_path / "awkward")
+
+
+def test_equal_losses_in_decimal_points_rank_in_table_order_in_the_pmml_evaluator(awkward_model_file, monkeypatch, tmp_path):
+    # two characteristics that each lose 11.1 points: 61.3 → 50.2 and 21.1 → 10.0. In doubles,
+    # 61.25 − 50.2 = 11.049999999999997 but 21.05 − 10.0 = 11.05, so baselines of best − ½ unit
+    # alone would put the second first; our scorer puts the earlier first (numbers found by search)
+    from scorecard.exports import CharacteristicRules, Rule
+    from scorecard.exports import pmml as pmml_module
+    from scorecard.exports.rules import MISSING, OTHERWISE
+
+    def char(name, code, best, lowest):
+        return CharacteristicRules(name, NUMERIC, code, name, (Rule(MISSING, 1, lowest), Rule(OTHERWISE, 0, best)), best)
+
+    base = export_model(load_model(awkward_model_file))
+    model = replace(base, characteristics=(char("first", "RA", 613, 502), char("second", "RB", 211, 100)), decimals=1,
+                    reason_count=2)
+    frame = pd.DataFrame({"first": [np.nan, 1.0], "second": [np.nan, 1.0]})
+
+    def reasons_in_jpmml():
+        path = tmp_path / f"ties{len(list(tmp_path.iterdir()))}.pmml"
+        path.write_text(pmml_text(model), encoding="utf-8")
+        return run_pmml(pmml_evaluator(path), frame, model)["reasons"].tolist()
+
+    assert reasons_in_jpmml() == [("RA", "RB"), ()]
+    monkeypatch.setattr(pmml_module, "_baseline_units", lambda position, c, k: c.best_units - 0.5)
+    assert reasons_in_jpmml() == [("RB", "RA"), ()]  # what the plain half-unit baseline gives

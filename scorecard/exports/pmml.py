@@ -53,7 +53,7 @@ def pmml_text(model: ExportModel) -> str:
         '    </MiningSchema>',
         *_output(model),
         '    <Characteristics>',
-        *(line for c in model.characteristics for line in _characteristic(c, model)),
+        *(line for position, c in enumerate(model.characteristics) for line in _characteristic(position, c, model)),
         '    </Characteristics>',
         '  </Scorecard>',
         '</PMML>',
@@ -69,8 +69,9 @@ def _header(model: ExportModel) -> list[str]:
         "Score: the sum of the partial scores" + (
             "; the output field Score is that sum rounded to the points' decimals." if model.decimals else "."),
         "Probability: the probability of default of the score, 1 / (1 + exp((Score - offset) / factor)).",
-        "Reasons: pointsBelow, each baselineScore the characteristic's best points less half a unit of "
-        "the last decimal, so that only characteristics that cost points are reasons.",
+        "Reasons: pointsBelow. Each baselineScore is the characteristic's best points less half a unit of the "
+        "last decimal, plus a smaller part of a unit for the characteristics earlier in the table: only "
+        "characteristics that cost points are reasons, and of two that cost as much the earlier comes first.",
         warning,
     ]
     return [
@@ -119,13 +120,8 @@ def _output(model: ExportModel) -> list[str]:
     return lines
 
 
-def _characteristic(c: CharacteristicRules, model: ExportModel) -> list[str]:
-    # pointsBelow ranks by baselineScore − partial score. With the baseline at the best points less
-    # half a unit, every difference is our points lost less that same half unit: the order is ours
-    # (ties in document order, which is the table's order), and a characteristic that lost nothing
-    # has a negative difference, so it is no reason, as in our scorer. Evaluators differ on a
-    # difference of exactly 0 (one we tried keeps it); this keeps clear of it in standard PMML.
-    baseline = (c.best_units - 0.5) / model.unit
+def _characteristic(position: int, c: CharacteristicRules, model: ExportModel) -> list[str]:
+    baseline = _baseline_units(position, c, len(model.characteristics)) / model.unit
     lines = [f'      <Characteristic name={_attribute(c.name + " points")} reasonCode={_attribute(c.reason_code)}'
              f' baselineScore="{number_text(baseline)}">']
     for rule in c.rules:
@@ -133,6 +129,22 @@ def _characteristic(c: CharacteristicRules, model: ExportModel) -> list[str]:
         lines.append(f'        <Attribute partialScore="{points}">{_predicate(c, rule)}</Attribute>')
     lines.append('      </Characteristic>')
     return lines
+
+
+def _baseline_units(position: int, c: CharacteristicRules, k: int) -> float:
+    """The baseline of the characteristic at ``position`` (0 first) of ``k``, in units of the last decimal.
+
+    pointsBelow ranks by baselineScore − partial score. With the baseline at the best points less
+    half a unit plus (k − 1 − position) / 2k of a unit, a characteristic's difference is its points
+    lost less a part of a unit that shrinks along the table:
+    - losses a whole unit apart keep their order, since the parts differ by less than half a unit;
+    - equal losses rank the earlier characteristic first, as our scorer does, by at least 1/2k of
+      a unit: far above the rounding of double arithmetic on decimal points (about 1e-13), which
+      would otherwise order them at random;
+    - a characteristic that lost nothing has a negative difference, so it is no reason (evaluators
+      differ on a difference of exactly 0; one we tried keeps it).
+    """
+    return c.best_units - 0.5 + (k - 1 - position) / (2 * k)
 
 
 def _predicate(c: CharacteristicRules, rule: Rule) -> str:
