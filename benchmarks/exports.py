@@ -3,7 +3,7 @@
 ``python -m benchmarks.exports [--rows 1000000] [--model-rows 40000]``
 
 The model is the demo's (``scorewright demo --rows MODEL_ROWS``, built once into
-benchmarks/runs/exports/); the applications are ``--rows`` more of the demo generator's (another
+benchmarks/runs/exports/demo-MODEL_ROWS/); the applications are ``--rows`` more of the demo generator's (another
 seed), written once as Parquet into benchmarks/data/. Then, each once, one after the other:
 
 - ``scorewright score`` (a whole process: read the Parquet file, score, write Parquet);
@@ -79,10 +79,10 @@ def _log(text: str) -> None:
 
 
 def _demo_model(folder: Path, rows: int) -> Path:
-    model = folder / "demo" / "build" / "model.json"
+    model = folder / f"demo-{rows}" / "build" / "model.json"
     if not model.exists():
         _log(f"building the demo's model on {rows:,} rows ...")
-        subprocess.run([sys.executable, "-m", "scorecard", "demo", "--rows", str(rows), "--out", str(folder / "demo"),
+        subprocess.run([sys.executable, "-m", "scorecard", "demo", "--rows", str(rows), "--out", str(model.parent.parent),
                         "--force", "--quiet"], check=True, stdout=subprocess.DEVNULL)
     return model
 
