@@ -1,4 +1,4 @@
-"""The scorecard as PMML 4.4: the Data Mining Group's open standard, its ``Scorecard`` model element.
+"""The scorecard as PMML 4.4, the open standard for predictive models: its ``Scorecard`` model element.
 
 One ``Characteristic`` per characteristic of the model, one ``Attribute`` per rule in the order
 of ``scorecard.exports.rules`` (PMML takes the first Attribute whose predicate holds, as our

@@ -1,7 +1,7 @@
 """The scorecard as one SQL query: a ``SELECT`` with ``CASE`` expressions over a table of applications.
 
 The query is standard SQL (``WITH``, ``VALUES``, ``CASE``, ``CAST``), with no window function and
-no ``GROUP BY``, so that it runs row by row on any engine and the id need not be unique:
+no aggregate, so that it runs row by row on any engine and the id need not be unique:
 
 - ``points``: one ``CASE`` per characteristic, its rules in order (``IS NULL``, ``=`` each special
   value, ``<`` each cut, ``IN`` each class's levels, ``ELSE`` the last interval or unseen levels),
