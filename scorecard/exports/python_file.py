@@ -55,7 +55,7 @@ def _missing(value):
 
 def _level(value):
     # the text scorewright knows a level by: '1' for 1 and 1.0, 'true' for True
-    if isinstance(value, bool) or type(value).__name__ == "bool_":
+    if type(value).__name__ in ("bool", "bool_"):  # also numpy's, which is no subclass of bool
         return str(bool(value)).lower()
     if isinstance(value, int) or type(value).__name__.startswith(("int", "uint")):
         return str(int(value))
