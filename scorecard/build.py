@@ -66,13 +66,17 @@ class Build:
         return next(c for c in self.characteristics if c.name == name)
 
     def performance(self) -> dict[str, dict[str, float]]:
-        """Return AUC, Gini and KS per sample that has goods and bads."""
+        """Return AUC (with its DeLong standard error), Gini and KS per sample that has goods and bads.
+
+        The model file keeps them: monitoring tests a new quarter's AUC against the most honest
+        sample's, with the variances of both.
+        """
         figures = {}
         for sample, histogram in self.histograms.items():
             if histogram.goods.sum() > 0 and histogram.bads.sum() > 0:
                 area = auc(histogram.scores, histogram.goods, histogram.bads)
                 ks = ks_statistic(histogram.scores, histogram.goods, histogram.bads)
-                figures[sample] = {"auc": area.auc, "gini": area.gini, "ks": ks.statistic}
+                figures[sample] = {"auc": area.auc, "auc_std_error": area.std_error, "gini": area.gini, "ks": ks.statistic}
         return figures
 
 

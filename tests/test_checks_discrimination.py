@@ -148,6 +148,21 @@ def test_auc_shortfall_is_a_one_sided_normal_test():
     assert auc_shortfall(result, reference=result.auc - 0.03).p_value > 0.5
 
 
+def test_auc_shortfall_of_two_independent_samples_adds_their_variances():
+    # Source: DeLong, DeLong and Clarke-Pearson (Biometrics 44, 1988): for independent samples the
+    # covariance term vanishes, so var(difference) = var1 + var2; p = Φ(z) by scipy.stats.norm.
+    new, baseline = auc(*random_histogram(4)), auc(*random_histogram(9))
+    shortfall = auc_shortfall(new, reference=baseline.auc, reference_std_error=baseline.std_error)
+    z = (new.auc - baseline.auc) / np.sqrt(new.std_error ** 2 + baseline.std_error ** 2)
+    assert shortfall.z == pytest.approx(z, rel=EXACT_RTOL)
+    assert shortfall.p_value == pytest.approx(stats.norm.cdf(z), rel=EXACT_RTOL)
+    assert shortfall.combined_std_error ** 2 == pytest.approx(new.std_error ** 2 + baseline.std_error ** 2, rel=EXACT_RTOL)
+    fixed = auc_shortfall(new, reference=baseline.auc)  # a baseline taken as exact overstates the evidence
+    assert abs(fixed.z) > abs(shortfall.z)
+    with pytest.raises(ScorecardError, match="reference_std_error = -0.1"):
+        auc_shortfall(new, reference=0.7, reference_std_error=-0.1)
+
+
 def test_auc_shortfall_rejects_a_reference_outside_zero_one_and_a_missing_se():
     result = auc(*random_histogram(4))
     with pytest.raises(ScorecardError, match="reference = 1.2"):

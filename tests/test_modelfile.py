@@ -52,7 +52,7 @@ def test_model_file_holds_what_the_reviewer_needs(built, tmp_path):
     assert {"name", "kind", "coefficient", "std_error", "bins"} <= set(char)
     assert {"woe", "points", "counts"} <= set(char["bins"][0])
     assert set(document["performance"]) == {"development", "hold-out"}
-    assert {"auc", "gini", "ks"} == set(document["performance"]["hold-out"])
+    assert {"auc", "auc_std_error", "gini", "ks"} == set(document["performance"]["hold-out"])  # monitoring tests against it
     assert document["ledger"]["fingerprint"]["rows"] == 3000
     assert len(document["checksum"]) == 64
 

@@ -10,8 +10,12 @@ import numpy as np
 import pandas as pd
 import pytest
 
+from scipy import stats
+from sklearn.metrics import roc_auc_score
+
 from scorecard.build import build_scorecard
 from scorecard.cli import main
+from scorecard.intake import prepare_ledger
 from scorecard.terms import BAD, GOOD, UNKNOWN
 from scorecard.modelfile import load_model, model_document, save_model
 from scorecard.monitor import check_period, monitor_ledger
@@ -23,6 +27,7 @@ import ledgers  # tests/ledgers.py: the invented process these tests monitor
 
 N_DEVELOPMENT = 30_000
 N_QUARTER = 8_000
+EXACT_RTOL = 1e-9  # the same sums over rows and over a histogram, in another order
 
 
 @pytest.fixture(scope="module")
@@ -44,6 +49,55 @@ def _monitor(saved_model, frame):
 
 def _status(period, check):
     return next(s.status for s in period.statuses if s.check == check)
+
+
+def delong_on_rows(scores, is_good):
+    """AUC and DeLong's variance from the placement values of the rows, one row at a time (slow oracle).
+
+    Source: E. R. DeLong, D. M. DeLong, D. L. Clarke-Pearson, Biometrics 44 (1988): V10 of a good is
+    the share of bads it outscores (ties half), V01 of a bad the share of goods that outscore it;
+    the variance is var(V10)/m + var(V01)/n.
+    """
+    goods, bads = scores[is_good], scores[~is_good]
+    v10 = np.array([np.mean((good > bads) + 0.5 * (good == bads)) for good in goods])
+    v01 = np.array([np.mean((goods > bad) + 0.5 * (goods == bad)) for bad in bads])
+    return v10.mean(), np.var(v10, ddof=1) / len(goods) + np.var(v01, ddof=1) / len(bads)
+
+
+def test_the_auc_fall_test_weighs_the_sampling_error_of_both_samples(saved):
+    # The new quarter's AUC against the hold-out's at build time (the build drew no out-of-time
+    # sample): z = difference / sqrt(var_new + var_baseline). References: AUCs by scikit-learn's
+    # roc_auc_score, each variance by the placement-value oracle above, p by scipy.stats.norm.
+    model, _ = saved
+    built = ledgers.monitor_frame(N_DEVELOPMENT, 1, days=360)
+    ledger = prepare_ledger(built, model.settings)
+    holdout = (ledger.sample == 1) & (ledger.outcome <= BAD)
+    base_scores = model.scorecard.score(built)["score"].to_numpy()[holdout]
+    base_good = ledger.outcome[holdout] == GOOD
+    quarter = ledgers.monitor_frame(N_QUARTER, 4, bad_factor=1.3)
+    new_scores = model.scorecard.score(quarter)["score"].to_numpy()
+    new_good = (quarter["outcome"] == "good").to_numpy()
+    base_auc, base_variance = delong_on_rows(base_scores, base_good)
+    new_auc, new_variance = delong_on_rows(new_scores, new_good)
+    assert base_auc == pytest.approx(roc_auc_score(base_good, base_scores), rel=EXACT_RTOL)
+    assert new_auc == pytest.approx(roc_auc_score(new_good, new_scores), rel=EXACT_RTOL)
+    z = (new_auc - base_auc) / np.sqrt(new_variance + base_variance)
+    # the model file saved the baseline's figures; the quarter is checked against them
+    assert model.performance["hold-out"]["auc_std_error"] ** 2 == pytest.approx(base_variance, rel=EXACT_RTOL)
+    fall = _monitor(model, quarter).overall.auc_fall
+    assert (fall.reference, fall.reference_std_error ** 2) == pytest.approx((base_auc, base_variance), rel=EXACT_RTOL)
+    assert fall.z == pytest.approx(z, rel=EXACT_RTOL)
+    assert fall.p_value == pytest.approx(stats.norm.cdf(z), rel=EXACT_RTOL)
+
+
+def test_a_model_file_without_the_baseline_standard_error_has_it_computed_from_its_histogram(saved, tmp_path):
+    model, path = saved
+    document = json.loads(path.read_text())
+    for figures in document["performance"].values():
+        del figures["auc_std_error"]  # as a model file of an earlier version holds them
+    older = load_model(save_model(document, tmp_path / "older.json"))
+    quarter = ledgers.monitor_frame(N_QUARTER, 4)
+    assert _monitor(older, quarter).overall.auc_fall.z == _monitor(model, quarter).overall.auc_fall.z
 
 
 def test_a_quarter_from_the_same_process_is_ok(saved):

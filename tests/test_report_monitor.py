@@ -47,6 +47,7 @@ MIN_PDF_BYTES = 20_000  # a browser's PDF of this page is tens of kilobytes; a f
 # LibreOffice writes 15 significant digits; LN and a sum of ten terms agree far better than this.
 RECALC_RTOL = 1e-9
 RECALC_ATOL = 1e-12  # a contribution of exactly 0 has no relative scale
+NORMAL_RTOL = 1e-7  # two implementations of the normal distribution function agree to about this
 
 
 def _drifted() -> pd.DataFrame:
@@ -213,10 +214,18 @@ def test_an_unseen_level_is_named_with_its_count_and_escaped(drifted, page):
 def test_discrimination_and_calibration_are_shown_with_outcomes(drifted, page):
     parsed = pages.Page(page)
     outcomes = drifted[0].overall.outcomes
-    comparison = parsed.table("figure", "development", "new", "change")
-    assert [row[0] for row in comparison] == ["AUC", "Gini", "KS"]
-    assert comparison[0][2] == f"{outcomes.auc.auc:.4f}"
-    assert "one-sided p-value" in parsed.section("discrimination")
+    baseline = drifted[0].baseline_auc
+    assert baseline.sample == "hold-out"  # the build drew no out-of-time sample: its most honest is the hold-out
+    # the test's baseline is named wherever the test appears: the question, the table, the card and the chart
+    comparison = parsed.table("figure", "hold-out at build time", "new", "change")
+    assert [row[0] for row in comparison] == ["AUC", "AUC standard error (DeLong)", "Gini", "KS"]
+    assert comparison[0][1:3] == [f"{baseline.auc:.4f}", f"{outcomes.auc.auc:.4f}"]
+    assert comparison[1][1:3] == [f"{baseline.std_error:.4f}", f"{outcomes.auc.std_error:.4f}"]
+    section = parsed.section("discrimination")
+    assert "Has the AUC fallen below the hold-out sample's at build time?" in section and "one-sided p-value" in section
+    assert "development" not in section.split("The dashed diagonal")[0].replace("else development", "")
+    assert f"baseline {baseline.auc:.4f}: the hold-out sample at build time" in parsed.section("status")
+    assert "hold-out at build time" in page.split('id="discrimination"')[1].split("</svg>")[0]  # the ROC legend
     bands = parsed.table("scores", "applications", "bads", "observed bad rate", "predicted PD")
     assert len(bands) == len(outcomes.calibration.count)
     head = next(t[0] for t in parsed.tables if t and t[0][:2] == ["scores", "applications"])
@@ -339,14 +348,19 @@ def test_stability_puts_baseline_and_new_side_by_side(drifted, book):
     assert len(sheet._charts) == 1
 
 
-def test_discrimination_and_calibration_sheets_hold_development_beside_new(drifted, book):
+def test_discrimination_and_calibration_sheets_hold_the_baseline_beside_new(saved, drifted, book):
     result = drifted[0]
     sheet = book["Discrimination"]
     headers = _headers(sheet)
-    assert headers["AUC (new)"] == headers["AUC (development)"] + 1
     assert sheet.cell(row=5, column=1).value == "whole ledger"
+    assert sheet.cell(row=5, column=headers["Baseline sample"]).value == "hold-out"
     assert sheet.cell(row=5, column=headers["AUC (new)"]).value == pytest.approx(result.overall.outcomes.auc.auc)
-    assert sheet.cell(row=5, column=headers["AUC (development)"]).value == pytest.approx(result.baseline_performance["auc"])
+    performance = saved[0].performance["hold-out"]  # as the build saved them in the model file
+    assert sheet.cell(row=5, column=headers["AUC (baseline)"]).value == performance["auc"]
+    assert sheet.cell(row=5, column=headers["Standard error (baseline)"]).value == performance["auc_std_error"]
+    assert sheet.cell(row=5, column=headers["Standard error (new)"]).value == result.overall.outcomes.auc.std_error
+    for header in ("z", "p-value (fall)", "Status"):  # the verdict, recomputed by the spreadsheet
+        assert sheet.cell(row=5, column=headers[header]).data_type == "f", header
     calibration = book["Calibration"]
     headers = _headers(calibration)
     assert {"Binomial p (two-sided)", "Jeffreys p (more bads)", "Holm-adjusted p", "Hosmer–Lemeshow",
@@ -433,7 +447,8 @@ def test_libreoffice_recalculates_every_formula_to_the_tools_value(saved, drifte
     path = write_monitor_workbook(result, saved[0], tmp_path / "monitor.xlsx")
     original = openpyxl.load_workbook(path)
     expected = _expected_stability_formulas(result, original["Stability"])
-    recalculated = openpyxl.load_workbook(spreadsheet.recalculated(path, tmp_path), data_only=True)["Stability"]
+    book = openpyxl.load_workbook(spreadsheet.recalculated(path, tmp_path), data_only=True)
+    recalculated = book["Stability"]
     formulas = {cell.coordinate for row in original["Stability"].iter_rows() for cell in row if cell.data_type == "f"}
     assert formulas == set(expected)
     for coordinate, want in expected.items():
@@ -441,6 +456,17 @@ def test_libreoffice_recalculates_every_formula_to_the_tools_value(saved, drifte
         where = f"Stability!{coordinate} {original['Stability'][coordinate].value}"
         assert isinstance(got, (int, float)), (where, got, want)  # an error such as '#NUM!' is text
         assert math.isclose(got, want, rel_tol=RECALC_RTOL, abs_tol=RECALC_ATOL), (where, got, want)
+    # the AUC fall test of every period: z, p and the status, recomputed from the baseline and new cells
+    headers = _headers(original["Discrimination"])
+    periods = [result.overall, *result.quarters]
+    for row, period in enumerate(periods, start=5):
+        fall, status = period.auc_fall, next(s.status for s in period.statuses if s.check == "discrimination")
+        got = {header: book["Discrimination"].cell(row=row, column=headers[header]).value
+               for header in ("z", "p-value (fall)", "Status")}
+        assert got["z"] == pytest.approx(fall.z, rel=RECALC_RTOL), period.period
+        # LibreOffice's NORMSDIST is its own normal distribution function (no shared code with scipy)
+        assert got["p-value (fall)"] == pytest.approx(fall.p_value, rel=NORMAL_RTOL), period.period
+        assert got["Status"] == status, period.period
 
 
 def _expected_stability_formulas(result, sheet) -> dict[str, float]:

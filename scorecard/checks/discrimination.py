@@ -77,23 +77,32 @@ class AucResult:
 
 @dataclass(frozen=True, eq=False)
 class AucShortfall:
-    """One-sided test of whether the AUC has fallen below a reference value.
+    """One-sided test of whether the AUC has fallen below a baseline AUC.
 
     Attributes
     ----------
-    auc, reference, std_error : float
-        The observed AUC, the fixed reference value and the AUC's standard error.
+    auc, std_error : float
+        The observed AUC and its DeLong standard error.
+    reference, reference_std_error : float
+        The baseline AUC and its standard error (0 for a fixed number, e.g. a target).
     z : float
-        ``(auc − reference) / std_error``; negative when the AUC is below the reference.
+        ``(auc − reference) / sqrt(std_error² + reference_std_error²)``; negative when the AUC is
+        below the baseline.
     p_value : float
-        ``Φ(z)``: small when the AUC is significantly below the reference.
+        ``Φ(z)``: small when the AUC is significantly below the baseline.
     """
 
     auc: float
     reference: float
     std_error: float
+    reference_std_error: float
     z: float
     p_value: float
+
+    @property
+    def combined_std_error(self) -> float:
+        """The standard error of the difference: ``sqrt(std_error² + reference_std_error²)``."""
+        return float(np.hypot(self.std_error, self.reference_std_error))
 
 
 @dataclass(frozen=True, eq=False)
@@ -283,36 +292,45 @@ def auc(scores, goods, bads, *, level: float = 0.95, scale: str = "logit") -> Au
     )
 
 
-def auc_shortfall(result: AucResult, *, reference: float) -> AucShortfall:
-    """Test one-sidedly whether an AUC has fallen below a fixed reference AUC.
+def auc_shortfall(result: AucResult, *, reference: float, reference_std_error: float = 0.0) -> AucShortfall:
+    """Test one-sidedly whether an AUC has fallen below a baseline AUC measured on another sample.
 
     Parameters
     ----------
     result : AucResult
         The AUC on the sample being monitored, from :func:`auc`.
     reference : float
-        The AUC it is compared with, e.g. the AUC on the development sample, taken as a fixed
-        number (its own sampling error is ignored, which makes the test quicker to flag a fall).
+        The baseline AUC, e.g. the AUC on the build's out-of-time sample.
+    reference_std_error : float
+        The baseline's own DeLong standard error. Two AUCs on independent samples each carry
+        sampling error, so both go into the test; 0 treats the baseline as a fixed number (a
+        target), which flags a fall more readily than the data warrant.
 
     Returns
     -------
     AucShortfall
-        ``z = (auc − reference) / std_error`` and ``p = Φ(z)``. With a zero standard error,
-        ``z`` is ±inf by the sign of the difference, or 0 when there is none.
+        ``z = (auc − reference) / sqrt(se² + se_reference²)`` and ``p = Φ(z)``. With a zero
+        combined standard error, ``z`` is ±inf by the sign of the difference, or 0 when there is none.
 
     Raises
     ------
     ScorecardError
-        If ``reference`` is not between 0 and 1, or the AUC has no standard error (NaN: the sample
-        has at most one good or one bad in weight).
+        If ``reference`` is not between 0 and 1, ``reference_std_error`` is negative or not
+        finite, or the AUC has no standard error (NaN: the sample has at most one good or one bad
+        in weight).
 
     Notes
     -----
-    A Wald test on DeLong's standard error (DeLong, DeLong and Clarke-Pearson, Biometrics 44,
-    1988); under the null hypothesis AUC = reference the statistic is asymptotically standard normal.
+    The samples are independent (different applications), so the variance of the difference is
+    the sum of the two DeLong variances (E. R. DeLong, D. M. DeLong, D. L. Clarke-Pearson,
+    "Comparing the areas under two or more correlated receiver operating characteristic curves",
+    Biometrics 44, 1988, 837–845; their covariance term is zero for independent samples). Under
+    the null hypothesis of equal AUCs the statistic is asymptotically standard normal.
     """
     if not (np.isfinite(reference) and 0 <= reference <= 1):
         raise ScorecardError(f"auc_shortfall: reference = {reference!r}; give an AUC between 0 and 1.")
+    if not (np.isfinite(reference_std_error) and reference_std_error >= 0):
+        raise ScorecardError(f"auc_shortfall: reference_std_error = {reference_std_error!r}; give a standard error >= 0.")
     if not np.isfinite(result.std_error):
         raise ScorecardError(
             f"auc_shortfall: the AUC has no standard error ({result.std_error!r}): the sample has "
@@ -320,12 +338,13 @@ def auc_shortfall(result: AucResult, *, reference: float) -> AucShortfall:
             f"than one of each."
         )
     difference = result.auc - reference
-    if result.std_error > 0:
-        z = difference / result.std_error
+    combined = float(np.hypot(result.std_error, reference_std_error))
+    if combined > 0:
+        z = difference / combined
     else:
         z = float(np.sign(difference) * np.inf) if difference else 0.0
     return AucShortfall(auc=result.auc, reference=float(reference), std_error=result.std_error,
-                        z=float(z), p_value=float(special.ndtr(z)))
+                        reference_std_error=float(reference_std_error), z=float(z), p_value=float(special.ndtr(z)))
 
 
 def ks_statistic(scores, goods, bads) -> KsResult:

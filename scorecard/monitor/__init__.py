@@ -7,11 +7,11 @@
 """
 
 from .periods import MonitorResult, PeriodMonitor, check_period, monitor_ledger, monitor_rows
-from .statuses import STATUSES, CalibrationTest, CheckStatus, calibration_family, p_status, reference_auc, worst
+from .statuses import STATUSES, AucBaseline, CalibrationTest, CheckStatus, auc_baseline, calibration_family, p_status, worst
 from .wording import MEANING, WHAT_TO_DO, driving_checks, monitoring_limits, status_rules
 
 __all__ = [
-    "MEANING", "STATUSES", "WHAT_TO_DO", "CalibrationTest", "CheckStatus", "MonitorResult", "PeriodMonitor",
-    "calibration_family", "check_period", "driving_checks", "monitor_ledger", "monitor_rows", "monitoring_limits",
-    "p_status", "reference_auc", "status_rules", "worst",
+    "MEANING", "STATUSES", "WHAT_TO_DO", "AucBaseline", "CalibrationTest", "CheckStatus", "MonitorResult", "PeriodMonitor",
+    "auc_baseline", "calibration_family", "check_period", "driving_checks", "monitor_ledger", "monitor_rows",
+    "monitoring_limits", "p_status", "status_rules", "worst",
 ]

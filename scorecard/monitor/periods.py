@@ -21,8 +21,8 @@ from ..settings import CheckSettings
 from ..terms import BAD, DEVELOPMENT_NAME, GOOD
 from ..validation import CharacteristicStability, SampleChecks, band_edges, characteristic_stability, sample_checks
 from .statuses import (
-    CalibrationTest, CheckStatus, calibration_family, calibration_status, characteristic_status, discrimination_status,
-    reference_auc, score_stability_status, worst,
+    AucBaseline, CalibrationTest, CheckStatus, auc_baseline, calibration_family, calibration_status, characteristic_status,
+    discrimination_status, score_stability_status, worst,
 )
 
 
@@ -62,9 +62,8 @@ class MonitorResult:
     source: str
     overall: PeriodMonitor
     quarters: tuple[PeriodMonitor, ...]
-    baseline: ScoreHistogram
-    baseline_performance: Mapping[str, float]
-    auc_reference: str  # the build's sample whose AUC the fall test compares with
+    baseline: ScoreHistogram  # the development sample's scores: the stability baseline
+    baseline_auc: AucBaseline | None  # the build's AUC the fall test compares with, on its most honest sample
     edges: np.ndarray
     checks: CheckSettings
     notes: tuple[str, ...]
@@ -125,9 +124,8 @@ def monitor_rows(saved: SavedModel, rows: InProcessRows, dates: np.ndarray | Non
                      unseen=unseen if label == "all" else {}, unknown=part["unknown"])
         for label, part in parts.items()
     ]
-    performance = saved.performance.get(DEVELOPMENT_NAME, {})
-    reference, _ = reference_auc(saved.performance)
-    return MonitorResult(source, periods[0], tuple(periods[1:]), baseline, performance, reference, edges, checks, tuple(notes))
+    return MonitorResult(source, periods[0], tuple(periods[1:]), baseline, auc_baseline(saved.performance, saved.baseline),
+                         edges, checks, tuple(notes))
 
 
 def _quarters(dates: np.ndarray, source: str, notes: list[str]) -> tuple[np.ndarray, tuple[str, ...]]:
@@ -197,10 +195,10 @@ def check_period(label: str, histogram: ScoreHistogram, counts: Mapping[str, Seq
     tests: tuple[CalibrationTest, ...] = ()
     if histogram.goods.sum() > 0 and histogram.bads.sum() > 0:
         outcomes = sample_checks(histogram, table.scaling, edges, in_sample=False, cutoff_step=checks.cutoff_step)
-        sample, reference = reference_auc(saved.performance)
-        if reference is not None and np.isfinite(outcomes.auc.std_error):
-            fall = auc_shortfall(outcomes.auc, reference=reference)
-            statuses.append(discrimination_status(fall, outcomes, checks, sample))
+        reference = auc_baseline(saved.performance, saved.baseline)
+        if reference is not None and np.isfinite(outcomes.auc.std_error) and np.isfinite(reference.std_error):
+            fall = auc_shortfall(outcomes.auc, reference=reference.auc, reference_std_error=reference.std_error)
+            statuses.append(discrimination_status(fall, outcomes, checks, reference))
         tests = calibration_family(outcomes)
         statuses.append(calibration_status(tests, outcomes, checks))
     return PeriodMonitor(

@@ -6,7 +6,8 @@ How statuses are set (the reports say the same, in the words of ``scorecard.moni
   ``checks.psi_act`` (0.10 / 0.25, common practice, no source). Levels never seen at build time
   make a characteristic at least ``watch``.
 - Discrimination: the one-sided test that the AUC has fallen below the build's AUC on its most
-  honest sample (DeLong's variance); p below ``checks.p_watch`` / ``checks.p_act`` (0.05 / 0.01,
+  honest sample, the baseline (``auc_baseline``): z = difference / sqrt(var_new + var_baseline)
+  with DeLong's variance of each; p below ``checks.p_watch`` / ``checks.p_act`` (0.05 / 0.01,
   common practice).
 - Calibration: one family of tests — calibration-in-the-large, Hosmer–Lemeshow, and each score
   band's exact binomial test — with Holm's adjustment for testing many at once (S. Holm,
@@ -21,7 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..checks import AucShortfall, PsiResult, holm
+from ..checks import AucShortfall, PsiResult, auc, holm
 from ..settings import CheckSettings
 from ..terms import most_honest
 from ..validation import CharacteristicStability, SampleChecks
@@ -78,13 +79,45 @@ def p_status(p_value: float, checks: CheckSettings) -> str:
     return "watch" if p_value < checks.p_watch else "ok"
 
 
-def reference_auc(performance: Mapping[str, Mapping[str, float]]) -> tuple[str, float | None]:
-    """The build's AUC a new quarter is compared with: on its most honest sample (``scorecard.terms.most_honest``).
+@dataclass(frozen=True)
+class AucBaseline:
+    """The build's figures a new period's AUC is compared with: those of its most honest sample.
 
-    The development figure is optimistic (the model was fitted on it), so an honest sample comes first.
+    Attributes
+    ----------
+    sample : str
+        The build's sample (out-of-time, else hold-out, else development; ``scorecard.terms.most_honest``).
+    auc, std_error : float
+        Its AUC and DeLong standard error, as the model file saved them.
+    gini, ks : float
+        Its Gini and KS, shown beside the new period's.
+    """
+
+    sample: str
+    auc: float
+    std_error: float
+    gini: float
+    ks: float
+
+
+def auc_baseline(performance: Mapping[str, Mapping[str, float]],
+                 histograms: Mapping[str, object] | None = None) -> AucBaseline | None:
+    """Return the build's AUC on its most honest sample, with its standard error (None without any AUC).
+
+    The development figure is optimistic (the model was fitted on it), so an honest sample comes
+    first. A model file written before the standard error was saved has it computed again from
+    that sample's score histogram (``histograms``), which gives the same number.
     """
     sample = most_honest(name for name, figures in performance.items() if "auc" in figures)
-    return (sample, float(performance[sample]["auc"])) if sample else ("", None)
+    if not sample:
+        return None
+    figures = performance[sample]
+    std_error = figures.get("auc_std_error")
+    if std_error is None:
+        histogram = histograms[sample]
+        keep = (histogram.goods + histogram.bads) > 0
+        std_error = auc(histogram.scores[keep], histogram.goods[keep], histogram.bads[keep]).std_error
+    return AucBaseline(sample, float(figures["auc"]), float(std_error), float(figures["gini"]), float(figures["ks"]))
 
 
 def calibration_family(outcomes: SampleChecks) -> tuple[CalibrationTest, ...]:
@@ -122,12 +155,13 @@ def characteristic_status(stability: CharacteristicStability, unseen: Mapping[st
     )
 
 
-def discrimination_status(fall: AucShortfall, outcomes: SampleChecks, checks: CheckSettings, sample: str) -> CheckStatus:
+def discrimination_status(fall: AucShortfall, outcomes: SampleChecks, checks: CheckSettings, baseline: AucBaseline) -> CheckStatus:
     return CheckStatus(
         "discrimination", p_status(fall.p_value, checks), "p-value", fall.p_value, checks.p_watch, checks.p_act,
         "below", P_SOURCE,
-        f"AUC {outcomes.auc.auc:.4f} against {fall.reference:.4f} on the {sample} sample at build time; "
-        "one-sided test of a fall (DeLong's variance)",
+        f"AUC {outcomes.auc.auc:.4f} (standard error {fall.std_error:.4f}) against {fall.reference:.4f} (standard error "
+        f"{fall.reference_std_error:.4f}) on the {baseline.sample} sample at build time; z = {fall.z:.2f}; one-sided "
+        "test of a fall with DeLong's variance of both",
     )
 
 

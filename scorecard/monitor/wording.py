@@ -59,8 +59,9 @@ def status_rules(checks: CheckSettings) -> list[tuple[str, str, str, str, str]]:
          f"PSI over the characteristic's bins; {psi_source}. A level never seen at build time makes the "
          "characteristic at least watch (our rule)."),
         ("discrimination", *p,
-         "One-sided test that the AUC has fallen below the build's AUC on its most honest sample (out-of-time, "
-         "else hold-out, else development), with DeLong's variance "
+         "One-sided test that the AUC has fallen below the baseline: the build's AUC on its most honest sample "
+         "(out-of-time, else hold-out, else development). Both AUCs carry sampling error, so z = difference / "
+         "√(variance of the new AUC + variance of the baseline's), each DeLong's variance "
          f"(E. R. DeLong, D. M. DeLong, D. L. Clarke-Pearson, Biometrics 44, 1988); {p_source}."),
         ("calibration", *p,
          "One family of tests: calibration-in-the-large (two-sided), Hosmer–Lemeshow, and each score band's "

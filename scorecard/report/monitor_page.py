@@ -33,7 +33,6 @@ from ..monitor import (
     status_rules,
 )
 from ..settings import CheckSettings
-from ..terms import DEVELOPMENT_NAME
 from . import CAUTION, charts
 from .page_kit import (
     DASH, Cell, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text, interval_text,
@@ -204,12 +203,12 @@ def _headline_figures(result: MonitorResult) -> list[Figure]:
     if overall.outcomes is not None:
         large = overall.outcomes.in_the_large
         area = overall.outcomes.auc
-        development = result.baseline_performance.get("auc", float("nan"))
-        figures += [
-            Figure("Bad rate, observed", percent_text(large.observed_rate),
-                   f"predicted {percent_text(large.expected_rate)}"),
-            Figure("AUC, new", fixed_text(area.auc, 4), f"development {fixed_text(development, 4)}"),
-        ]
+        figures.append(Figure("Bad rate, observed", percent_text(large.observed_rate),
+                              f"predicted {percent_text(large.expected_rate)}"))
+        baseline = result.baseline_auc
+        if baseline is not None:
+            figures.append(Figure("AUC, new", fixed_text(area.auc, 4),
+                                  f"baseline {fixed_text(baseline.auc, 4)}: the {baseline.sample} sample at build time"))
     return figures
 
 
@@ -293,40 +292,53 @@ def _discrimination(result: MonitorResult, saved: SavedModel) -> dict:
     outcomes = overall.outcomes
     if outcomes is None:
         return {"checked": False}
-    performance = result.baseline_performance
+    baseline = result.baseline_auc
     area, ks = outcomes.auc, outcomes.ks
-    nan = float("nan")
-    comparison = [
-        ["AUC", fixed_text(performance.get("auc", nan), 4), fixed_text(area.auc, 4),
-         signed_text(area.auc - performance.get("auc", nan), 4), interval_text(area.lower, area.upper, 4)],
-        ["Gini", fixed_text(performance.get("gini", nan), 4), fixed_text(area.gini, 4),
-         signed_text(area.gini - performance.get("gini", nan), 4), interval_text(area.gini_lower, area.gini_upper, 4)],
-        ["KS", fixed_text(performance.get("ks", nan), 4), fixed_text(ks.statistic, 4),
-         signed_text(ks.statistic - performance.get("ks", nan), 4), ""],
-    ]
     level = level_text(area.level)
-    table = text_table(["figure", "development", NEW, "change", f"new, {level} interval"], comparison,
-                       numeric=range(1, 5),
-                       caption=f"Development figures as saved in the model file; new: the whole ledger's goods and "
-                               f"bads. AUC interval: DeLong, {level}.")
+    if baseline is None:  # no sample of the build had goods and bads: nothing to compare with
+        return {"checked": True, "table": None, "test": None, "baseline": "",
+                "roc": _roc(None, saved, outcomes)}
+    comparison = [
+        ["AUC", fixed_text(baseline.auc, 4), fixed_text(area.auc, 4), signed_text(area.auc - baseline.auc, 4),
+         interval_text(area.lower, area.upper, 4)],
+        ["AUC standard error (DeLong)", fixed_text(baseline.std_error, 4), fixed_text(area.std_error, 4), "", ""],
+        ["Gini", fixed_text(baseline.gini, 4), fixed_text(area.gini, 4), signed_text(area.gini - baseline.gini, 4),
+         interval_text(area.gini_lower, area.gini_upper, 4)],
+        ["KS", fixed_text(baseline.ks, 4), fixed_text(ks.statistic, 4), signed_text(ks.statistic - baseline.ks, 4), ""],
+    ]
+    table = text_table(["figure", f"{baseline.sample} at build time", NEW, "change", f"new, {level} interval"],
+                       comparison, numeric=range(1, 5),
+                       caption=f"Baseline: the build's {baseline.sample} sample, its most honest (out-of-time, else "
+                               f"hold-out, else development), as saved in the model file; the fall test compares with "
+                               f"it. New: the whole ledger's goods and bads. AUC interval: DeLong, {level}.")
     status = next((s for s in overall.statuses if s.check == "discrimination"), None)
     fall = overall.auc_fall
     test = None
     if fall is not None and status is not None:
         test = {"status": status.status, "figure": figure_text(status), "thresholds": status.thresholds,
-                "text": f"AUC {fixed_text(fall.auc, 4)} against {fixed_text(fall.reference, 4)} "
-                        f"(the {result.auc_reference} sample at build time), "
-                        f"standard error {fixed_text(fall.std_error, 4)}, z = {fixed_text(fall.z, 2)}."}
-    development = saved.baseline[DEVELOPMENT_NAME]
-    keep = (development.goods + development.bads) > 0
-    baseline_roc = roc_points(development.scores[keep], development.goods[keep], development.bads[keep])
-    roc = captioned_chart(
-        charts.roc_chart({"development": (baseline_roc.goods_declined, baseline_roc.bads_declined),
-                          NEW: (outcomes.roc.goods_declined, outcomes.roc.bads_declined)},
-                         title="ROC curves, development sample and new ledger"),
-        "Share of bads against share of goods declined as the cut-off rises: development sample (from the model "
-        "file's histogram) and the new ledger. The dashed diagonal is a score that does not discriminate.")
-    return {"checked": True, "table": table, "test": test, "roc": roc}
+                "text": f"AUC {fixed_text(fall.auc, 4)} (standard error {fixed_text(fall.std_error, 4)}) against "
+                        f"{fixed_text(fall.reference, 4)} (standard error {fixed_text(fall.reference_std_error, 4)}) on "
+                        f"the {baseline.sample} sample at build time: z = difference / √(sum of the two variances) = "
+                        f"{fixed_text(fall.z, 2)}."}
+    return {"checked": True, "table": table, "test": test, "baseline": baseline.sample,
+            "roc": _roc(baseline.sample, saved, outcomes)}
+
+
+def _roc(sample: str | None, saved: SavedModel, outcomes):
+    """ROC curves of the baseline sample (from the model file's histogram) and of the new ledger."""
+    curves = {}
+    if sample is not None:
+        histogram = saved.baseline[sample]
+        keep = (histogram.goods + histogram.bads) > 0
+        curve = roc_points(histogram.scores[keep], histogram.goods[keep], histogram.bads[keep])
+        curves[f"{sample} at build time"] = (curve.goods_declined, curve.bads_declined)
+    curves[NEW] = (outcomes.roc.goods_declined, outcomes.roc.bads_declined)
+    named = f"the {sample} sample at build time (from the model file's histogram) and " if sample else ""
+    return captioned_chart(
+        charts.roc_chart(curves, title="ROC curves, " + (f"{sample} sample at build time and " if sample else "")
+                         + "new ledger"),
+        f"Share of bads against share of goods declined as the cut-off rises: {named}the new ledger. The dashed "
+        "diagonal is a score that does not discriminate.")
 
 
 # --------------------------------------------------------------------------------------------

@@ -289,36 +289,56 @@ def _psi_block(sheet: Worksheet, tables, *, column: int, label: str, counts: str
     return _PsiBlock(placed.sheet, placed.header_row, placed.first_row, placed.last_row, placed.columns, tuple(blocks))
 
 
+DISCRIMINATION_COLUMNS = [
+    "Period", "Goods", "Bads", "Baseline sample", "AUC (baseline)", "Standard error (baseline)", "AUC (new)",
+    "Standard error (new)", "z", "p-value (fall)", "Status", "AUC lower (new)", "AUC upper (new)", "Gini (baseline)",
+    "Gini (new)", "KS (baseline)", "KS (new)",
+]
+
+
 def _discrimination_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> None:
-    sheet_heading(sheet, "Discrimination", "Development figures as saved in the model file beside the new ledger's, "
-                                           "whole ledger and each quarter. AUC interval: DeLong. Fall test: one-sided, "
-                                           "AUC below the build's AUC on out-of-time, else hold-out, else development (DeLong's variance).")
-    performance = result.baseline_performance
-    nan = float("nan")
-    rows = []
+    """Each period's AUC against the baseline's, with the test as live formulas over the cells beside it."""
+    baseline = result.baseline_auc
+    checks = result.checks
+    sheet_heading(sheet, "Discrimination", "The new ledger's AUC against the build's on its most honest sample "
+                                           "(out-of-time, else hold-out, else development), whole ledger and each "
+                                           "quarter. z and p are formulas: z = (new − baseline) / SQRT(se new² + se "
+                                           "baseline²), DeLong's standard error of each; p = NORMSDIST(z), one-sided.")
+    letter = {name: get_column_letter(i + 1) for i, name in enumerate(DISCRIMINATION_COLUMNS)}
+    rows, statuses = [], []
     for period in _periods(result):
         outcomes = period.outcomes
-        if outcomes is None:
+        if outcomes is None or baseline is None:
             continue
+        row = FIRST_ROW + len(rows)
         area, fall = outcomes.auc, period.auc_fall
         status = _status_of(period, "discrimination")
+        cell = {name: f"{letter[name]}{row}" for name in letter}
+        z = Formula(f"({cell['AUC (new)']}-{cell['AUC (baseline)']})/SQRT({cell['Standard error (new)']}^2"
+                    f"+{cell['Standard error (baseline)']}^2)")
+        p = Formula(f"NORMSDIST({cell['z']})")
+        verdict = Formula(f'IF({cell["p-value (fall)"]}<{checks.p_act!r},"act",IF({cell["p-value (fall)"]}<'
+                          f'{checks.p_watch!r},"watch","ok"))')
         rows.append({
-            "Period": _period_name(period), "Goods": period.goods, "Bads": period.bads,
-            "AUC (development)": performance.get("auc", nan), "AUC (new)": area.auc, "AUC lower": area.lower,
-            "AUC upper": area.upper, "Gini (development)": performance.get("gini", nan), "Gini (new)": area.gini,
-            "KS (development)": performance.get("ks", nan), "KS (new)": outcomes.ks.statistic,
-            "AUC standard error": area.std_error, "z": fall.z if fall else None,
-            "p-value (fall)": fall.p_value if fall else None, "Status": status.status if status else "",
+            "Period": _period_name(period), "Goods": period.goods, "Bads": period.bads, "Baseline sample": baseline.sample,
+            "AUC (baseline)": baseline.auc, "Standard error (baseline)": baseline.std_error, "AUC (new)": area.auc,
+            "Standard error (new)": area.std_error, "z": z if fall else None, "p-value (fall)": p if fall else None,
+            "Status": verdict if fall else "not computed", "AUC lower (new)": area.lower, "AUC upper (new)": area.upper,
+            "Gini (baseline)": baseline.gini, "Gini (new)": area.gini, "KS (baseline)": baseline.ks,
+            "KS (new)": outcomes.ks.statistic,
         })
-    columns = ["Period", "Goods", "Bads", "AUC (development)", "AUC (new)", "AUC lower", "AUC upper",
-               "Gini (development)", "Gini (new)", "KS (development)", "KS (new)", "AUC standard error", "z",
-               "p-value (fall)", "Status"]
-    placed = write_frame(sheet, pd.DataFrame(rows, columns=columns), caption="Development against new",
+        statuses.append(status.status if status else "")
+    frame = pd.DataFrame(rows, columns=DISCRIMINATION_COLUMNS, dtype=object)  # object: keeps each Formula one
+    placed = write_frame(sheet, frame, caption="Baseline against new",
                          formats={"Goods": counts, "Bads": counts, "p-value (fall)": SMALL_P_VALUE, "z": "0.00",
-                                  **dict.fromkeys(columns[3:12], STATISTIC)})
-    _fill_statuses(sheet, placed.columns["Status"], placed.first_row, placed.last_row)
+                                  **dict.fromkeys(DISCRIMINATION_COLUMNS[4:8] + DISCRIMINATION_COLUMNS[11:], STATISTIC)})
+    for row, status in enumerate(statuses, start=placed.first_row):  # the status the tool found, for the fill
+        fill = STATUS_FILLS.get(status)
+        if fill is not None:
+            sheet.cell(row=row, column=placed.columns["Status"]).fill = fill
     if not rows:
-        text_cell(sheet, FIRST_ROW, 1, NO_OUTCOMES)
+        text_cell(sheet, FIRST_ROW, 1, NO_OUTCOMES if baseline is not None else
+                  "Not checked: no sample of the build had goods and bads, so there is no AUC to compare with.")
     freeze_header(sheet, columns=1)
     fit_widths(sheet)
 
