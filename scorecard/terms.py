@@ -51,6 +51,13 @@ LEAKAGE_IV = 0.5
 WATCH_PSI, ACT_PSI = 0.10, 0.25
 WATCH_P, ACT_P = 0.05, 0.01
 
+# Over-fitting flags (common practice, no source): a Gini that falls by more than this share from
+# the development sample to an honest one deserves a look; a coefficient of a WoE-coded
+# characteristic far from 1 (outside this range) suggests collinearity or over-fitting, since
+# each WoE column alone has coefficient 1 by construction.
+GINI_DROP = 0.10
+COEFFICIENT_RANGE = (0.5, 1.5)
+
 
 def caution(subject: str) -> str:
     """Return the caution every deliverable carries (reports, workbooks, exported scorecards), said of ``subject``."""

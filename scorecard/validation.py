@@ -2,24 +2,29 @@
 
 This module only applies the functions of ``scorecard.checks`` to the samples of a build (or,
 for monitoring, to a new quarter against the development baseline), with one set of score bands
-fixed on the development sample so that every sample is cut the same way. The same functions
-serve the build report and the monitoring report: monitoring is these checks on a new sample,
-not a second implementation.
+fixed on the development sample so that every sample is cut the same way, and named the same way
+(by the scores each band can hold). The same functions serve the build report and the monitoring
+report: monitoring is these checks on a new sample, not a second implementation.
+
+No check ends a build: one that cannot be computed on the data at hand (a sample without bads, a
+score with too few values for the Hosmer–Lemeshow test) is recorded as not computed, with the
+reason, and every report says so.
 """
 
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from .checks import (
     AucResult, CalibrationInTheLarge, CalibrationLine, CalibrationTable, CapCurve, CutoffTable, GainsTable,
     HosmerLemeshow, KsResult, PointsShift, PsiResult, RocCurve, auc, brier_score, calibration_in_the_large,
-    calibration_line, calibration_table, cap_points, cutoff_table, gains_table, hosmer_lemeshow, ks_statistic,
+    calibration_line, calibration_table, cap_points, cutoff_table, gains_table, holm, hosmer_lemeshow, ks_statistic,
     points_shift, psi, roc_points, score_bands, score_psi,
 )
+from .checks.discrimination import band_labels
 from .errors import ScorecardError
 from .points import Scaling
 from .rows import ScoreHistogram
@@ -28,11 +33,21 @@ from .terms import DEVELOPMENT_NAME, SAMPLE_NAMES
 
 
 @dataclass(frozen=True)
+class CalibrationTest:
+    """One test of the calibration family, before and after Holm's adjustment."""
+
+    test: str
+    p_value: float
+    adjusted_p_value: float
+
+
+@dataclass(frozen=True)
 class SampleChecks:
     """Discrimination and calibration of one sample (outcomes known).
 
-    ``calibration_line`` is None when it cannot be fitted (a single score level, or goods and
-    bads separated); ``notes`` then says why.
+    ``hosmer_lemeshow`` and ``calibration_line`` are None when they cannot be computed on the
+    sample (too few score bands; a single score level, or goods and bads separated);
+    ``not_computed`` then says why, by check.
     """
 
     sample: str
@@ -44,17 +59,23 @@ class SampleChecks:
     cap: CapCurve
     gains: GainsTable
     calibration: CalibrationTable
-    hosmer_lemeshow: HosmerLemeshow
+    hosmer_lemeshow: HosmerLemeshow | None
     in_the_large: CalibrationInTheLarge
     calibration_line: CalibrationLine | None
     brier: float
     cutoffs: CutoffTable
-    notes: tuple[str, ...] = ()
+    calibration_tests: tuple[CalibrationTest, ...] = ()
+    not_computed: Mapping[str, str] = field(default_factory=dict)
 
     @property
     def bad_rate(self) -> float:
         """Bads over goods and bads."""
         return self.bads / (self.goods + self.bads)
+
+    @property
+    def notes(self) -> tuple[str, ...]:
+        """Each check not computed, with its reason, as a sentence."""
+        return tuple(f"{check} not computed on the {self.sample} sample: {why}" for check, why in self.not_computed.items())
 
 
 @dataclass(frozen=True)
@@ -83,12 +104,18 @@ class Validation:
         Score PSI of each other sample against development.
     characteristic_stability : dict of str to tuple of CharacteristicStability
         Per other sample, each model characteristic's PSI and points shift.
+    band_names : tuple of str
+        Each band's name: the scores it can hold ('418–515'), the same on every sample.
+    not_computed : dict of str to str
+        Samples whose outcome checks could not be computed (no goods or no bads), with the reason.
     """
 
     edges: np.ndarray
     samples: Mapping[str, SampleChecks]
     score_stability: Mapping[str, PsiResult]
     characteristic_stability: Mapping[str, tuple[CharacteristicStability, ...]]
+    band_names: tuple[str, ...] = ()
+    not_computed: Mapping[str, str] = field(default_factory=dict)
 
 
 def band_edges(baseline: ScoreHistogram, checks: CheckSettings) -> np.ndarray:
@@ -98,13 +125,19 @@ def band_edges(baseline: ScoreHistogram, checks: CheckSettings) -> np.ndarray:
     return score_bands(baseline.scores, baseline.everyone, n_bands=checks.bands)
 
 
+def score_range(table) -> tuple[float, float, float]:
+    """The lowest and highest possible scores of a points table, and the step between scores."""
+    return table.min_score, table.max_score, 10.0 ** -table.decimals
+
+
 def sample_checks(histogram: ScoreHistogram, scale: Scaling, edges: np.ndarray, *, in_sample: bool,
-                  cutoff_step: float = 0.0) -> SampleChecks:
+                  cutoff_step: float = 0.0, names: Sequence[str] | None = None) -> SampleChecks:
     """Return discrimination, calibration and cut-offs of one sample's score histogram.
 
     Parameters
     ----------
     histogram : ScoreHistogram
+        Must hold goods and bads.
     scale : Scaling
         Turns each score into its predicted PD.
     edges : numpy.ndarray
@@ -114,26 +147,76 @@ def sample_checks(histogram: ScoreHistogram, scale: Scaling, edges: np.ndarray, 
         bands − 2 degrees of freedom, else bands.
     cutoff_step : float
         Step between candidate cut-offs (0: every score that occurs).
+    names : sequence of str, optional
+        The bands' names (``band_names``), for the calibration family's test names.
     """
     keep = (histogram.goods + histogram.bads) > 0
     scores, goods, bads = histogram.scores[keep], histogram.goods[keep], histogram.bads[keep]
     pd_ = scale.pd_of_score(scores)
     table = calibration_table(scores, goods, bads, pd_, edges=edges)
-    notes = []
+    not_computed = {}
     try:
         line = calibration_line(scores, goods, bads, pd_)
     except ScorecardError as error:
         line = None
-        notes.append(f"calibration intercept and slope not computed on the {histogram.sample} sample: {error}")
-    return SampleChecks(
+        not_computed["calibration intercept and slope"] = str(error).partition(": ")[2]
+    area = auc(scores, goods, bads)
+    if not np.isfinite(area.std_error):
+        not_computed["AUC interval"] = (f"DeLong's standard error needs more than one good and one bad in weight, and "
+                                        f"the sample has {_counted(area.n_goods, 'good')} and {_counted(area.n_bads, 'bad')}")
+    test = None
+    n_bands = int(table.band.size)
+    if n_bands - (2 if in_sample else 0) >= 1:
+        test = hosmer_lemeshow(table, in_sample=in_sample)
+    else:
+        not_computed["Hosmer–Lemeshow test"] = (
+            f"the scores fall in {n_bands} band{'s' if n_bands != 1 else ''}, which leaves no degree of freedom"
+            + (" (bands − 2 on the sample the model was fitted on)" if in_sample else "")
+            + "; the scorecard has too few distinct scores for it")
+    checks = SampleChecks(
         sample=histogram.sample, goods=float(goods.sum()), bads=float(bads.sum()),
-        auc=auc(scores, goods, bads), ks=ks_statistic(scores, goods, bads), roc=roc_points(scores, goods, bads),
+        auc=area, ks=ks_statistic(scores, goods, bads), roc=roc_points(scores, goods, bads),
         cap=cap_points(scores, goods, bads), gains=gains_table(scores, goods, bads, edges=edges),
-        calibration=table, hosmer_lemeshow=hosmer_lemeshow(table, in_sample=in_sample),
-        in_the_large=calibration_in_the_large(scores, goods, bads, pd_), calibration_line=line,
-        brier=brier_score(scores, goods, bads, pd_),
-        cutoffs=cutoff_table(scores, goods, bads, step=cutoff_step or None), notes=tuple(notes),
+        calibration=table, hosmer_lemeshow=test, in_the_large=calibration_in_the_large(scores, goods, bads, pd_),
+        calibration_line=line, brier=brier_score(scores, goods, bads, pd_),
+        cutoffs=cutoff_table(scores, goods, bads, step=cutoff_step or None), not_computed=not_computed,
     )
+    return replace(checks, calibration_tests=calibration_family(checks, names=names))
+
+
+def calibration_family(outcomes: SampleChecks, *, names: Sequence[str] | None = None) -> tuple[CalibrationTest, ...]:
+    """Return the calibration tests of a sample with Holm-adjusted p-values.
+
+    The family: calibration-in-the-large (two-sided), Hosmer–Lemeshow (where computed), and each
+    score band's exact binomial test (two-sided). The build report and monitoring adjust the same
+    family the same way (S. Holm, "A simple sequentially rejective multiple test procedure",
+    Scandinavian Journal of Statistics 6, 1979).
+    """
+    table = outcomes.calibration
+    labels = ([names[band] for band in table.band] if names is not None
+              else [f"{low:g} to {high:g}" for low, high in zip(table.score_low, table.score_high)])
+    tests = [("calibration in the large", outcomes.in_the_large.p_two_sided)]
+    if outcomes.hosmer_lemeshow is not None:
+        tests.append(("Hosmer-Lemeshow", outcomes.hosmer_lemeshow.p_value))
+    tests += [(f"band {label}", p) for label, p in zip(labels, table.binomial_p_two_sided)]
+    p_values = np.array([p for _, p in tests], dtype=float)
+    adjusted = holm(np.nan_to_num(p_values, nan=1.0))
+    return tuple(CalibrationTest(n, float(p), float(a)) for (n, _), p, a in zip(tests, p_values, adjusted))
+
+
+def without_outcomes(histogram: ScoreHistogram) -> str:
+    """Why a sample's outcome checks cannot be computed ('' when they can): it lacks goods or bads."""
+    goods, bads = histogram.goods.sum(), histogram.bads.sum()
+    if goods > 0 and bads > 0:
+        return ""
+    held = (f"{_counted(goods, 'good')} and no bads" if goods > 0 else f"{_counted(bads, 'bad')} and no goods" if bads > 0
+            else "no goods and no bads")
+    return (f"it has {held}; discrimination and calibration compare the scores of goods with those of bads, "
+            "so they need some of each")
+
+
+def _counted(weight: float, noun: str) -> str:
+    return f"{weight:,.4g} {noun}" + ("" if weight == 1 else "s")
 
 
 def characteristic_stability(name: str, sample: str, baseline: Sequence[float], other: Sequence[float],
@@ -153,7 +236,7 @@ def characteristic_stability(name: str, sample: str, baseline: Sequence[float], 
 def validate(histograms: Mapping[str, ScoreHistogram], scale: Scaling, *,
              bin_counts: Mapping[str, Mapping[str, Sequence[float]]], points: Mapping[str, Sequence[float]],
              labels: Mapping[str, Sequence[str]], missing_bins: Mapping[str, int],
-             checks: CheckSettings = CheckSettings()) -> Validation:
+             checks: CheckSettings = CheckSettings(), scores: tuple[float, float, float] | None = None) -> Validation:
     """Run every check on every sample of a build.
 
     Parameters
@@ -166,21 +249,27 @@ def validate(histograms: Mapping[str, ScoreHistogram], scale: Scaling, *,
     missing_bins : mapping of characteristic to its missing bin (-1: none of its own)
     checks : CheckSettings
         Bands, grades and thresholds.
+    scores : (lowest, highest, step), optional
+        The possible scores (``score_range``): the bands are named by the scores each can hold.
 
     Returns
     -------
     Validation
+        A sample without goods or without bads gets no outcome checks; ``not_computed`` says so.
     """
     baseline = histograms[DEVELOPMENT_NAME]
     edges = band_edges(baseline, checks)
+    names = band_labels(edges, score_range=scores)
+    not_computed = {name: why for name, h in histograms.items() if (why := without_outcomes(h))}
     samples = {
-        name: sample_checks(h, scale, edges, in_sample=name == DEVELOPMENT_NAME, cutoff_step=checks.cutoff_step)
-        for name, h in histograms.items() if h.goods.sum() > 0 and h.bads.sum() > 0
+        name: sample_checks(h, scale, edges, in_sample=name == DEVELOPMENT_NAME, cutoff_step=checks.cutoff_step,
+                            names=names)
+        for name, h in histograms.items() if name not in not_computed
     }
     others = [name for name in histograms if name != DEVELOPMENT_NAME]
     score_stability = {
         name: score_psi(baseline.scores, baseline.everyone, histograms[name].scores, histograms[name].everyone,
-                        edges=edges, watch=checks.psi_watch, act=checks.psi_act)
+                        edges=edges, watch=checks.psi_watch, act=checks.psi_act, labels=names)
         for name in others
     }
     per_characteristic = {
@@ -191,7 +280,7 @@ def validate(histograms: Mapping[str, ScoreHistogram], scale: Scaling, *,
         )
         for name in others
     }
-    return Validation(edges, samples, score_stability, per_characteristic)
+    return Validation(edges, samples, score_stability, per_characteristic, names, not_computed)
 
 
 def validate_build(build) -> Validation:
@@ -206,5 +295,94 @@ def validate_build(build) -> Validation:
         points={name: table.get(name).points for name in names},
         labels={name: table.get(name).labels for name in names},
         missing_bins={b.characteristic: b.missing_bin for b in build.scorecard.binnings},
-        checks=build.settings.checks,
+        checks=build.settings.checks, scores=score_range(table),
     )
+
+
+@dataclass(frozen=True)
+class Flag:
+    """One thing a reviewer should look at first, and where the report shows it.
+
+    Attributes
+    ----------
+    kind : str
+        'leakage', 'over-fitting', 'coefficient', 'reversal', 'fit', 'stability', 'calibration',
+        'not computed' or 'notes'.
+    text : str
+        What was found, in a sentence with its figure and threshold.
+    section : str
+        The part of the report that shows the evidence ('characteristics', 'fit', ...).
+    """
+
+    kind: str
+    text: str
+    section: str
+
+
+def review_flags(build, validation: Validation) -> tuple[Flag, ...]:
+    """Return every flag a build raises, for the report's and the workbook's list "For the reviewer".
+
+    Leakage (IV above ``selection.leakage_iv``), over-fitting (a Gini that falls from development to
+    hold-out or out-of-time by more than ``checks.gini_drop``, relatively), coefficients outside
+    ``checks.coefficient_range`` or negative, a fit that did not converge, stability and calibration
+    statuses other than ok (calibration by the Holm-adjusted family, as monitoring judges it), every
+    check not computed, and the notes of the build. The thresholds are common practice, no source.
+    """
+    settings, table, fit = build.settings, build.scorecard.table, build.selection.fit
+    checks = settings.checks
+    flags = [Flag("leakage", f"{name!r} is in the model with IV {build.characteristic(name).evidence.iv:.3f}, above the "
+                             f"leakage threshold {settings.selection.leakage_iv:g}: confirm it is known when an "
+                             "application is made.", "characteristics")
+             for name in table.names if build.characteristic(name).evidence.leakage_flag]
+    flags += _overfitting_flags(validation, checks)
+    flags += _coefficient_flags(fit, checks)
+    if not fit.converged:
+        flags.append(Flag("fit", f"The fit did not converge in {fit.iterations} iterations.", "fit"))
+    flags += [Flag("stability", f"Score PSI of the {sample} sample against development is {result.value:.4f}: "
+                                f"{result.status}.", "stability")
+              for sample, result in validation.score_stability.items() if result.status != "ok"]
+    flags += [Flag("stability", f"PSI of {item.characteristic!r} on the {sample} sample is {item.psi.value:.4f}: "
+                                f"{item.psi.status}.", "stability")
+              for sample, items in validation.characteristic_stability.items() for item in items if item.psi.status != "ok"]
+    for sample, result in validation.samples.items():
+        smallest = min(result.calibration_tests, key=lambda test: test.adjusted_p_value, default=None)
+        if smallest is not None and smallest.adjusted_p_value < checks.p_watch:
+            flags.append(Flag("calibration", f"Calibration on the {sample} sample: the smallest Holm-adjusted p-value "
+                                             f"of its family of tests is {smallest.adjusted_p_value:.3g} ({smallest.test}), "
+                                             f"below {checks.p_watch:g}.", "calibration"))
+    flags += [Flag("not computed", f"Discrimination and calibration not computed on the {sample} sample: {why}.", "discrimination")
+              for sample, why in validation.not_computed.items()]
+    flags += [Flag("not computed", f"{note[0].upper()}{note[1:]}.", "calibration")
+              for result in validation.samples.values() for note in result.notes]
+    if build.notes:
+        flags.append(Flag("notes", f"The build made {len(build.notes)} note{'s' if len(build.notes) != 1 else ''} of what "
+                                   "was left out, repaired or merged; read them.", "data"))
+    return tuple(flags)
+
+
+def _overfitting_flags(validation: Validation, checks: CheckSettings) -> list[Flag]:
+    development = validation.samples.get(DEVELOPMENT_NAME)
+    if development is None or development.auc.gini <= 0:
+        return []
+    flags = []
+    for sample, result in validation.samples.items():
+        drop = 1 - result.auc.gini / development.auc.gini
+        if sample != DEVELOPMENT_NAME and drop > checks.gini_drop:
+            flags.append(Flag("over-fitting", f"The Gini falls from {development.auc.gini:.4f} on development to "
+                                              f"{result.auc.gini:.4f} on the {sample} sample, {drop:.0%} less: more "
+                                              f"than {checks.gini_drop:.0%}, which can mean over-fitting.", "discrimination"))
+    return flags
+
+
+def _coefficient_flags(fit, checks: CheckSettings) -> list[Flag]:
+    low, high = checks.coefficient_range
+    flags = []
+    for name, coefficient in zip(fit.names[1:], fit.coefficients[1:]):
+        if coefficient < 0:
+            flags.append(Flag("reversal", f"The coefficient of {name!r} is negative ({coefficient:.4f}): a reversal of "
+                                          "its WoE's meaning.", "fit"))
+        elif not low <= coefficient <= high:
+            flags.append(Flag("coefficient", f"The coefficient of {name!r} is {coefficient:.4f}, outside {low:g} to "
+                                             f"{high:g}: alone its WoE would have 1, so it suggests collinearity with "
+                                             "other characteristics or over-fitting.", "fit"))
+    return flags

@@ -12,6 +12,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
+import pages  # tests/pages.py: reading the reports
 import scorecard.commands  # noqa: F401  loaded once here, so the first test does not pay for importing the stages
 from scorecard import LedgerError, read_settings
 from scorecard.cli import main
@@ -498,3 +499,62 @@ def test_export_refuses_what_it_cannot_write(extra, out, message, tmp_path):
     assert code == 2 and stdout == "" and "Traceback" not in stderr
     assert re.search(message, stderr), stderr
     assert sorted(p.name for p in tmp_path.iterdir()) == before and (tmp_path / "existing.sql").read_text() == "kept"
+
+
+# --------------------------------------------------------------------------------------------
+# no check ends a build
+
+
+def _few_scores_ledger(case: str) -> tuple[pd.DataFrame, list[str]]:
+    """An invented ledger for each shape of data a check cannot be computed on, with the build's options."""
+    rng = np.random.default_rng(11)
+    n = 3000
+    if case == "one binary characteristic":  # two possible scores: two score bands
+        flag = rng.choice(["yes", "no"], n)
+        bad = rng.random(n) < np.where(flag == "yes", 0.3, 0.1)
+        return pd.DataFrame({"flag": flag, "outcome": np.where(bad, "bad", "good")}), []
+    if case == "three distinct scores":  # one answer of three holds 90%: its score covers nine bands
+        level = rng.choice(["a", "b", "c"], n, p=[0.9, 0.05, 0.05])
+        bad = rng.random(n) < np.select([level == "a", level == "b"], [0.1, 0.3], 0.5)
+        return pd.DataFrame({"level": level, "outcome": np.where(bad, "bad", "good")}), []
+    x = rng.normal(size=n)
+    bad = rng.random(n) < 1 / (1 + np.exp(1.5 + x))
+    if case == "an out-of-time sample without bads":
+        date = pd.Timestamp("2024-01-01") + pd.to_timedelta(np.arange(n) // 10, unit="D")
+        bad[date >= pd.Timestamp("2024-10-01")] = False
+        frame = pd.DataFrame({"x": x, "date": date.strftime("%Y-%m-%d"), "outcome": np.where(bad, "bad", "good")})
+        return frame, ["--date", "date", "--out-of-time-from", "2024-10-01"]
+    # a hold-out of a few rows: too few for ten bands, with a single bad
+    frame = pd.DataFrame({"x": x, "outcome": np.where(bad, "bad", "good")})
+    return frame, ["--holdout", "0.002"]
+
+
+NOT_COMPUTED_CASES = {
+    "one binary characteristic": "Hosmer–Lemeshow test not computed on the development sample: the scores fall in 2 bands",
+    "three distinct scores": "Hosmer–Lemeshow test not computed on the development sample: the scores fall in 2 bands",
+    "an out-of-time sample without bads": "not computed on the out-of-time sample: it has 260 goods and no bads",
+    "a hold-out too small for ten bands": "AUC interval not computed on the hold-out sample: DeLong's standard error "
+                                          "needs more than one good and one bad in weight, and the sample has {goods} goods and 1 bad",
+}
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("case", list(NOT_COMPUTED_CASES))
+def test_a_check_that_cannot_be_computed_is_reported_and_the_build_goes_on(case, tmp_path):
+    import openpyxl
+
+    frame, options = _few_scores_ledger(case)
+    frame.to_csv(tmp_path / "ledger.csv", index=False)
+    out = tmp_path / "run"
+    code, _, stderr = run("build", tmp_path / "ledger.csv", "--target", "outcome", "--bad", "bad", *options,
+                          "--out", out, "--quiet")
+    assert code == 0, stderr
+    assert sorted(path.name for path in out.iterdir()) == sorted(
+        ["model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx"])
+    samples = json.loads((out / "model.json").read_text())["ledger"]["samples"]
+    expected = NOT_COMPUTED_CASES[case].format(goods=f"{samples['hold-out']['good']:g}")
+    summary = pages.Page((out / "report.html").read_text(encoding="utf-8")).section("summary")
+    assert expected in summary.split("For the reviewer")[1]  # listed for the reviewer, with its reason
+    book = openpyxl.load_workbook(out / "workbook.xlsx")
+    flags = [row[1] for row in book["Overview"].iter_rows(values_only=True) if row[0] == "not computed"]
+    assert any(expected in text for text in flags)

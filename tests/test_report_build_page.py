@@ -118,7 +118,11 @@ def test_hosmer_lemeshow_and_psi_figures_appear_as_computed(built, page):
     text = " ".join(pages.Page(page).text)
     for checks in validation.samples.values():
         test = checks.hosmer_lemeshow
-        assert f"df {test.df}, p-value " in text
+        # the degrees of freedom say why: bands − 2 in sample, every band elsewhere (Hosmer and Lemeshow 1980)
+        rule = ("bands − 2: the model was fitted on this sample" if checks.sample == "development"
+                else "bands: the model was not fitted on this sample")
+        assert test.df == test.n_bands - (2 if checks.sample == "development" else 0)
+        assert f"df {test.df} ({test.n_bands} {rule}), p-value " in text
         assert f"{test.statistic:,.2f}" in text
     for name, result in validation.score_stability.items():
         assert [name, f"{result.value:.4f}", result.status] in pages.Page(page).table("sample", "score PSI", "status")

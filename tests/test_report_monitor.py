@@ -240,9 +240,9 @@ def test_without_outcomes_the_page_says_stability_only_and_shows_no_calibration_
     status = parsed.section("status")
     assert "Stability only." in status and "discrimination and calibration were not checked" in status
     calibration = parsed.section("calibration")
-    assert calibration.startswith("4 Calibration Not checked: no row of this ledger has a known outcome")
+    assert calibration.startswith("4 Calibration Not computed: no row of this ledger has a known outcome")
     assert "Hosmer" not in calibration and "%" not in calibration
-    assert "Not checked" in parsed.section("discrimination")
+    assert "Not computed" in parsed.section("discrimination")
     assert "calibration" not in [row[1] for row in parsed.table("status", "check", "figure", "threshold")]
 
 
@@ -260,10 +260,23 @@ def test_a_dated_ledger_has_every_check_by_quarter(drifted, page):
     assert parsed.section("quarters").count("Observed and predicted bad rate by quarter") == 1  # a chart's title
 
 
-def test_an_undated_ledger_says_why_there_are_no_figures_by_quarter(saved, undated):
+def test_an_undated_ledger_has_no_by_quarter_section(saved, undated):
     parsed = pages.Page(_page(saved, undated))
-    assert "No figures by quarter: the ledger has no date column 'date'" in parsed.section("quarters")
+    assert "quarters" not in parsed.sections and "By quarter" not in " ".join(parsed.text)
     assert not any(t and t[0][:2] == ["check", "whole ledger"] for t in parsed.tables)
+    # the sections after it move up one, in the contents list and in their headings alike
+    assert parsed.section("rules").startswith("5 How statuses are set")
+    assert parsed.section("reproducibility").startswith("7 Reproducibility")
+
+
+def test_a_ledger_with_outcomes_but_no_bads_says_why_nothing_was_computed(saved, folder):
+    frame = ledgers.monitor_frame(N_QUARTER, 12, start="2025-01-01").assign(outcome="good")
+    result, fingerprint, _ = _monitored(saved, frame, folder, "all-good.csv")
+    parsed = pages.Page(render_monitor(result, saved[0], model_path=saved[1], ledger_fingerprint=fingerprint))
+    why = f"it has {N_QUARTER:,} goods and no bads; discrimination and calibration compare"
+    assert f"Not computed: {why}" in parsed.section("discrimination")
+    assert f"Not computed: {why}" in parsed.section("calibration")
+    assert result.overall.not_computed["calibration"].startswith(why[:30])
 
 
 def test_the_page_carries_the_caution_and_identifies_model_and_ledger(saved, drifted, page):
@@ -376,8 +389,8 @@ def test_text_that_looks_like_a_formula_stays_text(book):
 
 def test_without_outcomes_or_dates_the_workbook_says_so(saved, no_outcomes, undated):
     pending = monitor_workbook(no_outcomes[0], saved[0])
-    assert pending["Discrimination"]["A5"].value.startswith("Not checked: no row of the ledger has a known outcome")
-    assert pending["Calibration"]["A5"].value.startswith("Not checked")
+    assert pending["Discrimination"]["A5"].value.startswith("Not computed: no row of the ledger has a known outcome")
+    assert pending["Calibration"]["A5"].value.startswith("Not computed")
     assert "Quarters" in pending.sheetnames
     plain = monitor_workbook(undated[0], saved[0])
     assert tuple(plain.sheetnames) == ("Overview", "Stability", "Discrimination", "Calibration", "Cautions")

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import warnings
+from types import SimpleNamespace
 
 import numpy as np
 import pytest
@@ -12,7 +13,8 @@ from scorecard.checks import score_bands
 from scorecard.points import scaling
 from scorecard.rows import ScoreHistogram
 from scorecard.settings import CheckSettings, Settings
-from scorecard.validation import band_edges, characteristic_stability, sample_checks, validate_build
+from scorecard.checks.discrimination import band_labels
+from scorecard.validation import band_edges, characteristic_stability, review_flags, sample_checks, validate_build
 
 from ledgers import monitor_frame  # tests/ledgers.py: an invented ledger
 
@@ -71,3 +73,54 @@ def test_a_build_is_checked_on_every_sample_against_development():
     names = build.scorecard.table.names
     assert [c.characteristic for c in validation.characteristic_stability["out-of-time"]] == list(names)
     assert len(validation.edges) == 5 - 1
+    # one name per band, by the scores it can hold, the same on every sample (issue 10: three samples
+    # once named the same band 418–515, 444–515 and 408–515)
+    table = build.scorecard.table
+    assert validation.band_names[0].startswith(f"{table.min_score:.0f}–")
+    assert validation.band_names[-1].endswith(f"–{table.max_score:.0f}")
+    for sample, checks in validation.samples.items():
+        names = [validation.band_names[band] for band in checks.gains.band]
+        assert [test.test for test in checks.calibration_tests[2:]] == [f"band {name}" for name in names]
+    for result in validation.score_stability.values():
+        assert result.labels == validation.band_names
+
+
+def test_bands_are_named_by_the_first_and_last_score_they_can_hold():
+    # edges 516 and 533 of whole-point scores from 418 to 690: 418–515, 516–532, 533–690
+    assert band_labels([516.0, 533.0], score_range=(418.0, 690.0, 1.0)) == ("418–515", "516–532", "533–690")
+    # one decimal; an analyst's grade between two possible scores starts the band at the next one
+    assert band_labels([50.05, 60.0], score_range=(41.2, 70.4, 0.1)) == ("41.2–50.0", "50.1–59.9", "60.0–70.4")
+    assert band_labels([500.0], score_range=(450.0, 500.0, 1.0)) == ("450–499", "500")
+
+
+def _flags_of(coefficients, ginis, *, converged=True, notes=()):
+    """review_flags on a stand-in build: a fit with these coefficients, samples with these Ginis."""
+    fit = SimpleNamespace(names=("intercept", *(f"c{i}" for i in range(len(coefficients)))),
+                          coefficients=(0.1, *coefficients), converged=converged, iterations=7)
+    build = SimpleNamespace(settings=Settings(), scorecard=SimpleNamespace(table=SimpleNamespace(names=())),
+                            selection=SimpleNamespace(fit=fit), notes=tuple(notes))
+    samples = {name: SimpleNamespace(auc=SimpleNamespace(gini=gini), calibration_tests=(), notes=())
+               for name, gini in ginis.items()}
+    validation = SimpleNamespace(samples=samples, score_stability={}, characteristic_stability={}, not_computed={})
+    return review_flags(build, validation)
+
+
+def test_over_fitting_is_flagged_when_the_gini_falls_by_more_than_the_threshold():
+    # common practice, no source: a relative fall of more than 10% from development deserves a look
+    flags = _flags_of([1.0], {"development": 0.60, "hold-out": 0.53, "out-of-time": 0.55})
+    assert [f.kind for f in flags] == ["over-fitting"]
+    assert "0.6000 on development to 0.5300 on the hold-out sample, 12% less" in flags[0].text
+    assert _flags_of([1.0], {"development": 0.60, "hold-out": 0.55}) == ()  # 8% less
+
+
+def test_coefficients_far_from_one_are_flagged_with_both_causes():
+    # common practice, no source: outside about 0.5 to 1.5 suggests collinearity or over-fitting
+    flags = _flags_of([1.2, 1.7, 0.4, -0.2], {"development": 0.5})
+    assert [(f.kind, f.text.split("'")[1]) for f in flags] == [("coefficient", "c1"), ("coefficient", "c2"),
+                                                              ("reversal", "c3")]
+    assert "collinearity" in flags[0].text and "over-fitting" in flags[0].text
+
+
+def test_notes_and_an_unconverged_fit_are_flags_too():
+    flags = _flags_of([1.0], {"development": 0.5}, converged=False, notes=("'x' left out: constant.",))
+    assert [f.kind for f in flags] == ["fit", "notes"]

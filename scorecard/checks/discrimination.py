@@ -632,13 +632,37 @@ def band_sums(scores: np.ndarray, edges: np.ndarray, counts: np.ndarray) -> np.n
     return np.bincount(_band_index(scores, edges), weights=counts, minlength=edges.size + 1)
 
 
-def band_labels(edges: np.ndarray) -> tuple[str, ...]:
-    """Name each band by its score interval, e.g. '< 520', '[520, 540)', '>= 600'."""
-    text = [f"{edge:g}" for edge in edges]
-    if not text:
-        return ("all scores",)
-    middle = [f"[{low}, {high})" for low, high in zip(text[:-1], text[1:])]
-    return (f"< {text[0]}", *middle, f">= {text[-1]}")
+def band_labels(edges: np.ndarray, *, score_range: tuple[float, float, float] | None = None) -> tuple[str, ...]:
+    """Name each band by the scores it holds.
+
+    Parameters
+    ----------
+    edges : numpy.ndarray
+        Band edges (band ``k`` holds ``edges[k-1] <= s < edges[k]``).
+    score_range : (lowest, highest, step), optional
+        The lowest and highest possible scores and the step between scores (1 for whole points,
+        0.1 for one decimal). With it, each band is named by the first and last score it can hold,
+        '418–515', '516–532', ..., '612–690': the same names on every sample, since the edges are
+        fixed. Without it, by the interval: '< 520', '[520, 540)', '>= 600'.
+    """
+    if score_range is None:
+        text = [f"{edge:g}" for edge in edges]
+        if not text:
+            return ("all scores",)
+        middle = [f"[{low}, {high})" for low, high in zip(text[:-1], text[1:])]
+        return (f"< {text[0]}", *middle, f">= {text[-1]}")
+    lowest, highest, step = score_range
+    digits = max(0, -int(np.floor(np.log10(step) + 1e-9)))
+    # the first possible score at or above each edge starts a band; the one before it ends the band below
+    starts = np.ceil(np.asarray(edges, float) / step - 1e-9) * step
+    lows, highs = [lowest, *starts], [*(starts - step), highest]
+    return tuple(_score_span(low, high, digits) for low, high in zip(lows, highs))
+
+
+def _score_span(low: float, high: float, digits: int) -> str:
+    if high < low:  # an analyst's grade edge outside the possible scores leaves a band no score can fall in
+        return f"none between {low:.{digits}f} and {high + 10.0 ** -digits:.{digits}f}"
+    return f"{low:.{digits}f}" if high == low else f"{low:.{digits}f}–{high:.{digits}f}"
 
 
 def check_level(level, *, caller: str) -> None:

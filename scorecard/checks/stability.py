@@ -187,7 +187,8 @@ def psi_status(value: float, *, watch: float = WATCH_PSI, act: float = ACT_PSI) 
 
 
 def score_psi(expected_scores, expected_counts, actual_scores, actual_counts, *, n_bands: int = 10, edges=None,
-              empty_cell: float = EMPTY_CELL, watch: float = WATCH_PSI, act: float = ACT_PSI) -> PsiResult:
+              empty_cell: float = EMPTY_CELL, watch: float = WATCH_PSI, act: float = ACT_PSI,
+              labels=None) -> PsiResult:
     """Return the PSI of two score histograms over bands defined on the baseline.
 
     Parameters
@@ -204,11 +205,14 @@ def score_psi(expected_scores, expected_counts, actual_scores, actual_counts, *,
         Strictly ascending band edges chosen by the analyst.
     empty_cell, watch, act : float
         As for :func:`psi`.
+    labels : sequence of str, optional
+        The bands' names (default: their score intervals, see
+        :func:`~scorecard.checks.discrimination.band_labels`).
 
     Returns
     -------
     PsiResult
-        Bins are the bands, labelled by their score intervals, lowest first. Scores of the newer
+        Bins are the bands, lowest first. Scores of the newer
         sample below the first edge or above the last fall in the end bands.
 
     Raises
@@ -232,7 +236,8 @@ def score_psi(expected_scores, expected_counts, actual_scores, actual_counts, *,
     edges = band_edges(expected_scores, expected_counts, n_bands=n_bands, edges=edges, caller="score_psi")
     expected_bands = band_sums(expected_scores, edges, expected_counts)
     actual_bands = band_sums(actual_scores, edges, actual_counts)
-    return _index(expected_bands, actual_bands, band_labels(edges), empty_cell=empty_cell, watch=watch, act=act)
+    labels = band_labels(edges) if labels is None else _validated_labels(labels, edges.size + 1)
+    return _index(expected_bands, actual_bands, labels, empty_cell=empty_cell, watch=watch, act=act)
 
 
 def points_shift(expected, actual, points) -> PointsShift:

@@ -7,7 +7,8 @@
 """
 
 from .periods import MonitorResult, PeriodMonitor, check_period, monitor_ledger, monitor_rows
-from .statuses import STATUSES, AucBaseline, CalibrationTest, CheckStatus, auc_baseline, calibration_family, p_status, worst
+from ..validation import CalibrationTest, calibration_family
+from .statuses import STATUSES, AucBaseline, CheckStatus, auc_baseline, p_status, worst
 from .wording import MEANING, WHAT_TO_DO, driving_checks, monitoring_limits, status_rules
 
 __all__ = [

@@ -9,7 +9,7 @@ model's date column, per calendar quarter. Every check gets a status (``scorecar
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -19,9 +19,12 @@ from ..modelfile import SavedModel
 from ..rows import InProcessRows, ScoreHistogram
 from ..settings import CheckSettings
 from ..terms import BAD, DEVELOPMENT_NAME, GOOD
-from ..validation import CharacteristicStability, SampleChecks, band_edges, characteristic_stability, sample_checks
+from ..checks.discrimination import band_labels
+from ..validation import (
+    CharacteristicStability, SampleChecks, band_edges, characteristic_stability, sample_checks, score_range, without_outcomes,
+)
 from .statuses import (
-    AucBaseline, CalibrationTest, CheckStatus, auc_baseline, calibration_family, calibration_status, characteristic_status,
+    AucBaseline, CalibrationTest, CheckStatus, auc_baseline, calibration_status, characteristic_status,
     discrimination_status, score_stability_status, worst,
 )
 
@@ -43,6 +46,7 @@ class PeriodMonitor:
     auc_fall: AucShortfall | None
     calibration_tests: tuple[CalibrationTest, ...]
     statuses: tuple[CheckStatus, ...]
+    not_computed: Mapping[str, str] = field(default_factory=dict)  # check -> why it could not be computed
 
     @property
     def status(self) -> str:
@@ -67,6 +71,7 @@ class MonitorResult:
     edges: np.ndarray
     checks: CheckSettings
     notes: tuple[str, ...]
+    band_names: tuple[str, ...] = ()  # each score band by the scores it can hold, as in the build report
 
     @property
     def status(self) -> str:
@@ -125,7 +130,7 @@ def monitor_rows(saved: SavedModel, rows: InProcessRows, dates: np.ndarray | Non
         for label, part in parts.items()
     ]
     return MonitorResult(source, periods[0], tuple(periods[1:]), baseline, auc_baseline(saved.performance, saved.baseline),
-                         edges, checks, tuple(notes))
+                         edges, checks, tuple(notes), band_labels(edges, score_range=score_range(saved.scorecard.table)))
 
 
 def _quarters(dates: np.ndarray, source: str, notes: list[str]) -> tuple[np.ndarray, tuple[str, ...]]:
@@ -182,8 +187,9 @@ def check_period(label: str, histogram: ScoreHistogram, counts: Mapping[str, Seq
     checks = saved.settings.checks
     baseline = saved.baseline[DEVELOPMENT_NAME]
     table = saved.scorecard.table
+    names = band_labels(edges, score_range=score_range(table))
     score_stability = score_psi(baseline.scores, baseline.everyone, histogram.scores, histogram.everyone,
-                                edges=edges, watch=checks.psi_watch, act=checks.psi_act)
+                                edges=edges, watch=checks.psi_watch, act=checks.psi_act, labels=names)
     characteristics = tuple(
         characteristic_stability(char.name, label, saved.bin_counts[char.name][DEVELOPMENT_NAME]["everyone"],
                                  counts[char.name], char.points, char.labels, missing_bin=binning.missing_bin, checks=checks)
@@ -193,15 +199,26 @@ def check_period(label: str, histogram: ScoreHistogram, counts: Mapping[str, Seq
     statuses += [characteristic_status(c, unseen.get(c.characteristic, {}), checks) for c in characteristics]
     outcomes = fall = None
     tests: tuple[CalibrationTest, ...] = ()
-    if histogram.goods.sum() > 0 and histogram.bads.sum() > 0:
-        outcomes = sample_checks(histogram, table.scaling, edges, in_sample=False, cutoff_step=checks.cutoff_step)
+    not_computed: dict[str, str] = {}
+    missing = without_outcomes(histogram)
+    if not missing:
+        outcomes = sample_checks(histogram, table.scaling, edges, in_sample=False, cutoff_step=checks.cutoff_step,
+                                 names=names)
+        not_computed.update(outcomes.not_computed)
         reference = auc_baseline(saved.performance, saved.baseline)
-        if reference is not None and np.isfinite(outcomes.auc.std_error) and np.isfinite(reference.std_error):
+        if reference is None:
+            not_computed["discrimination"] = "no sample of the build had goods and bads, so there is no AUC to compare with"
+        elif not (np.isfinite(outcomes.auc.std_error) and np.isfinite(reference.std_error)):
+            not_computed["discrimination"] = ("the AUC's standard error needs more than one good and one bad in weight, "
+                                              "in the period and in the baseline")
+        else:
             fall = auc_shortfall(outcomes.auc, reference=reference.auc, reference_std_error=reference.std_error)
             statuses.append(discrimination_status(fall, outcomes, checks, reference))
-        tests = calibration_family(outcomes)
+        tests = outcomes.calibration_tests
         statuses.append(calibration_status(tests, outcomes, checks))
+    elif histogram.goods.sum() + histogram.bads.sum() > 0:  # outcomes known, but of one kind only
+        not_computed.update({"discrimination": missing, "calibration": missing})
     return PeriodMonitor(
         label, float(histogram.everyone.sum()), float(histogram.goods.sum()), float(histogram.bads.sum()), unknown,
-        histogram, score_stability, characteristics, unseen, outcomes, fall, tests, tuple(statuses),
+        histogram, score_stability, characteristics, unseen, outcomes, fall, tests, tuple(statuses), not_computed,
     )

@@ -22,10 +22,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..checks import AucShortfall, PsiResult, auc, holm
+from ..checks import AucShortfall, PsiResult, auc
 from ..settings import CheckSettings
 from ..terms import most_honest
-from ..validation import CharacteristicStability, SampleChecks
+from ..validation import CalibrationTest, CharacteristicStability, SampleChecks
 
 STATUSES = ("ok", "watch", "act")
 PSI_SOURCE = "common practice, no source"
@@ -56,15 +56,6 @@ class CheckStatus:
         if self.direction == "above":
             return f"watch at {self.watch:g} and above, act at {self.act:g} and above"
         return f"watch below {self.watch:g}, act below {self.act:g}"
-
-
-@dataclass(frozen=True)
-class CalibrationTest:
-    """One test of the calibration family, before and after Holm's adjustment."""
-
-    test: str
-    p_value: float
-    adjusted_p_value: float
 
 
 def worst(statuses) -> str:
@@ -118,21 +109,6 @@ def auc_baseline(performance: Mapping[str, Mapping[str, float]],
         keep = (histogram.goods + histogram.bads) > 0
         std_error = auc(histogram.scores[keep], histogram.goods[keep], histogram.bads[keep]).std_error
     return AucBaseline(sample, float(figures["auc"]), float(std_error), float(figures["gini"]), float(figures["ks"]))
-
-
-def calibration_family(outcomes: SampleChecks) -> tuple[CalibrationTest, ...]:
-    """Return the calibration tests of a period with Holm-adjusted p-values.
-
-    The family: calibration-in-the-large (two-sided), Hosmer–Lemeshow, and each score band's
-    exact binomial test (two-sided).
-    """
-    table = outcomes.calibration
-    names = ["calibration in the large", "Hosmer-Lemeshow"]
-    names += [f"band {low:g} to {high:g}" for low, high in zip(table.score_low, table.score_high)]
-    p_values = np.array([outcomes.in_the_large.p_two_sided, outcomes.hosmer_lemeshow.p_value,
-                         *table.binomial_p_two_sided], dtype=float)
-    adjusted = holm(np.nan_to_num(p_values, nan=1.0))
-    return tuple(CalibrationTest(n, float(p), float(a)) for n, p, a in zip(names, p_values, adjusted))
 
 
 def score_stability_status(result: PsiResult, checks: CheckSettings) -> CheckStatus:

@@ -22,9 +22,10 @@ from .. import __version__
 from ..files import write_text_atomically
 from ..settings import settings_to_toml
 from ..terms import ACT_PSI, DEVELOPMENT_NAME, NUMERIC, WATCH_PSI, most_honest, shape_words
+from ..validation import review_flags
 from . import CAUTION, charts
 from .page_kit import (
-    ADJUSTED_MARK, DASH, Cell, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text,
+    ADJUSTED_MARK, DASH, NOT_COMPUTED, Cell, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text,
     interval_text, level_text, library_versions, p_value_text, percent_text, psi_table, score_text, signed_text,
     span_text, status_cell, text_table,
 )
@@ -192,6 +193,8 @@ def _headline_table(validation, decimals: int) -> Table:
                      interval_text(area.lower, area.upper, 4), fixed_text(area.gini, 4),
                      interval_text(area.gini_lower, area.gini_upper, 4), fixed_text(checks.ks.statistic, 4),
                      score_text(checks.ks.score, decimals)])
+    for name, why in validation.not_computed.items():
+        rows.append([name, Cell(f"{NOT_COMPUTED}: {why}", "not-computed"), "", "", "", "", "", "", "", ""])
     level = level_text(next(iter(validation.samples.values())).auc.level) if validation.samples else "95%"
     return text_table(["sample", "goods", "bads", "bad rate", "AUC", f"AUC {level} interval", "Gini",
                        f"Gini {level} interval", "KS", "KS at score"], rows, numeric=range(1, 10),
@@ -199,44 +202,9 @@ def _headline_table(validation, decimals: int) -> Table:
 
 
 def _attention(build, validation) -> list[str]:
-    """Findings of the checks that a reviewer should look at first."""
-    checks = build.settings.checks
-    table = build.scorecard.table
-    fit = build.selection.fit
-    found = []
-    for name in table.names:
-        evidence = build.characteristic(name).evidence
-        if evidence.leakage_flag:
-            found.append(f"{name!r} is in the model with IV {evidence.iv:.3f}, above the leakage threshold "
-                         f"{build.settings.selection.leakage_iv:g}: confirm it is known when an application is made "
-                         f"(section 3).")
-        if evidence.adjusted.any():
-            found.append(f"{name!r} has bins with no goods or no bads on development; 0.5 was added to their "
-                         f"counts (section 3).")
-    for name, coefficient in zip(fit.names[1:], fit.coefficients[1:]):
-        if coefficient < 0:
-            found.append(f"The coefficient of {name!r} is negative ({coefficient:.4f}): a reversal of its WoE's "
-                         f"meaning (section 5).")
-    if not fit.converged:
-        found.append(f"The fit did not converge in {fit.iterations} iterations (section 5).")
-    for sample, result in validation.score_stability.items():
-        if result.status != "ok":
-            found.append(f"Score PSI of the {sample} sample against development is {result.value:.4f}: "
-                         f"{result.status} (section 9).")
-    for sample, per_characteristic in validation.characteristic_stability.items():
-        for item in per_characteristic:
-            if item.psi.status != "ok":
-                found.append(f"PSI of {item.characteristic!r} on the {sample} sample is {item.psi.value:.4f}: "
-                              f"{item.psi.status} (section 9).")
-    for sample, result in validation.samples.items():
-        if result.hosmer_lemeshow.p_value < checks.p_watch:
-            found.append(f"Hosmer–Lemeshow p-value on the {sample} sample is {p_value_text(result.hosmer_lemeshow.p_value)}, "
-                         f"below {checks.p_watch:g} (section 8).")
-        if result.in_the_large.p_excess < checks.p_watch:
-            found.append(f"More bads than predicted on the {sample} sample: {percent_text(result.in_the_large.observed_rate)} "
-                         f"observed against {percent_text(result.in_the_large.expected_rate)} predicted, one-sided "
-                         f"p-value {p_value_text(result.in_the_large.p_excess)} (section 8).")
-    return found
+    """Every flag the build raised (``scorecard.validation.review_flags``), each with the section that shows it."""
+    number = {section: position for position, (section, _) in enumerate(SECTIONS, start=1)}
+    return [f"{flag.text} (section {number[flag.section]})" for flag in review_flags(build, validation)]
 
 
 # --------------------------------------------------------------------------------------------
@@ -561,7 +529,7 @@ def _discrimination(build, validation) -> dict:
                                              title=f"Cumulative goods and bads by score, {name} sample"),
                              f"Share of all goods and of all bads scored at or below each score; {name} sample.")
         gains = checks.gains
-        labels = [span_text(low, high, decimals) for low, high in zip(gains.score_low, gains.score_high)]
+        labels = [validation.band_names[band] for band in gains.band]
         distribution = captioned_chart(charts.score_distribution(labels, gains.goods, gains.bads,
                                                                  title=f"Goods and bads by score band, {name} sample"),
                                        f"Share of all goods and of all bads in each score band; {name} sample.")
@@ -587,29 +555,35 @@ def _gains_table(gains, labels: Sequence[str], sample: str) -> Table:
 
 
 def _calibration(validation, decimals: int) -> list[dict]:
-    return [_sample_calibration(name, checks, decimals) for name, checks in validation.samples.items()]
+    return [_sample_calibration(name, checks, validation.band_names) for name, checks in validation.samples.items()]
 
 
-def _sample_calibration(name: str, checks, decimals: int) -> dict:
+def _sample_calibration(name: str, checks, band_names) -> dict:
     table = checks.calibration
-    labels = [span_text(low, high, decimals) for low, high in zip(table.score_low, table.score_high)]
+    labels = [band_names[band] for band in table.band]
+    adjusted = {test.test: test.adjusted_p_value for test in checks.calibration_tests}
     level = level_text(table.level)
     chart = captioned_chart(charts.calibration_chart(labels, table.observed_rate, table.jeffreys_lower, table.jeffreys_upper,
                                                      table.mean_pd, title=f"Observed and predicted bad rate by band, {name} sample"),
                             f"Observed bad rate per score band with its Jeffreys {level} interval, and the band's mean "
                             f"predicted PD; {name} sample.")
     rows = [[label, count_text(count), count_text(bads), percent_text(observed), percent_text(predicted), fixed_text(expected, 1),
-             interval_text(100 * low, 100 * high, 2) + "%", p_value_text(jeffreys), p_value_text(excess), p_value_text(two_sided)]
+             interval_text(100 * low, 100 * high, 2) + "%", p_value_text(jeffreys), p_value_text(excess), p_value_text(two_sided),
+             p_value_text(adjusted[f"band {label}"])]
             for label, count, bads, observed, predicted, expected, low, high, jeffreys, excess, two_sided in zip(
                 labels, table.count, table.bads, table.observed_rate, table.mean_pd, table.expected_bads,
                 table.jeffreys_lower, table.jeffreys_upper, table.jeffreys_p, table.binomial_p_excess,
                 table.binomial_p_two_sided)]
     bands = text_table(
         ["scores", "applications", "bads", "observed bad rate", "predicted PD", "expected bads",
-         f"Jeffreys {level} interval", "Jeffreys p", "binomial p (more bads)", "binomial p (two-sided)"],
-        rows, numeric=range(0, 10),
+         f"Jeffreys {level} interval", "Jeffreys p", "binomial p (more bads), unadjusted",
+         "binomial p (two-sided), unadjusted", "Holm-adjusted p (two-sided)"],
+        rows, numeric=range(0, 11),
         caption=f"Observed against predicted defaults per score band; {name} sample. One-sided p-values are small "
-                f"when a band has more bads than predicted."
+                f"when a band has more bads than predicted. The unadjusted p-values are each band's own; the "
+                f"Holm-adjusted one counts every test of the sample's calibration family (in the large, "
+                f"Hosmer–Lemeshow and every band's two-sided binomial test), as monitoring does, and is the one to "
+                f"judge the band by."
                 + (" Band counts were rounded to whole numbers for the binomial tests." if table.rounded_counts else ""))
     return {"name": name, "chart": chart, "bands": bands, "figures": calibration_figures(checks), "notes": list(checks.notes)}
 
@@ -744,8 +718,9 @@ def _cautions(build) -> list[str]:
         "not a judgement of the person.",
         "Check that no characteristic, and no close stand-in for one, is a ground the law forbids lending "
         "decisions to rest on where the lender operates; the tool cannot know those rules.",
-        "Many p-values are shown (per band, per sample); some will be small by chance alone. They are not "
-        "adjusted for multiplicity.",
+        "Many p-values are shown (per band, per sample); some will be small by chance alone. The calibration tests "
+        "of each sample are also shown Holm-adjusted over their family, as monitoring judges them; the others are "
+        "not adjusted for multiplicity.",
         "Indeterminate and unknown outcomes are left out of the fit and of every figure that needs an outcome; "
         "they count only in the stability checks.",
     ]

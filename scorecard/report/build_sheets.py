@@ -39,10 +39,11 @@ from openpyxl.workbook.defined_name import DefinedName
 from openpyxl.worksheet.datavalidation import DataValidation
 from openpyxl.worksheet.worksheet import Worksheet
 
-from ..checks.discrimination import band_labels
 from ..settings import settings_reference
 from ..terms import DEVELOPMENT_NAME, SAMPLE_NAMES
+from ..validation import review_flags
 from . import CAUTION
+from .page_kit import NOT_COMPUTED, degrees_of_freedom_rule
 from .sheet_kit import (
     AUC, CAPTION_ROW, COUNT, FIRST_ROW, Formula, HEADER_ROW, INPUT_FILL, P_VALUE, Placed, RATE, SAMPLE_COLOURS,
     SMALL_P_VALUE, STATISTIC, WOE, as_points, bar_chart, cell_address, count_number_format, fit_widths,
@@ -74,6 +75,10 @@ SHEET_PURPOSES = {
 
 
 EMPTY_CELL_NAME = "EmptyCellAdd"
+
+# the sheet that holds the evidence of each flag (by the report section that shows it)
+FLAG_SHEETS = {"characteristics": CLASSING, "fit": FIT, "discrimination": DISCRIMINATION, "calibration": CALIBRATION,
+               "stability": STABILITY, "data": CAUTIONS}
 
 
 def write_workbook(build, validation, path: str | os.PathLike[str]) -> Path:
@@ -377,8 +382,13 @@ def _overview_sheet(sheet: Worksheet, build, validation, counts_format: str) -> 
                                   "AUC lower": AUC, "AUC upper": AUC, "Gini": AUC, "KS": AUC, "Brier score": STATISTIC,
                                   "Hosmer–Lemeshow p-value": P_VALUE, "Score PSI against development": STATISTIC})
     row = _model_pairs(sheet, build, placed.last_row + 2)
+    flags = review_flags(build, validation)
+    found = pd.DataFrame([{"Flag": flag.kind, "What was found": flag.text, "Sheet": FLAG_SHEETS[flag.section]}
+                          for flag in flags], columns=["Flag", "What was found", "Sheet"])
+    placed = write_frame(sheet, found, row=row + 2, caption="For the reviewer: every flag this build raised"
+                                                           + ("" if flags else ": none"))
     contents = pd.DataFrame({"Sheet": list(SHEET_PURPOSES), "What it holds": list(SHEET_PURPOSES.values())})
-    write_frame(sheet, contents, row=row + 2, caption="What each sheet holds")
+    write_frame(sheet, contents, row=max(placed.last_row, placed.header_row) + 3, caption="What each sheet holds")
     sheet.freeze_panes = "A3"
     print_across(sheet)
     fit_widths(sheet, from_row=CAPTION_ROW, maximum=70)
@@ -396,9 +406,12 @@ def _headline_frame(build, validation) -> pd.DataFrame:
             "AUC": checks.auc.auc if checks else None, "AUC lower": checks.auc.lower if checks else None,
             "AUC upper": checks.auc.upper if checks else None, "Gini": checks.auc.gini if checks else None,
             "KS": checks.ks.statistic if checks else None, "Brier score": checks.brier if checks else None,
-            "Hosmer–Lemeshow p-value": checks.hosmer_lemeshow.p_value if checks else None,
+            "Hosmer–Lemeshow p-value": checks.hosmer_lemeshow.p_value if checks and checks.hosmer_lemeshow else None,
             "Score PSI against development": stability.value if stability else None,
             "PSI status": stability.status if stability else "",
+            "Not computed": "; ".join([*((f"{NOT_COMPUTED}: {validation.not_computed[sample]}",)
+                                         if sample in validation.not_computed else ()),
+                                       *(checks.notes if checks else ())]),
         })
     return pd.DataFrame(rows)
 
@@ -493,7 +506,7 @@ def _discrimination_sheet(sheet: Worksheet, validation, counts_format: str) -> N
 
 
 def _gains_frame(validation) -> pd.DataFrame:
-    labels = band_labels(validation.edges)
+    labels = validation.band_names
     parts = []
     for name, s in validation.samples.items():
         frame = s.gains.to_frame()
@@ -513,7 +526,8 @@ def _band_formats(counts_format: str) -> dict[str, str]:
     rates = ("Bad rate", "Cumulative share of all", "Cumulative share of goods", "Cumulative share of bads",
              "Share of goods", "Share of bads", "Observed bad rate", "Mean PD", "Jeffreys lower", "Jeffreys upper")
     return {**dict.fromkeys(("Count", "Goods", "Bads", "Expected bads"), counts_format), **dict.fromkeys(rates, RATE),
-            "Lift": "0.00", **dict.fromkeys(("Binomial p (two-sided)", "Binomial p (more bads)", "Jeffreys p"), P_VALUE)}
+            "Lift": "0.00", **dict.fromkeys(("Binomial p (two-sided), unadjusted", "Binomial p (more bads), unadjusted",
+                                             "Jeffreys p", "Holm-adjusted p (two-sided, the sample's family)"), P_VALUE)}
 
 
 def _sample_rows(placed: Placed, samples: Sequence[str], sample: str) -> tuple[int, int]:
@@ -554,18 +568,22 @@ def _calibration_sheet(sheet: Worksheet, validation, counts_format: str) -> None
                                    **dict.fromkeys(("Hosmer–Lemeshow", "Calibration z", "Intercept", "Slope",
                                                     "Intercept std error", "Slope std error"), STATISTIC),
                                    **dict.fromkeys(("Hosmer–Lemeshow p-value", "p (two-sided)", "p (more bads)",
-                                                    "p (intercept = 0)", "p (slope = 1)"), P_VALUE)})
-    labels = band_labels(validation.edges)
+                                                    "Smallest Holm-adjusted p", "p (intercept = 0)", "p (slope = 1)"),
+                                                   P_VALUE)})
+    labels = validation.band_names
     parts = []
     for name, s in validation.samples.items():
         frame = s.calibration.to_frame()
         frame.insert(0, "sample", name)
         frame.insert(2, "scores", [labels[band] for band in frame["band"]])
+        adjusted = {test.test: test.adjusted_p_value for test in s.calibration_tests}
+        frame["holm"] = [adjusted[f"band {labels[band]}"] for band in frame["band"]]
         parts.append(frame)
     bands_frame = pd.concat(parts, ignore_index=True)
     bands_frame.columns = ["Sample", "Band", "Scores", "Lowest score", "Highest score", "Count", "Goods", "Bads",
-                           "Observed bad rate", "Mean PD", "Expected bads", "Binomial p (two-sided)",
-                           "Binomial p (more bads)", "Jeffreys p", "Jeffreys lower", "Jeffreys upper"]
+                           "Observed bad rate", "Mean PD", "Expected bads", "Binomial p (two-sided), unadjusted",
+                           "Binomial p (more bads), unadjusted", "Jeffreys p", "Jeffreys lower", "Jeffreys upper",
+                           "Holm-adjusted p (two-sided, the sample's family)"]
     bands = write_frame(sheet, bands_frame, column=max(summary.columns.values()) + 2,
                         caption="Per score band (Jeffreys interval of the bad rate)", formats=_band_formats(counts_format))
     top = max([0.0, *bands_frame["Observed bad rate"].dropna(), *bands_frame["Mean PD"].dropna()])
@@ -591,16 +609,22 @@ def _calibration_summary(validation) -> pd.DataFrame:
     for name, s in validation.samples.items():
         hl, large, line = s.hosmer_lemeshow, s.in_the_large, s.calibration_line
         rows.append({
-            "Sample": name, "Hosmer–Lemeshow": hl.statistic, "Degrees of freedom": hl.df,
-            "Hosmer–Lemeshow p-value": hl.p_value, "Observed bad rate": large.observed_rate,
+            "Sample": name, "Hosmer–Lemeshow": hl.statistic if hl else NOT_COMPUTED,
+            "Degrees of freedom": hl.df if hl else None,
+            "Degrees of freedom, why": (degrees_of_freedom_rule(hl) if hl
+                                        else s.not_computed.get("Hosmer–Lemeshow test", "")),
+            "Hosmer–Lemeshow p-value": hl.p_value if hl else None, "Observed bad rate": large.observed_rate,
             "Expected bad rate": large.expected_rate, "Calibration z": large.z, "p (two-sided)": large.p_two_sided,
             "p (more bads)": large.p_excess,
-            "Intercept": line.intercept if line else None, "Slope": line.slope if line else None,
+            "Smallest Holm-adjusted p": min(test.adjusted_p_value for test in s.calibration_tests),
+            "Intercept": line.intercept if line else NOT_COMPUTED, "Slope": line.slope if line else NOT_COMPUTED,
             "Intercept std error": line.intercept_std_error if line else None,
             "Slope std error": line.slope_std_error if line else None,
             "p (intercept = 0)": line.intercept_p_value if line else None,
             "p (slope = 1)": line.slope_p_value if line else None, "Brier score": s.brier,
         })
+    for name, why in validation.not_computed.items():
+        rows.append({"Sample": name, "Hosmer–Lemeshow": NOT_COMPUTED, "Degrees of freedom, why": why})
     return pd.DataFrame(rows)
 
 
@@ -706,8 +730,9 @@ LIMITS = (
     "WoE, points and score bands are fixed on the development sample; every other sample is cut the same way.",
     "A bin with no goods or no bads had 0.5 added to both its counts so that its WoE stays finite (Classing, "
     "column 'Note').",
-    "The p-values assume outcomes independent of one another; the per-band tests are not adjusted for testing "
-    "many bands.",
+    "The p-values assume outcomes independent of one another. Each band's binomial p-values are shown unadjusted "
+    "and, beside them, Holm-adjusted over the sample's family of calibration tests (in the large, Hosmer–Lemeshow, "
+    "every band), as monitoring judges them.",
     "The PSI statuses ok, watch and act use thresholds of common practice, not a statistical test.",
     "The spreadsheet's ROUND rounds halves away from zero, the tool halves to even: a bin whose unrounded points end "
     "in exactly .5 would differ by one point ('Unrounded points' on Points shows it).",

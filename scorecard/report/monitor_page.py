@@ -84,13 +84,15 @@ def render_monitor(result: MonitorResult, saved: SavedModel, *, model_path: str 
         The HTML page: inline style and SVG charts, no script, no external reference.
     """
     report = saved.settings.report
+    # without dates there is nothing by quarter: the section is left out, not shown empty
+    sections = SECTIONS if result.quarters else tuple(item for item in SECTIONS if item[0] != "quarters")
     context = {
         "title": report.title,
         "kicker": "Scorecard monitoring report",
         "subtitle": _subtitle(result, saved),
         "caution": CAUTION,
         "tool_version": __version__,
-        "sections": SECTIONS,
+        "sections": sections,
         "status": _status(result),
         "stability": _stability(result),
         "discrimination": _discrimination(result, saved),
@@ -291,7 +293,7 @@ def _discrimination(result: MonitorResult, saved: SavedModel) -> dict:
     overall = result.overall
     outcomes = overall.outcomes
     if outcomes is None:
-        return {"checked": False}
+        return {"checked": False, "why": overall.not_computed.get("discrimination", "")}
     baseline = result.baseline_auc
     area, ks = outcomes.auc, outcomes.ks
     level = level_text(area.level)
@@ -349,9 +351,9 @@ def _calibration(result: MonitorResult, decimals: int) -> dict:
     overall = result.overall
     outcomes = overall.outcomes
     if outcomes is None:
-        return {"checked": False}
+        return {"checked": False, "why": overall.not_computed.get("calibration", "")}
     table = outcomes.calibration
-    labels = [span_text(low, high, decimals) for low, high in zip(table.score_low, table.score_high)]
+    labels = [result.band_names[band] for band in table.band]
     tests = overall.calibration_tests
     chart = captioned_chart(
         charts.calibration_chart(labels, table.observed_rate, table.jeffreys_lower, table.jeffreys_upper,
@@ -360,7 +362,8 @@ def _calibration(result: MonitorResult, decimals: int) -> dict:
         f"mean predicted PD; new ledger, bands fixed on development.")
     family = text_table(
         ["test", "p-value", "Holm-adjusted p"],
-        [[t.test, p_value_text(t.p_value), _adjusted_cell(t.adjusted_p_value, result.checks)] for t in tests[:2]],
+        [[t.test, p_value_text(t.p_value), _adjusted_cell(t.adjusted_p_value, result.checks)]
+         for t in tests if not t.test.startswith("band ")],
         numeric=(1, 2), caption="The whole-ledger tests of the calibration family (the band tests are in the table "
                                 "above).")
     status = next(s for s in overall.statuses if s.check == "calibration")
@@ -370,7 +373,8 @@ def _calibration(result: MonitorResult, decimals: int) -> dict:
               f"{fixed_text(large.expected_bads, 1)} predicted")
     return {"checked": True, "status": status.status, "figure": figure_text(status), "thresholds": status.thresholds,
             "detail": detail, "figures": calibration_figures(outcomes), "chart": chart,
-            "bands": _calibration_bands(table, labels, tests[2:], result.checks), "family": family,
+            "bands": _calibration_bands(table, labels, [t for t in tests if t.test.startswith("band ")], result.checks),
+            "family": family,
             "notes": list(outcomes.notes)}
 
 
@@ -408,9 +412,7 @@ def _adjusted_cell(p_value: float, checks: CheckSettings) -> Cell:
 def _quarters(result: MonitorResult, saved: SavedModel) -> dict:
     quarters = result.quarters
     if not quarters:
-        column = saved.settings.ledger.date_column
-        why = (f"the ledger has no date column {column!r}" if column else "the model's settings name no date column")
-        return {"dated": False, "why": why}
+        return {"dated": False}
     summary_rows = []
     for q in quarters:
         large = q.outcomes.in_the_large if q.outcomes is not None else None

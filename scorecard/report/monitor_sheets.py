@@ -36,6 +36,7 @@ from ..intake import Fingerprint
 from ..modelfile import SavedModel
 from ..monitor import MEANING, WHAT_TO_DO, CheckStatus, MonitorResult, PeriodMonitor, driving_checks, monitoring_limits, status_rules
 from . import CAUTION
+from .page_kit import NOT_COMPUTED
 from .sheet_kit import (
     FIRST_ROW, HEADER_ROW, NOTE_ROW, RATE, SMALL_P_VALUE, STATISTIC, WEIGHTED_COUNT, Formula, Placed, bar_chart,
     count_number_format, fit_widths, freeze_header, save_workbook, sheet_heading, text_cell, text_sections, write_frame,
@@ -56,7 +57,7 @@ STATUS_FILLS = {"ok": PatternFill("solid", fgColor="DCEBDD"), "watch": PatternFi
 
 CHARACTERISTIC_COLUMNS = ["Characteristic", "PSI", "Status", "Mean points (development)", "Mean points (new)",
                           "Points shift", "Missing share (development)", "Missing share (new)", "Rows with unseen levels"]
-NO_OUTCOMES = ("Not checked: no row of the ledger has a known outcome (good or bad), and this check compares scores "
+NO_OUTCOMES = ("Not computed: no row of the ledger has a known outcome (good or bad), and this check compares scores "
                "with outcomes. Only stability was checked.")
 
 
@@ -337,8 +338,8 @@ def _discrimination_sheet(sheet: Worksheet, result: MonitorResult, counts: str) 
         if fill is not None:
             sheet.cell(row=row, column=placed.columns["Status"]).fill = fill
     if not rows:
-        text_cell(sheet, FIRST_ROW, 1, NO_OUTCOMES if baseline is not None else
-                  "Not checked: no sample of the build had goods and bads, so there is no AUC to compare with.")
+        text_cell(sheet, FIRST_ROW, 1, _not_computed(result, "discrimination") if baseline is not None else
+                  "Not computed: no sample of the build had goods and bads, so there is no AUC to compare with.")
     freeze_header(sheet, columns=1)
     fit_widths(sheet)
 
@@ -348,7 +349,7 @@ def _calibration_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> 
                                         "fixed on development. The status comes from the smallest Holm-adjusted "
                                         "p-value of the family: in the large, Hosmer–Lemeshow and every band.")
     summary_rows = [_calibration_summary(period) for period in _periods(result) if period.outcomes is not None]
-    band_rows = [row for period in _periods(result) if period.outcomes is not None for row in _calibration_bands(period)]
+    band_rows = [row for period in _periods(result) if period.outcomes is not None for row in _calibration_bands(period, result.band_names)]
     summary_columns = ["Period", "Observed bad rate", "Predicted bad rate", "Observed bads", "Expected bads",
                        "z (in the large)", "p (in the large)", "Holm-adjusted p (in the large)", "Hosmer–Lemeshow",
                        "Degrees of freedom", "p (Hosmer–Lemeshow)", "Holm-adjusted p (Hosmer–Lemeshow)", "Brier score",
@@ -369,7 +370,7 @@ def _calibration_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> 
                                  **dict.fromkeys(("Observed bad rate", "Mean PD", "Jeffreys lower", "Jeffreys upper"), RATE),
                                  **dict.fromkeys(band_columns[9:], SMALL_P_VALUE)})
     if not summary_rows:
-        text_cell(sheet, FIRST_ROW, 1, NO_OUTCOMES)
+        text_cell(sheet, FIRST_ROW, 1, _not_computed(result, "calibration"))
     else:
         n_bands = sum(1 for row in band_rows if row["Period"] == WHOLE_LEDGER)
         last = bands.first_row + n_bands - 1
@@ -384,31 +385,36 @@ def _calibration_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> 
 
 def _calibration_summary(period: PeriodMonitor) -> dict[str, object]:
     """One period's whole-ledger calibration tests, before and after Holm's adjustment."""
-    outcomes, tests = period.outcomes, period.calibration_tests
+    outcomes = period.outcomes
+    tests = {test.test: test for test in period.calibration_tests}
     large, hl = outcomes.in_the_large, outcomes.hosmer_lemeshow
+    hl_test = tests.get("Hosmer-Lemeshow")
     return {
         "Period": _period_name(period), "Observed bad rate": large.observed_rate,
         "Predicted bad rate": large.expected_rate, "Observed bads": large.observed_bads,
-        "Expected bads": large.expected_bads, "z (in the large)": large.z, "p (in the large)": tests[0].p_value,
-        "Holm-adjusted p (in the large)": tests[0].adjusted_p_value, "Hosmer–Lemeshow": hl.statistic,
-        "Degrees of freedom": hl.df, "p (Hosmer–Lemeshow)": tests[1].p_value,
-        "Holm-adjusted p (Hosmer–Lemeshow)": tests[1].adjusted_p_value, "Brier score": outcomes.brier,
-        "Smallest Holm-adjusted p": min(t.adjusted_p_value for t in tests),
+        "Expected bads": large.expected_bads, "z (in the large)": large.z,
+        "p (in the large)": tests["calibration in the large"].p_value,
+        "Holm-adjusted p (in the large)": tests["calibration in the large"].adjusted_p_value,
+        "Hosmer–Lemeshow": hl.statistic if hl else NOT_COMPUTED, "Degrees of freedom": hl.df if hl else None,
+        "p (Hosmer–Lemeshow)": hl_test.p_value if hl_test else None,
+        "Holm-adjusted p (Hosmer–Lemeshow)": hl_test.adjusted_p_value if hl_test else None, "Brier score": outcomes.brier,
+        "Smallest Holm-adjusted p": min(t.adjusted_p_value for t in period.calibration_tests),
         "Status": _status_of(period, "calibration").status,
     }
 
 
-def _calibration_bands(period: PeriodMonitor) -> list[dict[str, object]]:
-    """One period's score bands; the family lists the two whole-ledger tests first, then the bands in order."""
+def _calibration_bands(period: PeriodMonitor, names) -> list[dict[str, object]]:
+    """One period's score bands, named by the scores each can hold, with each band's test of the family."""
     frame = period.outcomes.calibration.to_frame()
+    tests = {test.test: test for test in period.calibration_tests}
     return [{
-        "Period": _period_name(period), "Scores": f"{band.score_low:g} to {band.score_high:g}",
+        "Period": _period_name(period), "Scores": names[band.band],
         "Count": band.count, "Bads": band.bads, "Observed bad rate": band.observed_rate, "Mean PD": band.mean_pd,
         "Expected bads": band.expected_bads, "Jeffreys lower": band.jeffreys_lower,
         "Jeffreys upper": band.jeffreys_upper, "Jeffreys p (more bads)": band.jeffreys_p,
         "Binomial p (two-sided)": band.binomial_p_two_sided, "Binomial p (more bads)": band.binomial_p_excess,
-        "Holm-adjusted p": test.adjusted_p_value,
-    } for band, test in zip(frame.itertuples(index=False), period.calibration_tests[2:])]
+        "Holm-adjusted p": tests[f"band {names[band.band]}"].adjusted_p_value,
+    } for band in frame.itertuples(index=False)]
 
 
 def _quarters_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> None:
@@ -459,6 +465,12 @@ def _cautions_sheet(sheet: Worksheet, result: MonitorResult) -> None:
     text_sections(sheet, [("Caution", [CAUTION]), ("How statuses are set", rules), ("What to do", todo),
                           ("Limits of these checks", monitoring_limits(result)),
                           ("Notes of this run", list(result.notes) or ["none"])], first_row=NOTE_ROW + 2)
+
+
+def _not_computed(result: MonitorResult, check: str) -> str:
+    """Why a check has no figures: the whole ledger's reason, or that no row has a known outcome."""
+    why = result.overall.not_computed.get(check)
+    return f"Not computed: {why}." if why else NO_OUTCOMES
 
 
 def _periods(result: MonitorResult) -> list[PeriodMonitor]:

@@ -21,6 +21,7 @@ from .. import __version__
 
 DASH = "—"
 ADJUSTED_MARK = "†"
+NOT_COMPUTED = "not computed"
 
 
 @functools.cache
@@ -159,10 +160,9 @@ def psi_table(result, sample: str, label: str) -> Table:
 
 def calibration_figures(checks) -> list[Figure]:
     """Return the Hosmer–Lemeshow, calibration-in-the-large, intercept, slope and Brier figures of a sample."""
-    test = checks.hosmer_lemeshow
     large = checks.in_the_large
     figures = [
-        Figure("Hosmer–Lemeshow", fixed_text(test.statistic, 2), f"df {test.df}, p-value {p_value_text(test.p_value)}"),
+        hosmer_lemeshow_figure(checks),
         Figure("Overall bad rate, observed", percent_text(large.observed_rate),
                f"predicted {percent_text(large.expected_rate)}, z {fixed_text(large.z, 2)}, p-value {p_value_text(large.p_two_sided)}"),
     ]
@@ -176,6 +176,22 @@ def calibration_figures(checks) -> list[Figure]:
         ]
     figures.append(Figure("Brier score", fixed_text(checks.brier, 4), "mean squared error of the PD"))
     return figures
+
+
+def hosmer_lemeshow_figure(checks) -> Figure:
+    """The Hosmer–Lemeshow statistic with its degrees of freedom and why they are what they are, or why it is missing."""
+    test = checks.hosmer_lemeshow
+    if test is None:
+        return Figure("Hosmer–Lemeshow", NOT_COMPUTED, checks.not_computed.get("Hosmer–Lemeshow test", ""))
+    return Figure("Hosmer–Lemeshow", fixed_text(test.statistic, 2),
+                  f"df {test.df} ({degrees_of_freedom_rule(test)}), p-value {p_value_text(test.p_value)}")
+
+
+def degrees_of_freedom_rule(test) -> str:
+    """Why a Hosmer–Lemeshow test has the degrees of freedom it has (in-sample g − 2, else g bands)."""
+    if test.in_sample:
+        return f"{test.n_bands} bands − 2: the model was fitted on this sample"
+    return f"{test.n_bands} bands: the model was not fitted on this sample"
 
 
 def library_versions() -> list[tuple[str, str]]:

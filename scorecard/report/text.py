@@ -72,7 +72,8 @@ def monitor_summary(result, *, model: Path) -> str:
         lead = f"ok on the other {len(calm)} checks" if raised else f"ok on all {len(calm)} checks"
         lines.append(f"  {lead}: {', '.join(calm[:4])}{', ...' if len(calm) > 4 else ''}")
     if overall.outcomes is None:
-        lines += ["", "stability only: no row has a known outcome, so discrimination and calibration are not checked"]
+        why = overall.not_computed.get("calibration", "no row has a known outcome")
+        lines += ["", f"stability only: {why}; discrimination and calibration are not computed"]
     if result.quarters:
         lines += ["", "per quarter: " + ", ".join(f"{q.period} {q.status}" for q in result.quarters)]
     return "\n".join(lines)

@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from ..terms import ACT_P, ACT_PSI, BAD_RATE_SHAPES, FROM_DATA, LEAKAGE_IV, WATCH_P, WATCH_PSI
+from ..terms import ACT_P, ACT_PSI, BAD_RATE_SHAPES, COEFFICIENT_RANGE, FROM_DATA, GINI_DROP, LEAKAGE_IV, WATCH_P, WATCH_PSI
 from .text import toml_value
 
 
@@ -222,6 +222,14 @@ class CheckSettings:
     p_watch: float = _key(WATCH_P, "test p-value below which a check is 'watch'", lambda v: 0 < v < 1, "a p-value in (0, 1)")
     p_act: float = _key(ACT_P, "test p-value below which a check is 'act'", lambda v: 0 < v < 1, "a p-value in (0, 1)")
     cutoff_step: float = _key(0.0, "step between candidate cut-off scores (0: every score that occurs)", lambda v: v >= 0, "a number >= 0")
+    gini_drop: float = _key(
+        GINI_DROP, "a relative fall of the Gini from development to hold-out or out-of-time above this is flagged for "
+        "over-fitting (common practice)", lambda v: 0 < v < 1, "a share between 0 and 1",
+    )
+    coefficient_range: tuple[float, ...] = _key(
+        COEFFICIENT_RANGE, "coefficients of the WoE-coded characteristics outside this range are flagged: collinearity "
+        "or over-fitting (common practice)", lambda v: len(v) == 2 and 0 <= v[0] < v[1], "two numbers, low then high, e.g. [0.5, 1.5]",
+    )
 
 
 @dataclass(frozen=True)
