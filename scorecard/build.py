@@ -210,10 +210,14 @@ def _points(selection: SelectionResult, classed: ClassedLedger, settings: Settin
 
 
 def _resolved_settings(settings: Settings, classed: ClassedLedger) -> Settings:
-    """Return the settings with every characteristic's classing written out."""
+    """Return the settings with every characteristic's classing written out, and the tool's proposal recorded beside it.
+
+    A build from these settings reproduces this one: the classings, and who made each, with the
+    notes and the bad-rate shape the tool's proposals were found with.
+    """
     characteristics = dict(settings.characteristics)
     for char in classed.characteristics:
         spec = settings.characteristic(char.name)
         characteristics[char.name] = replace(spec, kind=char.binning.kind, use=spec.use or "auto",
-                                             **classing_settings_values(char.binning))
+                                             **classing_settings_values(char.binning), proposal=char.proposal)
     return replace(settings, characteristics=characteristics)

@@ -177,7 +177,7 @@ def _proposals(ledger, classed: ClassedLedger, settings: Settings):
         values = classing_settings_values(char.binning)
         characteristics[char.name] = replace(
             spec, kind=char.binning.kind, use=spec.use or "auto",
-            special_values=ledger.characteristic(char.name).special_values, **values,
+            special_values=ledger.characteristic(char.name).special_values, **values, proposal=char.proposal,
         )
         evidence = char.evidence
         comment = f"IV {evidence.iv:.4f} ({evidence.strength}) on the development sample; {char.binning.n_bins} bins"

@@ -114,6 +114,9 @@ def model_document(build) -> dict[str, Any]:
                 "log_likelihood": fit.log_likelihood, "deviance": fit.deviance, "aic": fit.aic, "bic": fit.bic,
                 "n_observations": fit.n_observations, "l2": fit.l2, "cost_trace": list(fit.cost_trace)},
         "selection_log": [dataclasses.asdict(d) for d in build.selection.log],
+        # the override log: who classed each characteristic, and the IV of the tool's proposal it departs from
+        "classing": [{"characteristic": c.name, "classed_by": c.origin, "iv": c.evidence.iv, "proposal_iv": c.proposal_iv}
+                     for c in build.characteristics],
         "performance": build.performance(),
         "baseline": {"score_histograms": {sample: h.to_dict() for sample, h in build.histograms.items()}},
         "notes": list(build.notes),

@@ -323,6 +323,20 @@ def test_categorical_levels_are_classed_in_bad_rate_order():
     assert bad_rates == sorted(bad_rates, reverse=True)  # worst first: WoE ascends along the chain
 
 
+def test_levels_pooled_as_rare_are_named_in_a_note_with_the_class_they_went_to():
+    rng = np.random.default_rng(8)
+    values = pd.Series(rng.choice(["a", "b", "c", "d", "e"], size=6000, p=[0.5, 0.45, 0.03, 0.012, 0.008]))
+    bad = rng.random(6000) < np.where(values == "a", 0.05, 0.2)
+    fine = fine_classing(values, np.ones(6000), name="district", kind=CATEGORICAL, rare_level_share=0.02)
+    assert fine.labels[-1] == "rare levels (2)"
+    goods, bads = _fine_counts(fine, values, bad)
+    result = coarse_classing(fine, goods, bads, min_class_share=0.01, min_goods=1, min_bads=1)
+    home = next(i for i, levels in enumerate(result.binning.classes) if "d" in levels)
+    assert f"'district': 2 levels too rare to class on their own (d, e; each under classing.rare_level_share of " \
+           f"the development rows) were pooled into one bin; they are in class {home + 1} ({result.binning.labels[home]})." \
+        in result.notes
+
+
 # ---------------------------------------------------------------------------------------------
 # Overrides
 

@@ -13,6 +13,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
+import pages  # tests/pages.py: reading the reports
 from scorecard.cli import main
 from scorecard.intake import prepare_ledger
 from scorecard.modelfile import load_model
@@ -144,3 +145,73 @@ def test_scoring_counts_unseen_levels(credit_run, tmp_path):
     code, _, err = _run("score", str(folder / "run1" / "model.json"), str(tmp_path / "new.csv"), "--out", str(tmp_path / "s.csv"))
     assert code == 0
     assert "levels never seen at build time: 'boat' (5 rows)" in err
+
+
+def _document(path):
+    return json.loads(path.read_text(encoding="utf-8"))
+
+
+def test_after_init_then_build_the_tool_proposed_every_classing_and_its_notes_travel(credit_run, tmp_path):
+    # the merges init made (small missing bins joined to a class) were once written only as 'missing = 1':
+    # the settings path then said "nothing was repaired"; they travel settings -> model.json -> report -> workbook
+    import openpyxl
+
+    folder, _ = credit_run
+    document = _document(folder / "run1" / "model.json")
+    assert {entry["classed_by"] for entry in document["classing"]} == {"proposed"}
+    code, _, err = _run("build", str(folder / "credit.csv"), "--target", "Status", "--bad", "bad",
+                        "--out", str(tmp_path / "quick"), "--quiet")
+    assert code == 0, err
+    quick = _document(tmp_path / "quick" / "model.json")
+    merges = [note for note in quick["notes"] if "too small to stand alone" in note]
+    assert merges and document["notes"] == quick["notes"]  # the same notes on both paths
+    settings = (folder / "scorecard.toml").read_text(encoding="utf-8")
+    assert all(json.dumps(note, ensure_ascii=False) in settings for note in merges)  # as init wrote them
+    report = pages.Page((folder / "run1" / "report.html").read_text(encoding="utf-8"))
+    assert all(note in report.text for note in merges)
+    assert "nothing was repaired" not in report.section("data")
+    log = report.table("characteristic", "classing", "IV", "IV of the tool's proposal")
+    assert {row[1] for row in log} == {"proposed by the tool"}
+    cautions = [row[0] for row in openpyxl.load_workbook(folder / "run1" / "workbook.xlsx")["Cautions"].iter_rows(values_only=True)]
+    assert all(note in cautions for note in merges)
+
+
+def test_a_changed_classing_is_logged_with_the_iv_it_cost_and_a_written_one_as_written(credit_run, tmp_path):
+    folder, _ = credit_run
+    settings = tmp_path / "scorecard.toml"
+    settings.write_text((folder / "scorecard.toml").read_text(encoding="utf-8").replace(
+        'path = "credit.csv"', f'path = {json.dumps(str(folder / "credit.csv"))}'), encoding="utf-8")
+    code, _, err = _run("set", str(settings), "characteristics.Seniority.cuts=[2, 6, 12]",
+                        'characteristics.Seniority.note="two cuts fewer: easier to explain"')
+    assert code == 0, err
+    text = settings.read_text(encoding="utf-8")
+    start = text.index("[characteristics.Amount.proposal]")
+    settings.write_text(text[:start] + text[text.index("\n[", start + 1) + 1:], encoding="utf-8")  # no proposal on record
+    code, _, err = _run("build", str(settings), "--out", str(tmp_path / "run"), "--quiet")
+    assert code == 0, err
+    classing = {entry["characteristic"]: entry for entry in _document(tmp_path / "run" / "model.json")["classing"]}
+    before = {entry["characteristic"]: entry for entry in _document(folder / "run1" / "model.json")["classing"]}
+    changed = classing["Seniority"]
+    assert changed["classed_by"] == "changed"
+    # the IV of the tool's proposal on this development sample is the IV the proposal had in the first build
+    assert changed["proposal_iv"] == pytest.approx(before["Seniority"]["iv"], rel=1e-12)
+    assert changed["iv"] < changed["proposal_iv"]  # fewer classes of the same bins: information is lost
+    assert classing["Amount"]["classed_by"] == "written" and classing["Amount"]["proposal_iv"] is None
+    assert {entry["classed_by"] for name, entry in classing.items() if name not in ("Seniority", "Amount")} == {"proposed"}
+    log = pages.Page((tmp_path / "run" / "report.html").read_text(encoding="utf-8")).table(
+        "characteristic", "classing", "IV", "IV of the tool's proposal", "change in IV", "the analyst's note")
+    row = next(row for row in log if row[0] == "Seniority")
+    assert row[1:] == ["changed by the analyst", f"{changed['iv']:.4f}", f"{changed['proposal_iv']:.4f}",
+                       f"{changed['iv'] - changed['proposal_iv']:.4f}", "two cuts fewer: easier to explain"]
+    assert next(row for row in log if row[0] == "Amount")[1] == "written by the analyst"
+
+
+def test_a_rebuild_from_the_quick_paths_settings_gives_a_byte_identical_model_file(credit_run, tmp_path):
+    folder, _ = credit_run
+    code, _, err = _run("build", str(folder / "credit.csv"), "--target", "Status", "--bad", "bad",
+                        "--out", str(tmp_path / "quick1"), "--quiet")
+    assert code == 0, err
+    code, _, err = _run("build", str(tmp_path / "quick1" / "settings.toml"), "--out", str(tmp_path / "quick2"), "--quiet")
+    assert code == 0, err
+    # every field: the classings and their bad-rate shapes, who classed them, the notes, the figures
+    assert (tmp_path / "quick1" / "model.json").read_bytes() == (tmp_path / "quick2" / "model.json").read_bytes()

@@ -27,7 +27,7 @@ from ..terms import (
     ANY, CATEGORICAL, EMPTY_CELL, FALLS, FALLS_THEN_RISES, FROM_DATA, NUMERIC, ONE_WAY_SHAPES, RISES, RISES_THEN_FALLS,
     SINGLE_BEND_SHAPES, shape_words,
 )
-from .bins import MISSING_LABEL, Binning, categorical_binning, format_number, numeric_binning
+from .bins import MISSING_LABEL, RARE_LABEL, Binning, categorical_binning, format_number, numeric_binning
 
 
 @dataclass(frozen=True)
@@ -265,6 +265,7 @@ def _finished(fine: Binning, chain: np.ndarray, starts: Sequence[int], shape: st
     fine_to_coarse[chain] = np.searchsorted(np.asarray(starts), np.arange(len(chain)), side="right") - 1
     binning = _place_own_bins(fine, _coarse_binning(fine, chain, starts, shape), fine_to_coarse, goods, bads, n_goods,
                               n_bads, total_goods, total_bads, min_special_share, min_goods, min_bads, notes)
+    notes += _pooled_note(fine, binning, fine_to_coarse)
     coarse_goods = np.bincount(fine_to_coarse, weights=goods, minlength=binning.n_bins)
     coarse_bads = np.bincount(fine_to_coarse, weights=bads, minlength=binning.n_bins)
     binning = replace(binning, unseen_bin=worst_bin(coarse_goods, coarse_bads))
@@ -351,6 +352,21 @@ def _chosen_shape(ivs: dict[str, float], bend_min_gain: float, name: str) -> tup
         f"{name!r}: {shape_words(bend)}; the bend gives IV {ivs[bend]:.4f} against {ivs[one_way]:.4f} one way "
         f"({shape_words(one_way)}), more than bend_min_gain = {bend_min_gain:g} above it, so from-data takes it."
     ]
+
+
+def _pooled_note(fine: Binning, coarse: Binning, fine_to_coarse: np.ndarray) -> list[str]:
+    """Say which rare levels fine classing pooled into one bin before the classes were chosen, and where they went."""
+    pooled = [i for i, label in enumerate(fine.labels[: fine.n_chain]) if label.startswith(RARE_LABEL)]
+    if not pooled:
+        return []
+    levels = fine.classes[pooled[0]]
+    shown = ", ".join(levels[:5]) + (f" and {len(levels) - 5} more" if len(levels) > 5 else "")
+    target = int(fine_to_coarse[pooled[0]])
+    many = len(levels) > 1
+    return [f"{fine.characteristic!r}: {len(levels)} level{'s' if many else ''} too rare to class on {'their' if many else 'its'} "
+            f"own ({shown}; {'each ' if many else ''}under classing.rare_level_share of the development rows) "
+            f"{'were pooled into one bin; they are' if many else 'got a bin of its own for rare levels; it is'} in class "
+            f"{target + 1} ({coarse.labels[target]})."]
 
 
 def _chain_order(fine: Binning, goods, bads, total_goods, total_bads) -> np.ndarray:

@@ -17,6 +17,7 @@ import numpy as np
 from ..errors import ClassingError
 from ..evidence import woe_values
 from ..rows import UNSEEN_LABEL, BinCounts
+from ..settings import ProposalSettings
 from ..terms import ANY, CATEGORICAL, NUMERIC, shape_words
 from .best import keeps_shape, worst_bin
 from .bins import Binning, categorical_binning, numeric_binning
@@ -103,6 +104,11 @@ def classing_settings_values(binning: Binning) -> dict[str, object]:
     if any(0 <= b < n_chain for b in binning.special_bins):
         values["specials"] = tuple(b + 1 if 0 <= b < n_chain else "own" for b in binning.special_bins)
     return values
+
+
+def proposal_of(binning: Binning, notes: Sequence[str] = ()) -> ProposalSettings:
+    """Return the record of a classing the tool proposed: its settings keys, the shape it was found with, its notes."""
+    return ProposalSettings(**classing_settings_values(binning), bad_rate_shape=binning.bad_rate_shape, notes=tuple(notes))
 
 
 def check_constraints(binning: Binning, goods: np.ndarray, bads: np.ndarray, *, n_goods: np.ndarray | None = None,

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import warnings
 from collections.abc import Callable, Iterable, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -19,26 +19,47 @@ from ..errors import ScorecardWarning
 from ..evidence import EvidenceTable, evidence_table
 from ..intake import Characteristic, Ledger, rows_in_memory
 from ..rows import BinCounts, InProcessRows, KeptCodes
-from ..settings import Settings
+from ..settings import CharacteristicSettings, ProposalSettings, Settings
 from ..terms import LEAKAGE_IV, SAMPLE_NAMES
 from .best import Merging, coarse_classing
 from .bins import Binning
 from .fine import fine_classing
 from .overrides import (
-    binning_from_settings, check_constraints, code_mapping, development_counts, resolve_unseen, without_empty_bins,
+    binning_from_settings, check_constraints, code_mapping, development_counts, proposal_of, resolve_unseen,
+    without_empty_bins,
 )
+
+
+# Who classed a characteristic: the tool (its proposal, made now or kept as the settings record it), the
+# analyst changing the tool's recorded proposal, or the analyst with no proposal on record.
+PROPOSED, CHANGED, WRITTEN = "proposed", "changed", "written"
 
 
 @dataclass(frozen=True)
 class ClassedCharacteristic:
-    """One characteristic after classing: its bins, counts per sample, and development WoE."""
+    """One characteristic after classing: its bins, counts per sample, and development WoE.
+
+    Attributes
+    ----------
+    origin : str
+        Who classed it: 'proposed' (the tool's proposal, made now or kept unchanged from the
+        settings' record of it), 'changed' (the analyst changed the recorded proposal) or 'written'
+        (the analyst wrote the classing, with no proposal on record).
+    proposal : ProposalSettings or None
+        The tool's proposal, as the settings record it (None for a classing the analyst wrote).
+    proposal_iv : float or None
+        For a changed classing, the information value the tool's proposal has on this development
+        sample: the change cost or gained ``evidence.iv − proposal_iv``.
+    """
 
     binning: Binning
     counts: BinCounts
     evidence: EvidenceTable
-    origin: str  # "settings" (fixed by the analyst) or "proposed" (the best classing)
+    origin: str
     notes: tuple[str, ...]
     merging: Merging | None = None  # what merging neighbours that do not differ did (proposed classings only)
+    proposal: ProposalSettings | None = None
+    proposal_iv: float | None = None
 
     @property
     def name(self) -> str:
@@ -123,22 +144,50 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
     counts, codes, unseen = rows.count_bins(binnings, keep_codes=keep_codes, progress=progress)
     classed, columns, notes = [], [], []
     for char in characteristics:
-        origin = "settings" if char.name not in fine else "proposed"
+        origin = PROPOSED if char.name in fine else _origin(settings.characteristic(char.name))
         result, mapping = _finish(binnings[char.name], counts[char.name], unseen.get(char.name, {}), origin, settings,
-                                  notes=coarse_notes.get(char.name, ()), merging=mergings.get(char.name))
+                                  notes=coarse_notes.get(char.name, ()), merging=mergings.get(char.name),
+                                  fixed=char.name not in fine)
         classed.append(result)
         notes.extend(result.notes)
         if keep_codes:
             columns.append(mapping.astype(codes[char.name].dtype)[codes[char.name]])
+    classed = _with_proposal_iv(classed, ledger, settings, rows, progress)
     n_rows = len(rows.outcome)
     matrix = np.column_stack(columns) if columns else np.zeros((n_rows if keep_codes else 0, 0), dtype=np.uint8)
-    routine = {note for routine_notes in coarse_notes.values() for note in routine_notes}
+    routine = {note for c in classed if c.origin == PROPOSED for note in c.proposal.notes}
     for note in notes:
         # what the proposal did by its own rules (a small missing bin merged) goes to the report's
         # notes only; a warning is for what the analyst should act on
         if note not in routine:
             warnings.warn(note, ScorecardWarning, stacklevel=3)
     return ClassedLedger(tuple(classed), matrix, tuple(notes))
+
+
+def _origin(spec: CharacteristicSettings) -> str:
+    """Who classed a characteristic the settings fix: the tool (its recorded proposal kept), or the analyst."""
+    if spec.proposal is None:
+        return WRITTEN
+    return PROPOSED if spec.classing() == spec.proposal.classing() else CHANGED
+
+
+def _with_proposal_iv(classed: list[ClassedCharacteristic], ledger: Ledger, settings: Settings, rows: InProcessRows,
+                      progress) -> list[ClassedCharacteristic]:
+    """Add, to each classing the analyst changed, the IV the tool's recorded proposal has on this development sample.
+
+    The proposals are counted in one more pass over the rows, of those characteristics only.
+    """
+    changed = {c.name: c for c in classed if c.origin == CHANGED}
+    if not changed:
+        return classed
+    provisional = {name: _provisional(ledger.characteristic(name), settings, classing=c.proposal)
+                   for name, c in changed.items()}
+    counts, _, unseen = rows.count_bins(provisional, keep_codes=False, progress=progress)
+    ivs = {}
+    for name, binning in provisional.items():
+        proposal, _ = _finish(binning, counts[name], unseen.get(name, {}), WRITTEN, settings, fixed=True)
+        ivs[name] = proposal.evidence.iv
+    return [replace(c, proposal_iv=ivs[c.name]) if c.name in ivs else c for c in classed]
 
 
 def _is_fixed(settings: Settings, name: str) -> bool:
@@ -170,35 +219,49 @@ def _coarse(fine: Binning, counts: BinCounts, settings: Settings) -> tuple[Binni
     return binning, coarse.notes, coarse.merging
 
 
-def _provisional(char: Characteristic, settings: Settings) -> Binning:
-    """The settings' classing with own bins for every special value and for missing values."""
+def _provisional(char: Characteristic, settings: Settings, *, classing: ProposalSettings | None = None) -> Binning:
+    """The settings' classing (or the recorded proposal's) with own bins for every special value and for missing values.
+
+    A classing the tool proposed keeps the bad-rate shape it was found with.
+    """
     spec = settings.characteristic(char.name)
+    keys = classing or spec
+    shape = keys.bad_rate_shape if classing is not None else spec.bad_rate_shape
+    if classing is None and spec.proposal is not None and _origin(spec) == PROPOSED:
+        shape = spec.proposal.bad_rate_shape or shape
     return binning_from_settings(
-        char.name, char.kind, cuts=spec.cuts, classes=spec.classes, special_values=char.special_values,
-        specials=spec.specials, missing=spec.missing, present_specials=char.special_values, has_missing=True,
-        bad_rate_shape=spec.bad_rate_shape or settings.classing.bad_rate_shape,
+        char.name, char.kind, cuts=keys.cuts, classes=keys.classes, special_values=char.special_values,
+        specials=keys.specials, missing=keys.missing, present_specials=char.special_values, has_missing=True,
+        bad_rate_shape=shape or settings.classing.bad_rate_shape,
     )
 
 
 def _finish(binning: Binning, counts: BinCounts, unseen: Mapping[str, int], origin: str, settings: Settings, *,
-            notes: Sequence[str] = (), merging: Merging | None = None):
-    """Complete a binning from its counts; return the classed characteristic and the code mapping."""
+            notes: Sequence[str] = (), merging: Merging | None = None, fixed: bool):
+    """Complete a binning from its counts; return the classed characteristic and the code mapping.
+
+    A classing fixed in the settings loses the own bins nothing fell in, gets its unseen bin, and is
+    checked against the limits; one the tool proposed now is used as it is. The notes of a proposal
+    kept from the settings are the ones it was recorded with.
+    """
     spec = settings.characteristic(binning.characteristic)
     notes = list(notes)
-    if origin == "settings":
+    if fixed:
         final = without_empty_bins(binning, counts)
         final = resolve_unseen(final, *development_counts(counts, binning, final), spec.unseen)
+        if origin == PROPOSED:
+            notes += spec.proposal.notes
     else:
         final = binning
     mapping = code_mapping(binning, final)
     final_counts = counts.regroup(mapping, final.labels)
-    if unseen and origin == "settings":
+    if unseen and fixed:
         shown = ", ".join(f"{level!r} ({n} rows)" for level, n in list(unseen.items())[:5])
         notes.append(
             f"{binning.characteristic!r}: levels {shown} are in no class of the settings; they go to class "
             f"{final.unseen_bin + 1} ({final.labels[final.unseen_bin]}). Add them to a class to decide yourself."
         )
-    if origin == "settings":
+    if fixed:
         classing = settings.classing
         broken = check_constraints(
             final, final_counts.goods(), final_counts.bads(), n_goods=final_counts.n_goods(), n_bads=final_counts.n_bads(),
@@ -207,11 +270,12 @@ def _finish(binning: Binning, counts: BinCounts, unseen: Mapping[str, int], orig
         )
         notes += [f"the classing written in the settings breaks a constraint on this development sample: {problem}. "
                   "Change its cuts or classes, or remove them for a new proposal." for problem in broken]
-    return _classed(final, final_counts, origin, tuple(notes), settings, merging), mapping
+    proposal = spec.proposal if fixed else proposal_of(final, notes)
+    return _classed(final, final_counts, origin, tuple(notes), settings, merging, proposal), mapping
 
 
 def _classed(binning: Binning, counts: BinCounts, origin: str, notes, settings: Settings,
-             merging: Merging | None = None) -> ClassedCharacteristic:
+             merging: Merging | None, proposal: ProposalSettings | None) -> ClassedCharacteristic:
     evidence = evidence_table(
         counts.goods(), counts.bads(), labels=binning.labels, characteristic=binning.characteristic,
         n_goods=counts.n_goods(), n_bads=counts.n_bads(), leakage_iv=settings.selection.leakage_iv,
@@ -223,4 +287,4 @@ def _classed(binning: Binning, counts: BinCounts, origin: str, notes, settings: 
             f"{binning.characteristic!r}: bins {', '.join(map(repr, adjusted))} have no goods or no bads in development; "
             "0.5 was added to both counts to keep their WoE finite. Join them to a neighbouring class to avoid this."
         )
-    return ClassedCharacteristic(binning, counts, evidence, origin, tuple(notes), merging)
+    return ClassedCharacteristic(binning, counts, evidence, origin, tuple(notes), merging, proposal)

@@ -25,7 +25,7 @@ from ..terms import ACT_PSI, DEVELOPMENT_NAME, NUMERIC, WATCH_PSI, most_honest, 
 from ..validation import review_flags
 from . import CAUTION, charts
 from .page_kit import (
-    ADJUSTED_MARK, DASH, NOT_COMPUTED, Cell, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text,
+    ADJUSTED_MARK, DASH, NOT_COMPUTED, Cell, classed_by, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text,
     interval_text, level_text, library_versions, p_value_text, percent_text, psi_table, score_text, signed_text,
     span_text, status_cell, text_table,
 )
@@ -277,7 +277,8 @@ def _characteristics(build) -> dict:
         ["characteristic", "in the model", "IV", "strength", "bins", "classing", "leakage flag"],
         [[Cell(Markup('<a href="#{}">{}</a>').format(_anchor(position), c.name)),
           "yes" if c.name in model else "no", fixed_text(c.evidence.iv, 4), c.evidence.strength,
-          str(c.binning.n_bins), _origin(c.origin), _flag("IV above threshold") if c.evidence.leakage_flag else ""]
+          str(c.binning.n_bins), classed_by(c).split(" (")[0],
+          _flag("IV above threshold") if c.evidence.leakage_flag else ""]
          for position, c in enumerate(ordered)],
         numeric=(2, 4),
         caption="Every characteristic classed, model ones first (in model order), then the others by IV. "
@@ -285,8 +286,9 @@ def _characteristics(build) -> dict:
     )
     views = [_characteristic_view(c, position, "" if c.name in model else _why_left_out(c.name, build.selection.log))
              for position, c in enumerate(ordered)]
-    return {"overview": overview, "model": views[:len(model)], "others": views[len(model):],
-            "leakage_iv": f"{build.settings.selection.leakage_iv:g}", "classing": _classing_rules(build.settings.classing),
+    return {"overview": overview, "log": _classing_log(build, ordered), "model": views[:len(model)],
+            "others": views[len(model):], "leakage_iv": f"{build.settings.selection.leakage_iv:g}",
+            "classing": _classing_rules(build.settings.classing),
             "merged": _merged_table([c for c in ordered if c.merging is not None])}
 
 
@@ -316,6 +318,21 @@ def _merged_table(merged) -> Table | None:
     )
 
 
+def _classing_log(build, ordered) -> Table:
+    """Who classed each characteristic, and what a change to the tool's proposal cost or gained in IV."""
+    rows = []
+    for c in ordered:
+        change = c.evidence.iv - c.proposal_iv if c.proposal_iv is not None else None
+        rows.append([c.name, classed_by(c).split(" (")[0], fixed_text(c.evidence.iv, 4),
+                     fixed_text(c.proposal_iv, 4) if c.proposal_iv is not None else "",
+                     signed_text(change, 4) if change is not None else "", build.settings.characteristic(c.name).note])
+    return text_table(["characteristic", "classing", "IV", "IV of the tool's proposal", "change in IV", "the analyst's note"],
+                      rows, numeric=(2, 3, 4),
+                      caption="The override log: whether the tool proposed each classing (init records its proposal "
+                              "in the settings file), the analyst changed it, or the analyst wrote it; a change shows "
+                              "what it cost or gained in IV against the proposal. Development sample.")
+
+
 def _why_left_out(name: str, log) -> str:
     """The last decision that kept a characteristic out of the model, in words."""
     decisions = [d for d in log if d.characteristic == name and d.action in ("left out", "removed")]
@@ -331,7 +348,7 @@ def _characteristic_view(classed, position: int, why: str) -> dict:
         "anchor": _anchor(position),
         "iv": fixed_text(evidence.iv, 4),
         "strength": evidence.strength,
-        "origin": _origin(classed.origin),
+        "origin": classed_by(classed),
         "shape": shape_words(classed.binning.bad_rate_shape) if classed.binning.kind == NUMERIC else "",
         "leakage": evidence.leakage_flag,
         "table": _evidence_table(evidence),
@@ -362,10 +379,6 @@ def _evidence_table(evidence) -> Table:
     return text_table(["bin", "goods", "bads", "bad rate", "share", "WoE", "IV contribution"], rows,
                       numeric=range(1, 7), row_css=[""] * (len(rows) - 1) + ["total"],
                       caption=f"{evidence.sample.capitalize()} sample. Share: the bin's part of all goods and bads.")
-
-
-def _origin(origin: str) -> str:
-    return "fixed in the settings" if origin == "settings" else "proposed by the tool"
 
 
 def _anchor(position: int) -> str:

@@ -43,7 +43,7 @@ from ..settings import settings_reference
 from ..terms import DEVELOPMENT_NAME, SAMPLE_NAMES
 from ..validation import review_flags
 from . import CAUTION
-from .page_kit import NOT_COMPUTED, degrees_of_freedom_rule
+from .page_kit import NOT_COMPUTED, classed_by, degrees_of_freedom_rule
 from .sheet_kit import (
     AUC, CAPTION_ROW, COUNT, FIRST_ROW, Formula, HEADER_ROW, INPUT_FILL, P_VALUE, Placed, RATE, SAMPLE_COLOURS,
     SMALL_P_VALUE, STATISTIC, WOE, as_points, bar_chart, cell_address, count_number_format, fit_widths,
@@ -467,8 +467,16 @@ def _selection_sheet(sheet: Worksheet, build) -> None:
     matrix = write_frame(sheet, correlations, column=column, caption="Correlations of the WoE columns",
                          formats={str(name): "0.000" for name in selection.correlations.columns})
     vif = pd.DataFrame({"Characteristic": list(selection.vif), "VIF": list(selection.vif.values())})
-    write_frame(sheet, vif, column=max(matrix.columns.values()) + 2, caption="Variance inflation (model)",
-                formats={"VIF": "0.000"})
+    placed = write_frame(sheet, vif, column=max(matrix.columns.values()) + 2, caption="Variance inflation (model)",
+                         formats={"VIF": "0.000"})
+    log = pd.DataFrame([{"Characteristic": c.name, "Classing": classed_by(c).split(" (")[0], "IV": c.evidence.iv,
+                         "IV of the tool's proposal": c.proposal_iv,
+                         "Change in IV": c.evidence.iv - c.proposal_iv if c.proposal_iv is not None else None,
+                         "The analyst's note": build.settings.characteristic(c.name).note}
+                        for c in _classing_order(build)])
+    write_frame(sheet, log, column=max(placed.columns.values()) + 2,
+                caption="Who classed each characteristic: the tool's proposal, changed by the analyst, or written by the analyst",
+                formats={"IV": WOE, "IV of the tool's proposal": WOE, "Change in IV": WOE})
     freeze_header(sheet)
     fit_widths(sheet, maximum=90)
 
@@ -707,12 +715,22 @@ def _settings_frame(settings) -> pd.DataFrame:
         section, name = key.split(".", 1)
         rows.append((key, _setting_text(getattr(getattr(settings, section), name)), default, meaning))
     for name, spec in settings.characteristics.items():
-        for spec_field in fields(spec):
-            value = getattr(spec, spec_field.name)
-            if value is not None:
-                default, meaning = reference[f"characteristics.NAME.{spec_field.name}"]
-                rows.append((f"characteristics.{name}.{spec_field.name}", _setting_text(value), default, meaning))
+        for key, value in _keys(spec, "characteristics.NAME"):
+            default, meaning = reference[key]
+            rows.append((key.replace(".NAME.", f".{name}.", 1), _setting_text(value), default, meaning))
     return pd.DataFrame(rows, columns=["Key", "Value", "Default", "Meaning"])
+
+
+def _keys(spec, prefix: str):
+    """(reference key, value) of every key a characteristic's settings hold, its proposal's keys one by one."""
+    for spec_field in fields(spec):
+        value = getattr(spec, spec_field.name)
+        if value is None:
+            continue
+        if spec_field.name == "proposal":
+            yield from _keys(value, f"{prefix}.proposal")
+        else:
+            yield f"{prefix}.{spec_field.name}", value
 
 
 def _setting_text(value) -> str:

@@ -194,6 +194,16 @@ def degrees_of_freedom_rule(test) -> str:
     return f"{test.n_bands} bands: the model was not fitted on this sample"
 
 
+def classed_by(classed) -> str:
+    """Who classed a characteristic, in words: the tool, the analyst changing the tool's proposal (with the IV
+    the change cost or gained), or the analyst alone."""
+    if classed.origin == "changed":
+        change = classed.evidence.iv - classed.proposal_iv
+        return (f"changed by the analyst (IV {classed.evidence.iv:.4f} against {classed.proposal_iv:.4f} for the "
+                f"tool's proposal: {'+' if change >= 0 else '−'}{abs(change):.4f})")
+    return "written by the analyst" if classed.origin == "written" else "proposed by the tool"
+
+
 def library_versions() -> list[tuple[str, str]]:
     """The versions of the tool, Python and every library the figures depend on."""
     from importlib import metadata

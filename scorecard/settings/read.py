@@ -17,7 +17,7 @@ from typing import Any
 
 from ..errors import SettingsError
 from .renamed import RENAMED_SHAPES, renamed_key, renamed_key_message
-from .schema import SECTIONS, CharacteristicSettings, Settings
+from .schema import SECTIONS, CharacteristicSettings, ProposalSettings, Settings
 
 
 def read_settings(path: str | os.PathLike[str]) -> Settings:
@@ -90,6 +90,9 @@ def _section(cls: type, table: Any, source: str, where: str) -> Any:
             raise SettingsError(renamed_key_message(source, where, key, new, value))
         if key not in fields:
             raise SettingsError(_unknown(source, key, list(fields), where=f"key in [{where}]"))
+        if fields[key].type in ("ProposalSettings | None", ProposalSettings):  # a table of its own
+            values[key] = _section(ProposalSettings, value, source, f"{where}.{key}")
+            continue
         values[key] = _coerce(fields[key], value, source, f"{where}.{key}")
     return cls(**values)
 

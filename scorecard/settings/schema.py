@@ -127,6 +127,27 @@ class ClassingSettings:
 
 
 @dataclass(frozen=True)
+class ProposalSettings:
+    """What the tool proposed for one characteristic: written by init (and by every build), read by the build.
+
+    The build compares the characteristic's classing with it, to say whether the tool proposed the
+    classing, the analyst changed it (and what that cost or gained in IV) or wrote it.
+    """
+
+    cuts: tuple[float, ...] | None = _key(None, "the tool's proposed cut points (leave as written: the build compares your classing with it)")
+    classes: tuple[tuple[str, ...], ...] | None = _key(None, "the tool's proposed classes of levels")
+    missing: str | int = _key("own", "where the tool put missing values: 'own' or a class number")
+    specials: tuple[str | int, ...] = _key((), "where the tool put each special value: 'own' or a class number")
+    bad_rate_shape: str = _key("", "the shape of the bad rate the tool found (falls, rises; any for levels)",
+                               _one_of("", *BAD_RATE_SHAPES), "one of " + ", ".join(BAD_RATE_SHAPES) + " or blank")
+    notes: tuple[str, ...] = _key((), "what the tool did by its own rules when it proposed this classing (merges, pooled levels)")
+
+    def classing(self) -> dict[str, object]:
+        """The classing keys of the proposal, as a characteristic's settings hold them (for comparing the two)."""
+        return {"cuts": self.cuts, "classes": self.classes, "missing": self.missing, "specials": tuple(self.specials)}
+
+
+@dataclass(frozen=True)
 class CharacteristicSettings:
     """One characteristic's decisions; any key left out takes the default or the proposal."""
 
@@ -148,6 +169,11 @@ class CharacteristicSettings:
     label: str = _key("", "plain-language reason text for this characteristic (blank: made from its name)")
     note: str = _key("", "the analyst's reason for a decision about this characteristic; the reports show it")
     reason_code: str = _key("", "stable code of this characteristic's reason (blank: R01, R02, ... in ledger order)")
+    proposal: ProposalSettings | None = _key(None, "what the tool proposed (init writes it as [characteristics.NAME.proposal])")
+
+    def classing(self) -> dict[str, object]:
+        """The classing keys, as a proposal holds them (for comparing the two)."""
+        return {"cuts": self.cuts, "classes": self.classes, "missing": self.missing, "specials": tuple(self.specials)}
 
 
 @dataclass(frozen=True)
@@ -298,6 +324,11 @@ def settings_reference() -> list[tuple[str, str, str]]:
         for spec in dataclasses.fields(cls):
             rows.append((f"{name}.{spec.name}", toml_value(spec.default), spec.metadata["meaning"]))
     for spec in dataclasses.fields(CharacteristicSettings):
+        if spec.name == "proposal":
+            continue
         default = "(none)" if spec.default is None else toml_value(spec.default)
         rows.append((f"characteristics.NAME.{spec.name}", default, spec.metadata["meaning"]))
+    for spec in dataclasses.fields(ProposalSettings):
+        default = "(none)" if spec.default is None else toml_value(spec.default)
+        rows.append((f"characteristics.NAME.proposal.{spec.name}", default, spec.metadata["meaning"]))
     return rows

@@ -20,18 +20,21 @@ from tomlkit.items import Item, Table
 from ..errors import SettingsError
 from ..files import write_text_atomically
 from .read import settings_from_mapping
-from .schema import SECTIONS, CharacteristicSettings, Settings
+from .schema import SECTIONS, CharacteristicSettings, ProposalSettings, Settings
 from .text import toml_value
 
 
 def settings_to_mapping(settings: Settings) -> dict[str, Any]:
     """Return the settings as nested plain values, the shape of the TOML file (None values left out)."""
     document: dict[str, Any] = {name: dataclasses.asdict(getattr(settings, name)) for name in SECTIONS}
-    document["characteristics"] = {
-        name: {key: value for key, value in dataclasses.asdict(spec).items() if value is not None}
-        for name, spec in settings.characteristics.items()
-    }
+    document["characteristics"] = {name: _without_none(dataclasses.asdict(spec)) for name, spec in settings.characteristics.items()}
     return _as_lists(document)
+
+
+def _without_none(table: dict[str, Any]) -> dict[str, Any]:
+    """A characteristic's keys (and its proposal's) without those that are None (TOML has no None)."""
+    return {key: _without_none(value) if isinstance(value, dict) else value for key, value in table.items()
+            if value is not None}
 
 
 def _as_lists(value: Any) -> Any:
@@ -94,13 +97,31 @@ def settings_to_toml(settings: Settings, *, comments: Mapping[str, str] | None =
             table.add(tomlkit.comment(line))
         for spec in dataclasses.fields(CharacteristicSettings):
             value = getattr(char, spec.name)
-            if value is None or (value == getattr(defaults, spec.name) and spec.name not in ("kind", "use")):
+            if value is None or spec.name == "proposal" or (value == getattr(defaults, spec.name) and spec.name not in ("kind", "use")):
                 continue
             table.add(spec.name, _item(value))
+        if char.proposal is not None:
+            table.add("proposal", _proposal_table(char.proposal))
         characteristics.add(name, table)
     if len(characteristics):
         document.add("characteristics", characteristics)
     return document.as_string().strip("\n") + "\n"
+
+
+def _proposal_table(proposal: ProposalSettings) -> Table:
+    """The [characteristics.NAME.proposal] table: the keys the tool proposed, under a line that says what it is."""
+    table = _table()
+    table.add(tomlkit.comment("what the tool proposed; leave it as written: the build compares your classing with it"))
+    defaults = ProposalSettings()
+    for spec in dataclasses.fields(ProposalSettings):
+        value = getattr(proposal, spec.name)
+        if value is None or (value == getattr(defaults, spec.name) and spec.name in ("missing", "specials", "notes")):
+            continue
+        item = _item(value)
+        if spec.name == "notes":
+            item.multiline(True)  # one sentence a line
+        table.add(spec.name, item)
+    return table
 
 
 def edit_settings(path: str | os.PathLike[str], changes: Mapping[str, Any]) -> Path:
