@@ -22,7 +22,7 @@ from scorecard.settings import toml_value
 
 BUILD_QUARTERS = 6  # 2024Q1 to 2025Q2: the history the scorecard is built on
 OUT_OF_TIME_FROM = "2025-01-01"  # the last two of those quarters are kept out of time
-SPECIAL = ("months_since_delinquency=-1", "months_since_last_enquiry=999")
+SPECIAL = ("months_since_delinquency=-1:no missed payment on record", "months_since_last_enquiry=999:no enquiry on record")
 
 
 def run_demo(options: DemoOptions, streams: Streams) -> int:
@@ -89,7 +89,13 @@ def _write_ledgers(data: Path, *, rows: int, seed: int, streams):
 def _decisions(settings: Path, streams) -> list[str]:
     """Say each of the analyst's decisions and why; return the 'scorewright set' arguments that make them."""
     text = resources.files("scorecard.demo").joinpath("analyst.toml").read_text(encoding="utf-8")
-    decisions = tomllib.loads(text)["decision"]
+    document = tomllib.loads(text)
+    decisions = document["decision"]
     for decision in decisions:
         streams.say(f"  {decision['key']} = {decision['value']!r}: {decision['why']}")
-    return ["set", str(settings), *(f"{d['key']}={toml_value(d['value'])}" for d in decisions)]
+    labels = document["labels"]
+    streams.say(f"  characteristics.NAME.label for {len(labels)} characteristics: the reason texts applicants are given "
+                f"(e.g. {next(iter(labels))} = {next(iter(labels.values()))!r})")
+    assignments = [f"{d['key']}={toml_value(d['value'])}" for d in decisions]
+    assignments += [f"characteristics.{name}.label={toml_value(label)}" for name, label in labels.items()]
+    return ["set", str(settings), *assignments]

@@ -154,18 +154,22 @@ def _detect_role(frame, options: InitOptions, what: str) -> str | None:
     return found[0] if len(found) == 1 else None
 
 
-def _special_values(entries, columns, source: str) -> dict[str, tuple[float, ...]]:
+def _special_values(entries, columns, source: str) -> dict[str, tuple[tuple[float, str], ...]]:
+    """Read --special COLUMN=VALUE[:MEANING][,VALUE[:MEANING]]: each column's special values with their meanings."""
     specials = {}
     for entry in entries:
         name, _, text = entry.partition("=")
         if not text or name not in columns:
             raise SettingsError(
-                f"--special {entry!r}: write COLUMN=VALUE[,VALUE], with COLUMN one of the ledger's columns, e.g. --special months_since_arrears=-1."
+                f"--special {entry!r}: write COLUMN=VALUE[:MEANING][,VALUE[:MEANING]], with COLUMN one of the ledger's "
+                "columns, e.g. --special 'months_since_arrears=-1:no arrears on record'."
             )
+        pairs = [part.partition(":") for part in text.split(",")]
         try:
-            specials[name] = tuple(float(v) for v in text.split(","))
+            specials[name] = tuple((float(value), meaning.strip()) for value, _, meaning in pairs)
         except ValueError:
-            raise SettingsError(f"--special {entry!r}: special values must be numbers, e.g. -1 or 999.") from None
+            raise SettingsError(f"--special {entry!r}: special values must be numbers, e.g. -1 or 999, each "
+                                "with its meaning after a colon.") from None
     return specials
 
 
@@ -177,7 +181,8 @@ def _proposals(ledger, classed: ClassedLedger, settings: Settings):
         values = classing_settings_values(char.binning)
         characteristics[char.name] = replace(
             spec, kind=char.binning.kind, use=spec.use or "auto",
-            special_values=ledger.characteristic(char.name).special_values, **values, proposal=char.proposal,
+            special_values=tuple(zip(ledger.characteristic(char.name).special_values,
+                                     ledger.characteristic(char.name).special_meanings)), **values, proposal=char.proposal,
         )
         evidence = char.evidence
         comment = f"IV {evidence.iv:.4f} ({evidence.strength}) on the development sample; {char.binning.n_bins} bins"

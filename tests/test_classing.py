@@ -12,9 +12,10 @@ from hypothesis import given, settings, strategies as st
 
 from scorecard.classing import (
     Binning, ClassLimits, binning_from_settings, categorical_binning, check_constraints, coarse_classing,
-    fine_classing, keeps_shape, merge_alike_neighbours, neighbour_p_values, numeric_binning, best_classing, quantile_cuts,
-    roundest_between,
+    fine_classing, interval_labels, keeps_shape, merge_alike_neighbours, neighbour_p_values, numeric_binning,
+    best_classing, quantile_cuts, roundest_between,
 )
+from scorecard.classing.fine import ROUNDING_SHARE, rounded_cuts
 from scorecard.rows import code_rows, unseen_levels
 from scorecard.terms import CATEGORICAL, NUMERIC
 from scorecard.errors import ClassingError
@@ -43,8 +44,10 @@ def test_numeric_codes_equal_pandas_cut_with_the_same_edges(cuts, values):
 
 
 def test_missing_and_special_values_go_to_their_own_bins():
-    binning = numeric_binning("months", [6, 12], special_values=[-1, 999])
-    assert binning.labels == ("under 6", "6 to under 12", "12 and over", "special -1", "special 999", "missing")
+    binning = numeric_binning("months", [6, 12], special_values=[-1, 999], special_meanings=["no record"])
+    # a special value reads as its meaning, never as a bare code; one without a meaning says so
+    assert binning.labels == ("under 6", "6 to under 12", "12 and over", "no record", "code 999 (meaning not given)",
+                              "missing")
     codes = code_rows(pd.Series([0, 6, 11.99, 12, -1, 999, None, -2]), binning)
     np.testing.assert_array_equal(codes, [0, 1, 1, 2, 3, 4, 5, 0])
     assert codes.dtype == np.uint8
@@ -74,6 +77,30 @@ def test_missing_goes_to_the_unseen_bin_when_development_had_none():
 # Fine classing
 
 
+def test_a_bin_that_holds_missing_or_special_values_says_so_in_its_label():
+    binning = numeric_binning("months", [9, 24], special_values=[-1, 999], special_bins=[0, None],
+                              special_meanings=["no delinquency on record", "no enquiry on record"], missing_bin=0)
+    assert binning.labels == ("under 9 or no delinquency on record or missing", "9 to under 24", "24 and over",
+                              "no enquiry on record")
+    joined = categorical_binning("home", [["own"], ["rent", "other"]], missing_bin=1)
+    assert joined.labels == ("own", "rent, other or missing")
+    # the classing a settings file fixes reads the same way
+    fixed = binning_from_settings("months", NUMERIC, cuts=[9], special_values=[-1], specials=[2], missing=1,
+                                  special_meanings=["no record"])
+    assert fixed.labels == ("under 9 or missing", "9 and over or no record")
+
+
+def test_whole_numbers_read_as_whole_numbers():
+    # counts and months: '0', '1', '2 to 4', '5 and over', not 'under 1', '1 to under 2'
+    binning = numeric_binning("enquiries", [1, 2, 5], whole_numbers=True, lowest=0, has_missing=False)
+    assert binning.labels == ("0", "1", "2 to 4", "5 and over")
+    assert numeric_binning("age", [25, 40], whole_numbers=True, lowest=18, has_missing=False).labels == (
+        "18 to 24", "25 to 39", "40 and over")
+    assert interval_labels([3], whole_numbers=True) == ["2 or less", "3 and over"]  # the lowest value unknown
+    # a cut between whole numbers is not a whole number: the intervals then read as intervals
+    assert interval_labels([2.5], whole_numbers=True, lowest=0) == ["under 2.5", "2.5 and over"]
+
+
 def test_quantile_cuts_leave_no_empty_bin_and_are_round_numbers():
     rng = np.random.default_rng(3)
     x = np.round(rng.lognormal(8, 1, size=5000), 2)
@@ -85,6 +112,39 @@ def test_quantile_cuts_leave_no_empty_bin_and_are_round_numbers():
     assert counts.max() / len(x) < 0.12
     # the data have two decimals; the roundest number in each gap needs at most one
     assert all(round(c, 1) == c for c in cuts)
+
+
+def test_a_cut_point_is_rounded_as_far_as_half_a_percent_of_the_rows_allows():
+    # hand-worked: 10,000 values 0.00 to 99.99, each 0.01% of the rows; the quantile cut 16.455 rounded
+    # to one digit (20) would move 3.55% of the rows, to two digits (16) 0.455%: within 0.5%, so 16
+    distinct = np.round(np.arange(10_000) * 0.01, 2)
+    mass = np.ones(10_000)
+    assert rounded_cuts([16.455], distinct, mass, share=0.005) == (16.0,)
+    assert rounded_cuts([16.455], distinct, mass, share=0.004) == (16.5,)  # 16 moves 0.455%: too far
+    assert rounded_cuts([16.455], distinct, mass, share=0.0) == (16.455,)  # no row may move: as it was
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_rounding_moves_no_row_more_than_one_bin_and_at_most_the_stated_share_across_each_cut(seed):
+    # the one rule for every characteristic: each cut carries at most ROUNDING_SHARE of the development
+    # rows (by weight) into the bin beside it, and no row changes by more than one bin (our rule)
+    rng = np.random.default_rng(seed)
+    decimals = seed % 3
+    x = np.round(rng.lognormal(6 + seed, 0.8, 6000), decimals)
+    weights = rng.choice([1.0, 2.5], size=6000)
+    distinct, inverse = np.unique(x, return_inverse=True)
+    mass = np.bincount(inverse, weights=weights)
+    exact = quantile_cuts(x, weights, max_bins=20, rounding_share=0.0)
+    rounded = quantile_cuts(x, weights, max_bins=20)
+    assert rounded == rounded_cuts(exact, distinct, mass, share=ROUNDING_SHARE)
+    assert len(rounded) == len(exact)  # on these data no cut had to go
+    assert rounded != exact  # something was rounded
+    before, after = np.searchsorted(exact, x, side="right"), np.searchsorted(rounded, x, side="right")
+    assert np.abs(after - before).max() <= 1
+    for cut, (old, new) in enumerate(zip(exact, rounded)):
+        moved = weights[(x >= min(old, new)) & (x < max(old, new))].sum()
+        assert moved <= ROUNDING_SHARE * weights.sum() + 1e-9, (cut, old, new)
+    assert np.all(np.bincount(after, minlength=len(rounded) + 1) > 0)  # no bin is empty
 
 
 def test_quantile_cuts_on_few_distinct_values_use_each_value():
@@ -267,7 +327,7 @@ def test_coarse_classing_is_monotone_and_meets_every_limit():
     assert (np.diff(woe[: binning.n_chain]) > 0).all()
     assert check_constraints(binning, coarse_goods, coarse_bads, min_class_share=0.05, min_goods=10, min_bads=10,
                              max_classes=8, bad_rate_shape="falls") == []
-    assert "missing" in binning.labels and "special -1" in binning.labels
+    assert "missing" in binning.labels and "code -1 (meaning not given)" in binning.labels
     assert result.iv == pytest.approx(information_value(coarse_goods, coarse_bads))
     # coding the rows with the coarse binning gives the counts aggregated from the fine bins
     codes = code_rows(x, binning)
@@ -345,7 +405,7 @@ def test_override_cuts_are_used_as_given_and_breaks_are_reported():
     binning = binning_from_settings("x", NUMERIC, cuts=[10, 20], special_values=[-1], specials=["own"], missing=2)
     assert binning.cuts == (10.0, 20.0)
     assert binning.missing_bin == 1
-    assert binning.labels == ("under 10", "10 to under 20", "20 and over", "special -1")
+    assert binning.labels == ("under 10", "10 to under 20 or missing", "20 and over", "code -1 (meaning not given)")
     goods = np.array([5.0, 50, 500, 40])
     bads = np.array([5.0, 20, 10, 30])
     problems = check_constraints(binning, goods, bads, min_class_share=0.05, min_goods=10, min_bads=10,
@@ -366,7 +426,7 @@ def test_override_of_the_wrong_kind_is_an_error():
 def test_special_value_absent_in_development_goes_to_the_unseen_bin():
     binning = binning_from_settings("x", NUMERIC, cuts=[1], special_values=[-1, 999], present_specials=[-1])
     assert binning.special_bins == (2, -1)
-    assert binning.labels == ("under 1", "1 and over", "special -1", "missing")
+    assert binning.labels == ("under 1", "1 and over", "code -1 (meaning not given)", "missing")
 
 
 def test_binning_round_trips_through_plain_values():

@@ -441,7 +441,7 @@ def test_the_quick_path_takes_every_ledger_option_of_init_with_the_same_meaning(
     path = tmp_path / "dated.csv"
     frame.to_csv(path, index=False)
     options = ["--target", "outcome", "--bad", "bad", "--id", "app_id", "--date", "applied", "--weight", "weight",
-               "--special", "months_at_address=999", "--leave-out", "late_note", "--out-of-time-from", "2025-04-01",
+               "--special", "months_at_address=999:address not known", "--leave-out", "late_note", "--out-of-time-from", "2025-04-01",
                "--holdout", "0.25"]
     code, _, err = run("init", path, *options, "--out", tmp_path / "scorecard.toml")
     assert code == 0, err
@@ -456,7 +456,7 @@ def test_the_quick_path_takes_every_ledger_option_of_init_with_the_same_meaning(
                                             "out_of_time_from": "2025-04-01"}
     assert quick["ledger"]["samples"] == slow["ledger"]["samples"]  # the same rows in every sample, weighted alike
     specials = quick["settings"]["characteristics"]["months_at_address"]["special_values"]
-    assert specials == slow["settings"]["characteristics"]["months_at_address"]["special_values"] == [999.0]
+    assert specials == slow["settings"]["characteristics"]["months_at_address"]["special_values"] == [[999.0, "address not known"]]
     code, _, err = run("build", tmp_path / "scorecard.toml", "--holdout", "0.2", "--out", tmp_path / "x")
     assert code == 2 and "--holdout is for building straight from a ledger" in err
 

@@ -344,3 +344,36 @@ def test_a_categorical_characteristic_may_have_one_class():
     # as a numeric one may have no cut: what the tool proposes when no two of its levels differ significantly
     settings = settings_from_mapping({"characteristics": {"home": {"classes": [["own", "rent"]]}}})
     assert settings.characteristic("home").classes == (("own", "rent"),)
+
+
+# --------------------------------------------------------------------------------------------
+# Special values with their meanings
+
+
+def test_special_values_are_a_table_of_codes_and_meanings_or_a_list_of_codes(tmp_path):
+    path = tmp_path / "s.toml"
+    path.write_text('[characteristics.months]\nspecial_values = {-1 = "no delinquency on record", "999" = ""}\n'
+                    '[characteristics.enquiries]\nspecial_values = [99]\n', encoding="utf-8")
+    settings = read_settings(path)
+    months = settings.characteristic("months")
+    assert months.special_values == ((-1.0, "no delinquency on record"), (999.0, ""))
+    assert months.special_codes == (-1.0, 999.0) and months.special_meanings == ("no delinquency on record", "")
+    assert settings.characteristic("enquiries").special_values == ((99.0, ""),)
+    text = settings_to_toml(settings)
+    assert 'special_values = {"-1" = "no delinquency on record", "999" = ""}' in text  # written back as a table
+    assert "special_values = [99]" in text  # no meaning given: a list, as the analyst wrote it
+    assert read_settings_text(tmp_path, text).characteristics == settings.characteristics
+    assert CharacteristicSettings(special_values=(-1.0,)).special_values == ((-1.0, ""),)  # bare codes from Python
+
+
+def test_a_special_value_that_is_not_a_number_is_named(tmp_path):
+    path = tmp_path / "s.toml"
+    path.write_text('[characteristics.months]\nspecial_values = {none = "no record"}\n', encoding="utf-8")
+    with pytest.raises(SettingsError, match=r"characteristics.months.special_values = .* a table of codes and their meanings"):
+        read_settings(path)
+
+
+def read_settings_text(folder, text):
+    path = folder / "again.toml"
+    path.write_text(text, encoding="utf-8")
+    return read_settings(path)

@@ -27,7 +27,7 @@ from ..terms import (
     ANY, CATEGORICAL, EMPTY_CELL, FALLS, FALLS_THEN_RISES, FROM_DATA, NUMERIC, ONE_WAY_SHAPES, RISES, RISES_THEN_FALLS,
     SINGLE_BEND_SHAPES, shape_words,
 )
-from .bins import MISSING_LABEL, RARE_LABEL, Binning, categorical_binning, format_number, numeric_binning
+from .bins import MISSING_LABEL, RARE_LABEL, Binning, categorical_binning, numeric_binning, relabelled, special_label
 
 
 @dataclass(frozen=True)
@@ -389,7 +389,8 @@ def _coarse_binning(fine: Binning, chain: np.ndarray, starts: Sequence[int], sha
     ends = [*starts[1:], len(chain)]
     if fine.kind == NUMERIC:
         cuts = tuple(fine.cuts[start - 1] for start in starts[1:])
-        return numeric_binning(fine.characteristic, cuts, has_missing=False, bad_rate_shape=shape)
+        return numeric_binning(fine.characteristic, cuts, has_missing=False, bad_rate_shape=shape,
+                               whole_numbers=fine.whole_numbers, lowest=fine.lowest)
     classes = [tuple(level for fine_bin in chain[s:e] for level in fine.classes[fine_bin]) for s, e in zip(starts, ends)]
     return categorical_binning(fine.characteristic, classes, has_missing=False, bad_rate_shape=shape)
 
@@ -405,8 +406,9 @@ def _place_own_bins(fine, coarse, fine_to_coarse, goods, bads, n_goods, n_bads, 
     n_chain = coarse.n_chain
     chain_goods = np.bincount(fine_to_coarse[: fine.n_chain], weights=goods[: fine.n_chain], minlength=n_chain)
     chain_bads = np.bincount(fine_to_coarse[: fine.n_chain], weights=bads[: fine.n_chain], minlength=n_chain)
-    labels = list(coarse.labels)
-    own = [(f"special {format_number(v)}", b) for v, b in zip(fine.special_values, fine.special_bins) if b >= 0]
+    n_bins = n_chain
+    meanings = fine.special_meanings or ("",) * len(fine.special_values)
+    own = [(special_label(v, m), b) for v, m, b in zip(fine.special_values, meanings, fine.special_bins) if b >= 0]
     if fine.missing_bin >= 0:
         own.append((MISSING_LABEL, fine.missing_bin))
     targets = {-1: -1}
@@ -414,8 +416,7 @@ def _place_own_bins(fine, coarse, fine_to_coarse, goods, bads, n_goods, n_bads, 
         stands = (goods[fine_bin] + bads[fine_bin] >= min_share * total - 1e-9
                   and n_goods[fine_bin] >= min_goods and n_bads[fine_bin] >= min_bads)
         if stands:
-            labels.append(label)
-            targets[fine_bin] = len(labels) - 1
+            targets[fine_bin], n_bins = n_bins, n_bins + 1
         else:
             target, keeps_order = _nearest_class(chain_goods, chain_bads, goods[fine_bin], bads[fine_bin],
                                                  total_goods, total_bads, coarse.bad_rate_shape)
@@ -432,8 +433,8 @@ def _place_own_bins(fine, coarse, fine_to_coarse, goods, bads, n_goods, n_bads, 
         fine_to_coarse[fine_bin] = targets[fine_bin]
     special_bins = tuple(targets[b] for b in fine.special_bins)
     missing_bin = targets[fine.missing_bin]
-    return replace(coarse, labels=tuple(labels), special_values=fine.special_values,
-                   special_bins=special_bins, missing_bin=missing_bin)
+    return relabelled(replace(coarse, special_values=fine.special_values, special_meanings=fine.special_meanings,
+                              special_bins=special_bins, missing_bin=missing_bin))
 
 
 def _nearest_class(chain_goods, chain_bads, goods, bads, total_goods, total_bads, shape) -> tuple[int, bool]:

@@ -27,7 +27,8 @@ def binning_from_settings(name: str, kind: str, *, cuts: Sequence[float] | None 
                           classes: Sequence[Sequence[str]] | None = None, special_values: Sequence[float] = (),
                           specials: Sequence[str | int] = (), missing: str | int = "own",
                           present_specials: Sequence[float] | None = None, has_missing: bool = True,
-                          bad_rate_shape: str = ANY) -> Binning:
+                          bad_rate_shape: str = ANY, special_meanings: Sequence[str] = (), whole_numbers: bool = False,
+                          lowest: float | None = None) -> Binning:
     """Build the binning an analyst fixed in the settings file (cut points or classes of levels).
 
     Parameters
@@ -47,6 +48,8 @@ def binning_from_settings(name: str, kind: str, *, cuts: Sequence[float] | None 
         Whether the development sample has missing values; without any, 'own' gives no bin.
     bad_rate_shape : str
         The bad-rate shape recorded with the binning.
+    special_meanings, whole_numbers, lowest
+        How the values read, for the labels (``scorecard.classing.Binning``).
 
     Raises
     ------
@@ -76,7 +79,8 @@ def binning_from_settings(name: str, kind: str, *, cuts: Sequence[float] | None 
     missing_target = target(missing, "missing")
     if kind == NUMERIC:
         return numeric_binning(name, cuts, special_values=special_values, special_bins=special_targets,
-                               has_missing=has_missing, missing_bin=missing_target, bad_rate_shape=bad_rate_shape)
+                               has_missing=has_missing, missing_bin=missing_target, bad_rate_shape=bad_rate_shape,
+                               special_meanings=special_meanings, whole_numbers=whole_numbers, lowest=lowest)
     return categorical_binning(name, classes, has_missing=has_missing, missing_bin=missing_target, bad_rate_shape=bad_rate_shape)
 
 
@@ -150,6 +154,7 @@ def without_empty_bins(binning: Binning, counts: BinCounts) -> Binning:
         classes=binning.classes if binning.kind != NUMERIC else None, special_values=binning.special_values,
         specials=specials, missing=spec_missing, present_specials=present,
         has_missing=has_missing or binning.missing_bin < n_chain, bad_rate_shape=binning.bad_rate_shape,
+        special_meanings=binning.special_meanings, whole_numbers=binning.whole_numbers, lowest=binning.lowest,
     )
 
 

@@ -198,7 +198,8 @@ def _is_fixed(settings: Settings, name: str) -> bool:
 def _fine_binning(values, weights, char: Characteristic, settings: Settings) -> Binning:
     classing = settings.classing
     return fine_classing(values, weights, name=char.name, kind=char.kind, special_values=char.special_values,
-                         max_bins=classing.max_fine_bins, rare_level_share=classing.rare_level_share)
+                         max_bins=classing.max_fine_bins, rare_level_share=classing.rare_level_share,
+                         special_meanings=char.special_meanings, whole_numbers=char.whole_numbers, lowest=char.lowest)
 
 
 def _coarse(fine: Binning, counts: BinCounts, settings: Settings) -> tuple[Binning, tuple[str, ...], Merging | None]:
@@ -232,7 +233,8 @@ def _provisional(char: Characteristic, settings: Settings, *, classing: Proposal
     return binning_from_settings(
         char.name, char.kind, cuts=keys.cuts, classes=keys.classes, special_values=char.special_values,
         specials=keys.specials, missing=keys.missing, present_specials=char.special_values, has_missing=True,
-        bad_rate_shape=shape or settings.classing.bad_rate_shape,
+        bad_rate_shape=shape or settings.classing.bad_rate_shape, special_meanings=char.special_meanings,
+        whole_numbers=char.whole_numbers, lowest=char.lowest,
     )
 
 

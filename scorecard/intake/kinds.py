@@ -81,8 +81,18 @@ def choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[s
                 f"{source}, column {name!r}: kind is numeric in the settings but the column holds text "
                 f"(e.g. {plain(series.dropna().iloc[0])!r}). Set kind = \"categorical\" or clean the column."
             )
-        chosen.append(Characteristic(name, kind, tuple(spec.special_values) if kind == NUMERIC else ()))
+        chosen.append(_characteristic(name, kind, series, spec) if kind == NUMERIC else Characteristic(name, kind))
     return chosen, left_out
+
+
+def _characteristic(name: str, kind: str, series: pd.Series, spec) -> Characteristic:
+    """A numeric characteristic with its special values and how its ordinary values read (whole numbers, the lowest)."""
+    codes = spec.special_codes
+    values = series.to_numpy(dtype=float, na_value=np.nan)
+    ordinary = values[~np.isnan(values) & ~np.isin(values, codes)]
+    whole = bool(ordinary.size) and bool(np.all(ordinary == np.floor(ordinary)))
+    lowest = float(ordinary.min()) if ordinary.size else None
+    return Characteristic(name, kind, codes, spec.special_meanings, whole, lowest)
 
 
 def closest_names(name: str, columns: Sequence[str]) -> str:

@@ -15,11 +15,24 @@ from ..terms import OUTCOME_NAMES, SAMPLE_NAMES
 
 @dataclass(frozen=True)
 class Characteristic:
-    """A column used as a characteristic: its name, kind and declared special values."""
+    """A column used as a characteristic: its name, kind, declared special values, and how its values read.
+
+    Attributes
+    ----------
+    special_values, special_meanings : tuples
+        The special codes the settings declare and what each means ('' when not said).
+    whole_numbers : bool
+        Numeric: every ordinary value (neither missing nor special) is a whole number.
+    lowest : float or None
+        Numeric: the smallest ordinary value.
+    """
 
     name: str
     kind: str
     special_values: tuple[float, ...] = ()
+    special_meanings: tuple[str, ...] = ()
+    whole_numbers: bool = False
+    lowest: float | None = None
 
 
 @dataclass(frozen=True)

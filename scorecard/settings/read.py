@@ -135,6 +135,8 @@ def _convert(wanted: str, value: Any) -> Any:
         return value if isinstance(value, bool) else _WRONG
     if wanted == "str | int":
         return value if isinstance(value, str) or (isinstance(value, int) and not isinstance(value, bool)) else _WRONG
+    if wanted == "tuple[tuple[float, str], ...]" and isinstance(value, Mapping):
+        return _special_values(value)
     if not isinstance(value, list):
         return _WRONG
     if wanted == "tuple[str, ...]":
@@ -145,10 +147,34 @@ def _convert(wanted: str, value: Any) -> Any:
     if wanted == "tuple[tuple[str, ...], ...] | None":
         ok = all(isinstance(g, list) and all(isinstance(v, (str, int)) and not isinstance(v, bool) for v in g) for g in value)
         return tuple(tuple(str(v) for v in g) for g in value) if ok else _WRONG
+    if wanted == "tuple[tuple[float, str], ...]":
+        return _special_values(value)
     if wanted == "tuple[str | int, ...]":
         ok = all(isinstance(v, str) or (isinstance(v, int) and not isinstance(v, bool)) for v in value)
         return tuple(value) if ok else _WRONG
     raise TypeError(f"no converter for {wanted}")  # our own invariant: every field type is handled
+
+
+def _special_values(value: Any) -> Any:
+    """Special values with their meanings: from a table {-1 = "no record"}, a list of codes [-1, 999] (no
+    meanings), or a list of [code, meaning] pairs (as a model file holds them); or _WRONG."""
+    def number(item: Any) -> float | None:
+        if isinstance(item, str):
+            try:
+                item = float(item)
+            except ValueError:
+                return None
+        ok = isinstance(item, (int, float)) and not isinstance(item, bool) and math.isfinite(item)
+        return float(item) if ok else None
+
+    if isinstance(value, Mapping):
+        pairs = [(number(code), meaning) for code, meaning in value.items()]
+    else:
+        pairs = [(number(item[0]), item[1]) if isinstance(item, list) and len(item) == 2 else (number(item), "")
+                 for item in value]
+    if any(code is None or not isinstance(meaning, str) for code, meaning in pairs):
+        return _WRONG
+    return tuple(pairs)
 
 
 def _describe_type(wanted: str) -> str:
@@ -160,6 +186,7 @@ def _describe_type(wanted: str) -> str:
         "str | int": "'own' or a class number",
         "tuple[str, ...]": "a list of values, e.g. [\"a\", \"b\"]",
         "tuple[float, ...]": "a list of numbers, e.g. [-1, 999]",
+        "tuple[tuple[float, str], ...]": "a table of codes and their meanings, e.g. {-1 = \"no record\"}, or a list of codes",
         "tuple[float, ...] | None": "a list of numbers, e.g. [12, 36, 60]",
         "tuple[tuple[str, ...], ...] | None": "a list of lists of levels, e.g. [[\"own\"], [\"rent\", \"other\"]]",
         "tuple[str | int, ...]": "a list of 'own' or class numbers",

@@ -156,7 +156,9 @@ class CharacteristicSettings:
         "", "auto (selection decides), always (forced in), never (left out); blank: auto unless it looks like an identifier or date",
         _one_of("", "auto", "always", "never"), "one of auto, always, never",
     )
-    special_values: tuple[float, ...] = _key((), "numeric codes with a meaning of their own (e.g. -1 = no record); each gets its own bin")
+    special_values: tuple[tuple[float, str], ...] = _key(
+        (), "numeric codes with a meaning of their own, each with its meaning: {-1 = \"no delinquency on record\"} (a list "
+        "[-1, 999] leaves them unexplained); each gets its own bin, labelled by its meaning")
     bad_rate_shape: str = _key(
         "", "how the bad rate may move as this characteristic's value grows (blank: the [classing] default)",
         _one_of("", *BAD_RATE_SHAPES), "one of " + ", ".join(BAD_RATE_SHAPES) + " or blank",
@@ -170,6 +172,21 @@ class CharacteristicSettings:
     note: str = _key("", "the analyst's reason for a decision about this characteristic; the reports show it")
     reason_code: str = _key("", "stable code of this characteristic's reason (blank: R01, R02, ... in ledger order)")
     proposal: ProposalSettings | None = _key(None, "what the tool proposed (init writes it as [characteristics.NAME.proposal])")
+
+    def __post_init__(self):
+        # from Python, special values may also be given as bare codes: (-1.0, 999.0) reads as codes without meanings
+        pairs = tuple(tuple(item) if isinstance(item, (tuple, list)) else (float(item), "") for item in self.special_values)
+        object.__setattr__(self, "special_values", pairs)
+
+    @property
+    def special_codes(self) -> tuple[float, ...]:
+        """The special values, without their meanings."""
+        return tuple(code for code, _ in self.special_values)
+
+    @property
+    def special_meanings(self) -> tuple[str, ...]:
+        """What each special value means ('' where the settings do not say)."""
+        return tuple(meaning for _, meaning in self.special_values)
 
     def classing(self) -> dict[str, object]:
         """The classing keys, as a proposal holds them (for comparing the two)."""

@@ -99,13 +99,23 @@ def settings_to_toml(settings: Settings, *, comments: Mapping[str, str] | None =
             value = getattr(char, spec.name)
             if value is None or spec.name == "proposal" or (value == getattr(defaults, spec.name) and spec.name not in ("kind", "use")):
                 continue
-            table.add(spec.name, _item(value))
+            table.add(spec.name, _special_values_item(value) if spec.name == "special_values" else _item(value))
         if char.proposal is not None:
             table.add("proposal", _proposal_table(char.proposal))
         characteristics.add(name, table)
     if len(characteristics):
         document.add("characteristics", characteristics)
     return document.as_string().strip("\n") + "\n"
+
+
+def _special_values_item(pairs) -> Item:
+    """Special values as the file writes them: {"-1" = "no delinquency on record"}, or [-1, 999] when none has a meaning."""
+    if not any(meaning for _, meaning in pairs):
+        return _item([code for code, _ in pairs])
+    body = ", ".join(f"{toml_value(toml_value(code))} = {toml_value(meaning)}" for code, meaning in pairs)
+    item = tomlkit.parse(f"value = {{{body}}}")["value"]
+    item.trivia.trail = "\n"
+    return item
 
 
 def _proposal_table(proposal: ProposalSettings) -> Table:
