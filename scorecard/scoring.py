@@ -48,18 +48,6 @@ def reasons(codes: np.ndarray, table: PointsTable, *, count: int = 4) -> np.ndar
     return np.where(lost_most > 0, order, -1)
 
 
-def reason_texts(table: PointsTable) -> tuple[np.ndarray, np.ndarray]:
-    """Return the reason text of every bin, characteristic after characteristic, and where each characteristic's start.
-
-    A reason names the characteristic and the applicant's bin, so that a special value reads as
-    its meaning: 'Months since delinquency: under 6', 'Savings balance: none or missing'. The
-    texts end with a blank, which position -1 picks.
-    """
-    texts = [f"{c.reason_label}: {label}" for c in table.characteristics for label in c.labels]
-    first = np.cumsum([0, *(len(c.labels) for c in table.characteristics)])[:-1]
-    return np.array([*texts, ""], dtype=object), np.append(first, -1)
-
-
 @dataclass(frozen=True)
 class Scorecard:
     """A fitted, scaled scorecard: the binnings of its characteristics and their points.
@@ -117,8 +105,7 @@ class Scorecard:
         -------
         pandas.DataFrame
             ``score`` and ``pd`` per row, then ``reason_1`` … with codes and ``reason_1_text`` …
-            with their text (the characteristic and the row's bin, ``reason_texts``), aligned with
-            ``frame``'s index.
+            with their text, aligned with ``frame``'s index.
         """
         codes = self.codes(frame, source=source)
         scores = score_codes(codes, self.table)
@@ -126,11 +113,8 @@ class Scorecard:
         if reason_count:
             positions = reasons(codes, self.table, count=reason_count)
             codes_text = np.array([c.reason_code for c in self.table.characteristics] + [""], dtype=object)
-            texts, first = reason_texts(self.table)
-            rows = np.arange(len(frame))
+            labels_text = np.array([c.reason_label for c in self.table.characteristics] + [""], dtype=object)
             for rank in range(positions.shape[1]):
-                position = positions[:, rank]
-                result[f"reason_{rank + 1}"] = codes_text[position]  # -1 picks the blank
-                bins = codes[rows, np.maximum(position, 0)].astype(np.int64)
-                result[f"reason_{rank + 1}_text"] = texts[np.where(position >= 0, first[position] + bins, -1)]
+                result[f"reason_{rank + 1}"] = codes_text[positions[:, rank]]  # -1 picks the blank
+                result[f"reason_{rank + 1}_text"] = labels_text[positions[:, rank]]
         return result

@@ -57,22 +57,3 @@ def test_scores_with_decimals_are_the_nearest_double_to_their_decimal_value():
     assert scores.tolist() == exact  # Python's round(x, 1) is the double nearest the decimal value
     assert [repr(float(s)) for s in scores] == [f"{s:.1f}" for s in scores]  # no float noise in the text
     assert table.max_score == round(table.max_score, 1) and table.min_score == round(table.min_score, 1)
-
-
-def test_a_reason_names_the_characteristic_and_the_bin_the_applicant_is_in():
-    table = _table()
-    binnings = (numeric_binning("age", [30, 50], has_missing=False),
-                categorical_binning("housing", [("rent",), ("own",)], has_missing=False),
-                numeric_binning("enquiries", [1, 2, 4], has_missing=False))
-    card = Scorecard(table, binnings)
-    frame = pd.DataFrame({"age": [25, 60, 40], "housing": ["rent", "own", "own"], "enquiries": [0, 5, 3]})
-    scored = card.score(frame, reason_count=3)
-    codes = card.codes(frame)
-    ranked = reasons(codes, table, count=3)
-    for row in range(len(frame)):  # a loop over rows as the slow, obvious oracle
-        for rank in range(3):
-            position = ranked[row, rank]
-            expected = "" if position < 0 else (f"{table.characteristics[position].reason_label}: "
-                                                f"{table.characteristics[position].labels[codes[row, position]]}")
-            assert scored[f"reason_{rank + 1}_text"].iloc[row] == expected
-    assert scored["reason_1_text"].iloc[0].startswith(("Age: ", "Housing: ", "Enquiries: "))
