@@ -306,8 +306,8 @@ class Flag:
     Attributes
     ----------
     kind : str
-        'leakage', 'over-fitting', 'coefficient', 'reversal', 'fit', 'stability', 'calibration',
-        'not computed' or 'notes'.
+        'leakage', 'special value', 'over-fitting', 'coefficient', 'reversal', 'fit', 'stability',
+        'calibration', 'not computed' or 'notes'.
     text : str
         What was found, in a sentence with its figure and threshold.
     section : str
@@ -334,6 +334,12 @@ def review_flags(build, validation: Validation) -> tuple[Flag, ...]:
                              f"leakage threshold {settings.selection.leakage_iv:g}: confirm it is known when an "
                              "application is made.", "characteristics")
              for name in table.names if build.characteristic(name).evidence.leakage_flag]
+    flags += [Flag("special value", f"{binning.characteristic!r} is in the model with special value {value:g}, whose meaning "
+                                    "the settings do not give: its bin reads 'code ... (meaning not given)'. Give it in "
+                                    "special_values, e.g. {-1 = \"no record\"}.", "characteristics")
+              for binning in build.scorecard.binnings
+              for value, meaning in zip(binning.special_values, binning.special_meanings or ("",) * len(binning.special_values))
+              if not meaning]
     flags += _overfitting_flags(validation, checks)
     flags += _coefficient_flags(fit, checks)
     if not fit.converged:

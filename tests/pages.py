@@ -63,3 +63,76 @@ class Page(HTMLParser):
     def section(self, name: str) -> str:
         """The text of one section, white space folded."""
         return " ".join("".join(self.sections[name]).split())
+
+
+BROWSER_SECONDS = 120
+# Measures, in a real browser at a window of the given width, every chart text's size on screen:
+# its font size times the scale its SVG is drawn at (every <details> opened first, so all are drawn).
+_MEASURE = """<script>
+window.addEventListener('load', () => {
+  for (const d of document.querySelectorAll('details')) d.open = true;
+  let low = 1e9, where = '';
+  for (const t of document.querySelectorAll('svg text')) {
+    const m = t.getScreenCTM();
+    const size = parseFloat(getComputedStyle(t).fontSize) * Math.hypot(m.a, m.b);
+    if (size < low) { low = size; where = t.textContent; }
+  }
+  document.body.setAttribute('data-smallest', low.toFixed(3) + '|' + where);
+});
+</script>"""
+
+
+def smallest_chart_text(html: str, folder, *, window_width: int = 1280) -> tuple[float, str]:
+    """Return the smallest on-screen size, in px, of any chart text of a page in Chromium, and that text.
+
+    Skips the test when no Chromium is installed (``make system-deps`` installs it).
+    """
+    import re
+    import shutil
+    import subprocess
+
+    import pytest
+
+    browser = shutil.which("chromium") or shutil.which("chromium-browser")
+    if browser is None:
+        pytest.skip("no chromium on PATH; `make system-deps` installs it")
+    page = folder / "measured.html"
+    page.write_text(html.replace("</body>", _MEASURE + "</body>"), encoding="utf-8")
+    done = subprocess.run([browser, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
+                           f"--user-data-dir={folder / 'profile'}", f"--window-size={window_width},1000", "--dump-dom",
+                           page.as_uri()], capture_output=True, text=True, timeout=BROWSER_SECONDS)
+    found = re.search(r'data-smallest="([0-9.]+)\|([^"]*)"', done.stdout)
+    assert found, done.stderr[-2000:]
+    return float(found.group(1)), found.group(2)
+
+
+def headings_at_page_foot(html: str, folder) -> list[str]:
+    """Print a page to PDF with Chromium and return every heading (h2 to h4) that is the last line of a printed page.
+
+    The PDF's text is read with pypdf; skips the test without Chromium.
+    """
+    import html as markup
+    import re
+    import shutil
+    import subprocess
+
+    import pytest
+    from pypdf import PdfReader
+
+    browser = shutil.which("chromium") or shutil.which("chromium-browser")
+    if browser is None:
+        pytest.skip("no chromium on PATH; `make system-deps` installs it")
+    page, pdf = folder / "printed.html", folder / "printed.pdf"
+    page.write_text(html, encoding="utf-8")
+    done = subprocess.run([browser, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
+                           f"--user-data-dir={folder / 'profile-pdf'}", "--no-pdf-header-footer", f"--print-to-pdf={pdf}",
+                           page.as_uri()], capture_output=True, text=True, timeout=BROWSER_SECONDS)
+    assert pdf.is_file(), done.stderr[-2000:]
+    headings = {markup.unescape(re.sub(r"<[^>]+>", "", text)).strip()
+                for text in re.findall(r"<h[234][^>]*>(.*?)</h[234]>", html, flags=re.S)}
+    alone = []
+    for printed in PdfReader(pdf).pages:
+        lines = [line.strip() for line in printed.extract_text().splitlines() if line.strip()]
+        if lines and lines[-1] in headings:
+            alone.append(lines[-1])
+    return alone

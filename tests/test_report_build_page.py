@@ -19,6 +19,7 @@ from scorecard import Settings
 from scorecard.build import build_scorecard
 from scorecard.report import CAUTION
 from scorecard.report.build_page import CUTOFF_ROWS, SECTIONS, render_report, write_report
+from scorecard.report.page_kit import template_text
 from scorecard.validation import validate_build
 
 import pages  # tests/pages.py: reading the reports
@@ -303,3 +304,24 @@ def test_chromium_prints_the_report_to_pdf_and_a_screenshot(built, tmp_path):
                      target=report)
     assert done.returncode == 0, done.stderr
     assert screenshot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+@pytest.mark.slow
+def test_every_chart_text_is_at_least_11_px_at_the_reports_width(page, tmp_path):
+    # measured in Chromium at a window 1,280 px wide (the report's column is at most 1,100 px): a chart
+    # keeps its own width in its row, so no text is drawn smaller than the charts write it
+    size, text = pages.smallest_chart_text(page, tmp_path)
+    assert size >= 11 - 1e-3, text
+
+
+def test_charts_keep_their_width_in_a_row_and_their_legend_draws_their_marks(page):
+    style = template_text("style.css")
+    assert ".chart-row figure.chart-figure { flex: 0 0 auto; }" in style  # never shrunk below its own width
+    calibration = page.split('id="calibration"')[1].split("</svg>")[0]
+    assert "observed bad rate with interval" in calibration and "<circle" in calibration and "<polygon" in calibration
+
+
+@pytest.mark.slow
+def test_in_print_no_heading_is_left_alone_at_the_foot_of_a_page(page, tmp_path):
+    # printed by Chromium, read back with pypdf: the last line of every page is not a heading
+    assert pages.headings_at_page_foot(page, tmp_path) == []

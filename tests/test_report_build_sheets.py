@@ -396,3 +396,44 @@ def test_libreoffice_reads_formula_like_labels_as_text(invented, tmp_path):
     applicant = openpyxl.load_workbook(copy, data_only=True)["Applicant"]
     channel = next(row for row in applicant.iter_rows(min_row=5) if row[0].value == "channel")
     assert channel[1].value == "=1+1" and isinstance(channel[2].value, (int, float))  # looked up as a label
+
+
+# --------------------------------------------------------------------------------------------
+# Printable
+
+
+def test_every_sheet_prints_its_text_at_8_points_or_more_with_headers_repeated(invented, tmp_path):
+    # our rule: 11-point text is never shrunk below 8 points on paper. A column w characters wide is
+    # 7w + 5 pixels (the spreadsheet programs' rule, common practice, no source), 0.75 point each; a
+    # landscape A4 page with 0.7-inch margins is 10.29 inches (741 points) wide
+    from scorecard.report.sheet_kit import printable  # noqa: F401  (applied by write_workbook)
+
+    book = openpyxl.load_workbook(write_workbook(*invented, tmp_path / "workbook.xlsx"))
+    fitted, across = [], []
+    for sheet in book.worksheets:
+        setup = sheet.page_setup
+        assert setup.orientation == "landscape" and int(setup.paperSize) == 9  # A4
+        width = sum((7 * (sheet.column_dimensions[letter].width or 8.43) + 5) * 0.75
+                    for letter in (openpyxl.utils.get_column_letter(c) for c in range(1, sheet.max_column + 1)))
+        if sheet.sheet_properties.pageSetUpPr.fitToPage:
+            assert setup.fitToWidth == 1
+            scale = min(1.0, (11.69 - 1.4) * 72 / width)
+            fitted.append(sheet.title)
+        else:
+            scale = setup.scale / 100
+            across.append(sheet.title)
+            # printed across pages: the header rows and the first (or frozen) columns on every page
+            assert sheet.print_title_rows and sheet.print_title_cols, sheet.title
+        assert 11 * scale >= 8, (sheet.title, scale)
+    assert "Classing" in across and "Cautions" in fitted  # a wide sheet and a narrow one
+
+
+def test_one_font_family_and_headers_beside_their_numbers(invented, tmp_path):
+    book = openpyxl.load_workbook(write_workbook(*invented, tmp_path / "workbook.xlsx"))
+    families = {cell.font.name for sheet in book.worksheets for row in sheet.iter_rows() for cell in row
+                if cell.value is not None}
+    assert families == {"Calibri"}
+    sheet = book["Discrimination"]
+    headers = {cell.value: cell for cell in sheet[4] if cell.value is not None}
+    assert headers["AUC"].alignment.horizontal == "right"  # a number column: its header over the numbers
+    assert headers["Sample"].alignment.horizontal != "right"

@@ -93,6 +93,38 @@ def test_a_long_label_is_shortened_and_kept_whole_in_the_tooltip():
     assert shown == [label[:charts.MAX_LABEL_CHARACTERS - 1] + "…"]
     tooltips = [element.text for element in root.iter("title")]
     assert f"{label}: 1.0000" in tooltips
+    # the shortened label itself keeps the whole label as its title, shown on hover
+    text = next(element for element in root.iter("text") if element.text and element.text.startswith("a label"))
+    assert text.find("title").text == label
+
+
+def test_turned_category_labels_are_shortened_with_the_whole_label_on_hover():
+    labels = ["D23, D17, D18, D21, D07, D33", "D08, D02", "own"] * 4
+    root = ElementTree.fromstring(charts.clustered_columns(labels, {"share": [0.1] * 12}, x_label="x", y_label="y",
+                                                           title="t"))
+    shortened = [element for element in root.iter("text") if element.text and element.text.endswith("…")]
+    assert shortened and all(element.find("title").text in labels for element in shortened)
+    assert all(element.find("title").text.startswith(element.text[:-1]) for element in shortened)
+
+
+def test_every_text_of_every_chart_is_at_least_11_px_in_the_charts_own_units():
+    # the pages draw a chart at its own width (style.css: a chart is never shrunk in its row), so 11 units
+    # are 11 px on the page
+    for name, svg in every_chart().items():
+        root = ElementTree.fromstring(svg)
+        sizes = [float(element.get("font-size", root.get("font-size"))) for element in root.iter("text")]
+        assert sizes and min(sizes) >= 11, name
+
+
+def test_the_calibration_legend_draws_the_marks_of_the_chart():
+    svg = charts.calibration_chart(["418–515", "516–532"], [0.1, 0.05], [0.08, 0.03], [0.12, 0.07], [0.09, 0.06],
+                                   title="t")
+    root = ElementTree.fromstring(svg)
+    legend_y = float(next(t for t in root.iter("text") if t.text == "observed bad rate with interval").get("y"))
+    near = lambda element, key: abs(float(element.get(key)) - legend_y) < 12  # noqa: E731
+    assert any(near(dot, "cy") and dot.get("fill") == charts.BAD_COLOUR for dot in root.iter("circle"))  # observed: a dot
+    diamonds = [p for p in root.iter("polygon") if abs(float(p.get("points").split(",")[1].split()[0]) - legend_y) < 16]
+    assert diamonds and diamonds[0].get("stroke") == charts.MUTED  # predicted: an open diamond on a dashed line
 
 
 # --------------------------------------------------------------------------------------------

@@ -454,6 +454,13 @@ def test_chromium_prints_the_page_to_pdf_and_a_screenshot(saved, drifted, tmp_pa
 
 
 @pytest.mark.slow
+def test_in_print_no_heading_is_alone_at_a_page_foot_and_chart_text_is_11_px(page, tmp_path):
+    assert pages.headings_at_page_foot(page, tmp_path) == []
+    size, text = pages.smallest_chart_text(page, tmp_path)
+    assert size >= 11 - 1e-3, text
+
+
+@pytest.mark.slow
 def test_libreoffice_recalculates_every_formula_to_the_tools_value(saved, drifted, tmp_path):
     # reference: LibreOffice Calc recalculation
     result = drifted[0]
@@ -512,3 +519,11 @@ def _expected_stability_formulas(result, sheet) -> dict[str, float]:
         name = sheet.cell(row=row, column=table_start).value
         expected[sheet.cell(row=row, column=table_start + 1).coordinate] = by_name[name].value
     return expected
+
+
+def test_the_per_quarter_chart_names_the_characteristic_it_plots(drifted, page):
+    result = drifted[0]
+    moved = max(result.overall.characteristics, key=lambda c: c.psi.value).characteristic
+    section = page.split('id="quarters"')[1]
+    assert f"PSI of the score and of {moved} by quarter" in section
+    assert "largest of the characteristics" not in section

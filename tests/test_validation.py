@@ -93,11 +93,11 @@ def test_bands_are_named_by_the_first_and_last_score_they_can_hold():
     assert band_labels([500.0], score_range=(450.0, 500.0, 1.0)) == ("450–499", "500")
 
 
-def _flags_of(coefficients, ginis, *, converged=True, notes=()):
+def _flags_of(coefficients, ginis, *, converged=True, notes=(), binnings=()):
     """review_flags on a stand-in build: a fit with these coefficients, samples with these Ginis."""
     fit = SimpleNamespace(names=("intercept", *(f"c{i}" for i in range(len(coefficients)))),
                           coefficients=(0.1, *coefficients), converged=converged, iterations=7)
-    build = SimpleNamespace(settings=Settings(), scorecard=SimpleNamespace(table=SimpleNamespace(names=())),
+    build = SimpleNamespace(settings=Settings(), scorecard=SimpleNamespace(table=SimpleNamespace(names=()), binnings=binnings),
                             selection=SimpleNamespace(fit=fit), notes=tuple(notes))
     samples = {name: SimpleNamespace(auc=SimpleNamespace(gini=gini), calibration_tests=(), notes=())
                for name, gini in ginis.items()}
@@ -124,3 +124,11 @@ def test_coefficients_far_from_one_are_flagged_with_both_causes():
 def test_notes_and_an_unconverged_fit_are_flags_too():
     flags = _flags_of([1.0], {"development": 0.5}, converged=False, notes=("'x' left out: constant.",))
     assert [f.kind for f in flags] == ["fit", "notes"]
+
+
+def test_a_special_value_without_its_meaning_is_a_flag():
+    from scorecard.classing import numeric_binning
+
+    binning = numeric_binning("months", [6], special_values=[-1, 999], special_meanings=["no record"])
+    flags = _flags_of([1.0], {"development": 0.5}, binnings=(binning,))
+    assert [(f.kind, "999" in f.text) for f in flags] == [("special value", True)]

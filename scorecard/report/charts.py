@@ -30,7 +30,7 @@ SERIES_COLOURS = ("#2f6f73", "#b0761a", "#6a4c93", "#5e6a72")  # teal, ochre, pl
 
 WIDTH, HEIGHT = 640, 300
 MARGIN_LEFT, MARGIN_RIGHT, MARGIN_TOP, MARGIN_BOTTOM = 60, 20, 34, 46
-FONT_SIZE = 11
+FONT_SIZE = 11  # every text of a chart, in px: the pages draw charts at their own width, never smaller
 CHARACTER_WIDTH = 0.58  # average glyph width of a sans-serif face, in ems: sizes label space
 BAR_HEIGHT = 22
 BAR_FIGURE_ROOM = 0.25  # share of the value span left beside the longest bar for its figure
@@ -293,7 +293,7 @@ def calibration_chart(labels: Sequence[str], observed: Sequence[float], lower: S
         parts.append(_dot(x, frame.y(rate), BAD_COLOUR, radius=3.5,
                           tooltip=f"{label}: observed {_tick_text(rate, 0.0001, True)}"))
     parts.append(_legend(frame, [("observed bad rate with interval", BAD_COLOUR, ""),
-                                 ("predicted PD (band mean)", MUTED, SERIES_DASH)]))
+                                 ("predicted PD (band mean)", MUTED, SERIES_DASH)], marks=("dot", "diamond")))
     return _svg(width, height, title, parts)
 
 
@@ -437,11 +437,13 @@ def _line(x1: float, y1: float, x2: float, y2: float, *, colour: str, width: flo
 
 
 def _text(x: float, y: float, text: str, *, anchor: str = "start", colour: str = INK, size: float | None = None,
-          rotate: float = 0.0) -> str:
+          rotate: float = 0.0, full: str = "") -> str:
+    """A text; one shortened from ``full`` keeps the whole of it as its title, shown on hover."""
     extra = f' font-size="{_n(size)}"' if size else ""
     if rotate:
         extra += f' transform="rotate({_n(rotate)} {_n(x)} {_n(y)})"'
-    return f'<text x="{_n(x)}" y="{_n(y)}" text-anchor="{anchor}" fill="{colour}"{extra}>{escape(text)}</text>'
+    hover = f"<title>{escape(full)}</title>" if full and full != text else ""
+    return f'<text x="{_n(x)}" y="{_n(y)}" text-anchor="{anchor}" fill="{colour}"{extra}>{escape(text)}{hover}</text>'
 
 
 def _rect(x: float, y: float, width: float, height: float, colour: str, *, tooltip: str = "") -> str:
@@ -509,7 +511,7 @@ def _category_frame(labels: Sequence[str], width: float, height: float, y_range:
 
 def _turned(labels: Sequence[str], slot: float) -> bool:
     longest = max((len(str(label)) for label in labels), default=0)
-    return longest * (FONT_SIZE - 1) * CHARACTER_WIDTH > slot - 4
+    return longest * FONT_SIZE * CHARACTER_WIDTH > slot - 4
 
 
 def _category_axis(frame: Frame, labels: Sequence[str]) -> str:
@@ -522,9 +524,9 @@ def _category_axis(frame: Frame, labels: Sequence[str]) -> str:
         x = frame.x(position + 0.5)
         if turned:
             parts.append(_text(x + 3, bottom + 12, _shortened(str(label), TURNED_LABEL_CHARACTERS), anchor="end", colour=MUTED,
-                               size=FONT_SIZE - 1, rotate=-30))
+                               rotate=-30, full=str(label)))
         else:
-            parts.append(_text(x, bottom + 15, str(label), anchor="middle", colour=MUTED, size=FONT_SIZE - 1))
+            parts.append(_text(x, bottom + 15, str(label), anchor="middle", colour=MUTED))
     return "".join(parts)
 
 
@@ -535,15 +537,25 @@ def _axis_titles(frame: Frame, x_label: str, y_label: str) -> str:
             + _text(14, middle_y, y_label, anchor="middle", colour=MUTED, rotate=-90))
 
 
-def _legend(frame: Frame, entries: Sequence[tuple[str, str, str]], *, swatch: str = "line") -> str:
-    """Legend entries in a row above the plot area: (name, colour, dash pattern or blank)."""
+def _legend(frame: Frame, entries: Sequence[tuple[str, str, str]], *, swatch: str = "line",
+            marks: Sequence[str] = ()) -> str:
+    """Legend entries in a row above the plot area: (name, colour, dash pattern or blank).
+
+    Each swatch draws what the chart draws for its series: a block, a line, or a mark ('dot': a dot
+    on a whisker, as an observed rate with its interval; 'diamond': an open diamond on the line).
+    """
     x, y = frame.left, frame.top - 14
     parts = []
-    for name, colour, dash in entries:
+    for number, (name, colour, dash) in enumerate(entries):
+        mark = marks[number] if number < len(marks) else ""
         if swatch == "block":
             parts.append(_rect(x, y - 8, 12, 10, colour))
+        elif mark == "dot":
+            parts.append(_line(x + 9, y - 9, x + 9, y + 3, colour=colour, width=1.5) + _dot(x + 9, y - 3, colour, radius=3.5))
         else:
             parts.append(_line(x, y - 3, x + 18, y - 3, colour=colour, width=2, dash=dash))
+            if mark == "diamond":
+                parts.append(_diamond(x + 9, y - 3, colour))
         parts.append(_text(x + 24, y + 1, name))
         x += 24 + len(name) * FONT_SIZE * CHARACTER_WIDTH + 18
     return "".join(parts)
@@ -553,9 +565,9 @@ def _bar_row(frame: Frame, row: int, label: str, full: str, value: float, colour
     top = frame.top + row * BAR_HEIGHT + 4
     start, end = sorted((frame.x(0.0), frame.x(value)))
     bar = _rect(start, top, end - start, BAR_HEIGHT - 8, colour, tooltip=f"{full}: {value:.4f}")
-    name = _text(frame.left - 8, top + BAR_HEIGHT / 2, label, anchor="end")
+    name = _text(frame.left - 8, top + BAR_HEIGHT / 2, label, anchor="end", full=full)
     step = 0.01 if not percent else 0.001
     figure_x = end + 4 if value >= 0 else start - 4
     figure = _text(figure_x, top + BAR_HEIGHT / 2 - 1, _tick_text(value, step, percent),
-                   anchor="start" if value >= 0 else "end", colour=MUTED, size=FONT_SIZE - 1)
+                   anchor="start" if value >= 0 else "end", colour=MUTED)
     return bar + name + figure

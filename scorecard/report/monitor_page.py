@@ -448,13 +448,18 @@ def _quarter_table(result: MonitorResult) -> Table:
 def _quarter_charts(result: MonitorResult) -> list:
     quarters = result.quarters
     labels = [q.period for q in quarters]
-    psi = {"score": [q.score_stability.value for q in quarters],
-           "largest of the characteristics": [max((c.psi.value for c in q.characteristics), default=0.0) for q in quarters]}
+    psi = {"score": [q.score_stability.value for q in quarters]}
+    # one characteristic, named: the one that moved most over the whole ledger
+    moved = max(result.overall.characteristics, key=lambda c: c.psi.value, default=None)
+    if moved is not None:
+        psi[moved.characteristic] = [next(c.psi.value for c in q.characteristics if c.characteristic == moved.characteristic)
+                                     for q in quarters]
+    named = f" and of {moved.characteristic}" if moved is not None else ""
     found = [captioned_chart(
         charts.clustered_columns(labels, psi, x_label="quarter", y_label="PSI against development",
-                               title="Score PSI and the largest characteristic PSI by quarter", width=460),
-        f"PSI of the score and the largest PSI of any model characteristic, per quarter "
-        f"(watch from {result.checks.psi_watch:g}, act from {result.checks.psi_act:g}).")]
+                               title=f"PSI of the score{named} by quarter", width=460),
+        f"PSI of the score{named}, the model characteristic whose PSI over the whole ledger is the largest, per "
+        f"quarter (watch from {result.checks.psi_watch:g}, act from {result.checks.psi_act:g}).")]
     known = [q for q in quarters if q.outcomes is not None]
     if known:
         rates = {"observed": [q.outcomes.in_the_large.observed_rate for q in known],

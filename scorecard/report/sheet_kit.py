@@ -39,8 +39,16 @@ RISKY_TEXT_START = ("=", "+", "-", "@")
 TEXT_LIMIT = 32767  # the most characters a spreadsheet cell holds
 HEADER_FILL = PatternFill("solid", fgColor="E6EBE0")
 INPUT_FILL = PatternFill("solid", fgColor="FFF4D6")
-BOLD = Font(bold=True)
-TITLE_FONT = Font(bold=True, size=14)
+FONT_NAME, FONT_SIZE = "Calibri", 11  # one family for every cell: the workbook default's, named wherever a font is set
+BOLD = Font(name=FONT_NAME, size=FONT_SIZE, bold=True)
+TITLE_FONT = Font(name=FONT_NAME, bold=True, size=14)
+# Printing: landscape A4 with the spreadsheet programs' default margins (0.7 inch a side) leaves 10.29
+# inches of width; no sheet prints its 11-point text below 8 points, so a sheet is fitted to the page's
+# width only while that scales it by 8/11 or more, and is otherwise printed across pages at that scale
+# with its header rows and first columns repeated on each.
+PAGE_WIDTH_POINTS = (11.69 - 2 * 0.7) * 72
+SMALLEST_PRINTED_POINTS = 8
+ACROSS_SCALE = 75  # per cent: 11-point text prints at 8.25 points
 WRAP = Alignment(wrap_text=True, vertical="top")
 SAMPLE_COLOURS = ("2F5D8A", "C8553D", "6A994E")  # development, hold-out, out-of-time dots
 
@@ -64,9 +72,52 @@ def save_workbook(book: Workbook, path: str | os.PathLike[str]) -> Path:
     OSError
         The folder cannot be made or written to; any earlier file at ``path`` is left as it was.
     """
+    for sheet in book.worksheets:
+        printable(sheet)
     with replacing(path) as temporary:
         book.save(temporary)
     return Path(path)
+
+
+def printable(sheet: Worksheet) -> None:
+    """Set a sheet up to print landscape on A4 with no text below ``SMALLEST_PRINTED_POINTS``.
+
+    A sheet whose columns fit the page's width at a scale of 8/11 or more is fitted to it; a wider
+    one is printed across several pages at ``ACROSS_SCALE`` per cent, repeating the rows down to its
+    header and its first column (or the frozen ones) on every page.
+    """
+    sheet.page_setup.orientation = "landscape"
+    sheet.page_setup.paperSize = sheet.PAPERSIZE_A4
+    if fitting_scale(sheet) * FONT_SIZE >= SMALLEST_PRINTED_POINTS:
+        sheet.page_setup.fitToWidth, sheet.page_setup.fitToHeight = 1, 0
+        sheet.sheet_properties.pageSetUpPr.fitToPage = True
+        return
+    sheet.sheet_properties.pageSetUpPr.fitToPage = False
+    sheet.page_setup.scale = ACROSS_SCALE
+    frozen = sheet.freeze_panes
+    frozen_cell = sheet[frozen] if frozen else None
+    header_row = frozen_cell.row - 1 if frozen_cell is not None and frozen_cell.row > 1 else HEADER_ROW
+    columns = frozen_cell.column - 1 if frozen_cell is not None and frozen_cell.column > 1 else 1
+    sheet.print_title_rows = f"1:{header_row}"
+    sheet.print_title_cols = f"A:{get_column_letter(columns)}"
+
+
+def fitting_scale(sheet: Worksheet) -> float:
+    """The scale at which a sheet's used columns fit the printed page's width (1 when they fit as they are)."""
+    return min(1.0, PAGE_WIDTH_POINTS / sheet_width_points(sheet))
+
+
+def sheet_width_points(sheet: Worksheet) -> float:
+    """The printed width of a sheet's used columns: a column w characters wide is 7w + 5 pixels, 0.75 point each."""
+    total = 0.0
+    for column in range(1, sheet.max_column + 1):
+        dimension = sheet.column_dimensions.get(get_column_letter(column))
+        width = dimension.width if dimension is not None and dimension.width else DEFAULT_COLUMN_WIDTH
+        total += (7 * width + 5) * 0.75
+    return total
+
+
+DEFAULT_COLUMN_WIDTH = 8.43  # characters: a column the sheet sets no width for
 
 
 class Formula(str):
@@ -186,11 +237,22 @@ def write_frame(sheet: Worksheet, frame: pd.DataFrame, *, row: int = HEADER_ROW,
     if caption:
         text_cell(sheet, row - 1, column, caption, bold=True)
     columns = header_cells(sheet, row, column, [str(name) for name in frame.columns])
+    for name in frame.columns:  # a number column's header sits right, over the numbers, however wide the column
+        if _numbers(frame[name]):
+            sheet.cell(row=row, column=columns[str(name)]).alignment = Alignment(wrap_text=True, vertical="bottom",
+                                                                                horizontal="right")
     for offset, name in enumerate(frame.columns):
         number_format = formats.get(str(name))
         for position, value in enumerate(frame[name].tolist(), start=row + 1):
             value_cell(sheet, position, column + offset, value, number_format=number_format)
     return Placed(sheet, row, row + 1, row + len(frame), columns)
+
+
+def _numbers(values: pd.Series) -> bool:
+    """Whether a column holds numbers (a formula counts as one), with at least one present."""
+    present = [v for v in values.tolist() if v is not None and not (isinstance(v, float) and math.isnan(v))]
+    return bool(present) and all(isinstance(v, (int, float, np.integer, np.floating, Formula)) and not isinstance(v, bool)
+                                 for v in present)
 
 
 def write_pairs(sheet: Worksheet, pairs: Iterable[tuple[str, object]], *, row: int, column: int = 1,
@@ -236,11 +298,8 @@ def freeze_header(sheet: Worksheet, header_row: int = HEADER_ROW, *, columns: in
 
 
 def print_across(sheet: Worksheet) -> None:
-    """Print landscape, all columns on the width of one page."""
+    """Print landscape (``printable`` settles, when the book is saved, whether on one page's width or across pages)."""
     sheet.page_setup.orientation = "landscape"
-    sheet.page_setup.fitToWidth = 1
-    sheet.page_setup.fitToHeight = 0
-    sheet.sheet_properties.pageSetUpPr.fitToPage = True
 
 
 def fit_widths(sheet: Worksheet, *, from_row: int = CAPTION_ROW + 1, minimum: float = 8, maximum: float = 60) -> None:
