@@ -1,4 +1,5 @@
-"""The build, stage by stage: intake, classing, selection and fit, points, score histograms.
+"""The build, stage by stage: intake, classing, selection and fit, points, score histograms; and, with reject
+inference, the same again on the booked applications and the inferred rejects.
 
 This module only wires the stages together; each stage's arithmetic lives in its own room, and
 the rows are the row source's (``scorecard.rows``).
@@ -19,12 +20,49 @@ import pandas as pd
 from .checks.discrimination import auc, ks_statistic
 from .classing import ClassedCharacteristic, ClassedLedger, class_ledger, classing_settings_values
 from .errors import ScorecardWarning
-from .intake import Fingerprint, Ledger, open_ledger, rows_in_memory
+from .intake import Fingerprint, Ledger, open_ledger, rows_in_memory, with_inferred_rejects
 from .points import PointsTable, points_table, scaling
-from .rows import InProcessRows, PatternTable, ScoreHistogram
+from .rejects import BandRates, InferredRejects, band_rates, infer_rejects
+from .rows import InProcessRows, PatternTable, ScoreHistogram, score_codes, score_histogram
 from .scoring import Scorecard
 from .selection import Decision, SelectionResult, select_characteristics
 from .settings import Settings
+from .terms import DEVELOPMENT_NAME, NO_INFERENCE
+
+
+@dataclass(frozen=True)
+class RejectInference:
+    """Reject inference in a build: the accepted-only model beside the one delivered, and the rejects' figures.
+
+    Attributes
+    ----------
+    inferred : InferredRejects
+        The in-time rejects' accepted-only scores and their inferred shares of bad.
+    accepted_selection : SelectionResult
+        The choice and fit of the accepted-only model.
+    accepted_scorecard : Scorecard
+        The accepted-only scorecard.
+    accepted_histograms : dict of str to ScoreHistogram
+        The accepted-only scorecard's score histogram of the booked applications, per sample.
+    bands : BandRates
+        Bad rates by band: development accepts as observed, in-time rejects as inferred.
+    rejected : ScoreHistogram
+        The in-time rejects' scores on the scorecard delivered (their weight among the others).
+    n_rejects : int
+        Rejected applications in the ledger, in time or not.
+    """
+
+    inferred: InferredRejects
+    accepted_selection: SelectionResult
+    accepted_scorecard: Scorecard
+    accepted_histograms: Mapping[str, ScoreHistogram]
+    bands: BandRates
+    rejected: ScoreHistogram
+    n_rejects: int
+
+    def accepted_performance(self) -> dict[str, dict[str, float]]:
+        """AUC, Gini and KS of the accepted-only scorecard per sample of booked applications."""
+        return performance_of(self.accepted_histograms)
 
 
 @dataclass(frozen=True)
@@ -49,6 +87,10 @@ class Build:
         Score histogram per sample name.
     notes : tuple of str
         Every repair, left-out column and broken constraint, for the report.
+    rejects : RejectInference or None
+        With reject inference: the accepted-only model and the rejects' figures (the scorecard
+        above is the one fitted with the inferred rejects; its histograms are of booked
+        applications only, whose outcomes are known).
     """
 
     settings: Settings
@@ -60,6 +102,7 @@ class Build:
     scorecard: Scorecard
     histograms: Mapping[str, ScoreHistogram]
     notes: tuple[str, ...]
+    rejects: RejectInference | None = None
 
     def characteristic(self, name: str) -> ClassedCharacteristic:
         """Return one classed characteristic by name."""
@@ -71,13 +114,18 @@ class Build:
         The model file keeps them: monitoring tests a new quarter's AUC against the most honest
         sample's, with the variances of both.
         """
-        figures = {}
-        for sample, histogram in self.histograms.items():
-            if histogram.goods.sum() > 0 and histogram.bads.sum() > 0:
-                area = auc(histogram.scores, histogram.goods, histogram.bads)
-                ks = ks_statistic(histogram.scores, histogram.goods, histogram.bads)
-                figures[sample] = {"auc": area.auc, "auc_std_error": area.std_error, "gini": area.gini, "ks": ks.statistic}
-        return figures
+        return performance_of(self.histograms)
+
+
+def performance_of(histograms: Mapping[str, ScoreHistogram]) -> dict[str, dict[str, float]]:
+    """Return AUC (with its DeLong standard error), Gini and KS per sample whose histogram has goods and bads."""
+    figures = {}
+    for sample, histogram in histograms.items():
+        if histogram.goods.sum() > 0 and histogram.bads.sum() > 0:
+            area = auc(histogram.scores, histogram.goods, histogram.bads)
+            ks = ks_statistic(histogram.scores, histogram.goods, histogram.bads)
+            figures[sample] = {"auc": area.auc, "auc_std_error": area.std_error, "gini": area.gini, "ks": ks.statistic}
+    return figures
 
 
 def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settings: Settings, *,
@@ -125,13 +173,49 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
             ledger, rows = data, rows or rows_in_memory(data)
         else:
             ledger, rows = open_ledger(data, settings, stream=stream)
+    model = _model(ledger, rows, settings, clock, progress)
+    with clock("points and scoring"):
+        histograms = rows.score_histograms(model.binnings, model.table, kept=model.classed.kept)
+    rejects, notes = None, ()
+    if ledger.rejects is not None and ledger.rejects.in_time.any() and settings.rejects.method != NO_INFERENCE:
+        with clock("reject inference"):
+            model, rejects, notes = _infer_rejects(ledger, settings, model, histograms, clock, progress)
+            histograms = rows.score_histograms(model.binnings, model.table)  # booked rows, with their known outcomes
+    for name in model.selection.chosen:
+        if model.classed.get(name).evidence.leakage_flag:
+            warnings.warn(
+                f"{name!r} is in the model with an IV above {settings.selection.leakage_iv} (flagged for a leakage check): "
+                "check it is known at the time of application; if not, set use = \"never\" under "
+                f"[characteristics.{name}] and build again.", ScorecardWarning, stacklevel=2,
+            )
+    resolved = _resolved_settings(settings, model.classed)
+    notes = (*ledger.notes, *model.classed.notes, *notes)
+    return Build(resolved, ledger.source, ledger.fingerprint, ledger.sample_summary(), model.classed.characteristics,
+                 model.selection, model.scorecard, histograms, notes, rejects)
+
+
+@dataclass(frozen=True)
+class _Model:
+    """One pass of classing, selection, fit and points over some rows."""
+
+    classed: ClassedLedger
+    selection: SelectionResult
+    table: PointsTable
+    scorecard: Scorecard
+
+    @property
+    def binnings(self) -> tuple:
+        return self.scorecard.binnings
+
+
+def _model(ledger: Ledger, rows: InProcessRows, settings: Settings, clock, progress) -> _Model:
+    """Class every characteristic, choose and fit the model, and scale it to points."""
     with clock("classing"):
         classed = class_ledger(ledger, settings, rows=rows, progress=progress)
-    names = classed.names
     with clock("pattern table"):
         choice, final_table = _pattern_tables(classed, rows)
     with clock("selection and fit"):
-        forced = [name for name in names if settings.characteristic(name).use == "always"]
+        forced = [name for name in classed.names if settings.characteristic(name).use == "always"]
         selection = select_characteristics(
             choice, {c.name: c.evidence.woe for c in classed.characteristics},
             {c.name: c.evidence.iv for c in classed.characteristics},
@@ -141,22 +225,52 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
     left_out = tuple(Decision("settings" if why.startswith("use = never") else "intake", name, "left out", why)
                      for name, why in ledger.left_out.items())
     selection = replace(selection, log=left_out + selection.log)
-    for name in selection.chosen:
-        if classed.get(name).evidence.leakage_flag:
-            warnings.warn(
-                f"{name!r} is in the model with an IV above {settings.selection.leakage_iv} (flagged for a leakage check): "
-                "check it is known at the time of application; if not, set use = \"never\" under "
-                f"[characteristics.{name}] and build again.", ScorecardWarning, stacklevel=2,
-            )
     with clock("points and scoring"):
         table = _points(selection, classed, settings)
-        binnings = tuple(classed.get(name).binning for name in table.names)
-        scorecard = Scorecard(table, binnings, settings.ledger.id_column)
-        histograms = rows.score_histograms(binnings, table, kept=classed.kept)
-    resolved = _resolved_settings(settings, classed)
-    notes = (*ledger.notes, *classed.notes)
-    return Build(resolved, ledger.source, ledger.fingerprint, ledger.sample_summary(), classed.characteristics,
-                 selection, scorecard, histograms, notes)
+        scorecard = Scorecard(table, tuple(classed.get(name).binning for name in table.names), settings.ledger.id_column)
+    return _Model(classed, selection, table, scorecard)
+
+
+def _infer_rejects(ledger: Ledger, settings: Settings, accepted: _Model, histograms, clock, progress):
+    """Infer the in-time rejects' goods and bads from the accepted-only model, and fit the model again with them.
+
+    The classes stay those of the accepted-only classing (so that the build is reproducible from
+    its resolved settings); their WoE, the choice of characteristics and the fit are made again on
+    the booked applications and the inferred rejects together. Notes of the second pass (a shape
+    the inferred rejects bend, say) are kept as notes, not warnings.
+    """
+    rejected = ledger.rejects
+    in_time = np.flatnonzero(rejected.in_time)
+    scores = _rejects_scores(ledger, in_time, accepted.scorecard)
+    inferred = infer_rejects(_rejects_histogram(ledger, in_time, scores), histograms[DEVELOPMENT_NAME],
+                             accepted.table.scaling.pd_of_score, method=settings.rejects.method,
+                             factor=settings.rejects.factor, n_bands=settings.checks.bands)
+    augmented = with_inferred_rejects(ledger, inferred.bad_share_of(scores))
+    fixed = _resolved_settings(settings, accepted.classed)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", ScorecardWarning)
+        model = _model(augmented, rows_in_memory(augmented), fixed, clock, progress)
+    origins = {c.name: c.origin for c in accepted.classed.characteristics}
+    characteristics = tuple(replace(c, origin=origins[c.name]) for c in model.classed.characteristics)
+    model = replace(model, classed=replace(model.classed, characteristics=characteristics, notes=()))
+    notes = tuple(dict.fromkeys(f"With the inferred rejects: {w.message}" for w in caught
+                                if issubclass(w.category, ScorecardWarning)))
+    result = RejectInference(
+        inferred=inferred, accepted_selection=accepted.selection, accepted_scorecard=accepted.scorecard,
+        accepted_histograms=histograms, bands=band_rates(histograms[DEVELOPMENT_NAME], inferred, n_bands=settings.checks.bands),
+        rejected=_rejects_histogram(ledger, in_time, _rejects_scores(ledger, in_time, model.scorecard)),
+        n_rejects=rejected.n_rows,
+    )
+    return model, result, notes
+
+
+def _rejects_scores(ledger: Ledger, in_time: np.ndarray, scorecard: Scorecard) -> np.ndarray:
+    return score_codes(scorecard.codes(ledger.rejects.frame.iloc[in_time], source=ledger.source), scorecard.table)
+
+
+def _rejects_histogram(ledger: Ledger, in_time: np.ndarray, scores: np.ndarray) -> ScoreHistogram:
+    none = np.zeros(len(in_time), dtype=bool)  # no outcome: every reject counts among the others
+    return score_histogram(scores, none, none, ledger.rejects.weight[in_time], sample="rejected")
 
 
 def _pattern_tables(classed: ClassedLedger, rows: InProcessRows):

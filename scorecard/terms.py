@@ -14,6 +14,13 @@ import numpy as np
 # Outcome codes of a row, as intake maps them; the names are the words the reports use.
 GOOD, BAD, INDETERMINATE, UNKNOWN = 0, 1, 2, 3
 OUTCOME_NAMES = ("good", "bad", "indeterminate", "unknown")
+# A rejected application (never booked, so never an outcome): a code of intake's alone, since intake
+# sets rejected rows apart before any count table is made.
+REJECTED = 4
+
+# Reject inference: how the rejected applications enter the model (the settings' rejects.method).
+NO_INFERENCE, FUZZY_AUGMENTATION, PARCELLING, HARD_CUTOFF = "none", "fuzzy-augmentation", "parcelling", "hard-cutoff"
+REJECT_METHODS = (NO_INFERENCE, FUZZY_AUGMENTATION, PARCELLING, HARD_CUTOFF)
 
 # Sample codes of a row, and the samples' names in the order every table lists them.
 DEVELOPMENT, HOLDOUT, OUT_OF_TIME = 0, 1, 2

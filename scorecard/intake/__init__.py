@@ -13,8 +13,8 @@ user sees them (the header is row 1).
 """
 
 from .kinds import closest_names, detect_kind, looks_like_identifier_or_date, unusable_reason
-from .ledger import Characteristic, Fingerprint, Ledger, fingerprint_of
-from .prepare import open_ledger, prepare_ledger, rows_in_memory, stream_ledger
+from .ledger import Characteristic, Fingerprint, Ledger, RejectedRows, fingerprint_of
+from .prepare import open_ledger, prepare_ledger, rows_in_memory, stream_ledger, with_inferred_rejects
 from .read import csv_delimiter, ledger_columns, read_batches, read_ledger
 from .roles import default_outcome_mapping, outcome_key, unit_weights
 from .samples import split_samples
@@ -22,6 +22,6 @@ from .samples import split_samples
 __all__ = [
     "Characteristic", "Fingerprint", "Ledger", "closest_names", "csv_delimiter", "default_outcome_mapping",
     "detect_kind", "fingerprint_of", "ledger_columns", "looks_like_identifier_or_date", "open_ledger", "outcome_key",
-    "prepare_ledger", "read_batches", "read_ledger", "rows_in_memory", "split_samples", "stream_ledger", "unit_weights",
-    "unusable_reason",
+    "prepare_ledger", "read_batches", "read_ledger", "RejectedRows", "rows_in_memory", "split_samples", "stream_ledger",
+    "unit_weights", "unusable_reason", "with_inferred_rejects",
 ]

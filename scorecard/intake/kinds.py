@@ -35,8 +35,11 @@ def role_columns(frame: pd.DataFrame, settings: Settings, source: str, require_o
     target = settings.outcome.column
     if not target and require_outcome:
         raise LedgerError(f"{source}: no outcome column named. Give it with --target COLUMN or as column under [outcome] in the settings file.")
+    decision = settings.rejects.decision_column
+    # new applications have no decision yet: the decision column is needed to build only
     named = {"outcome column": target if require_outcome else "", "id column": ledger.id_column,
-             "date column": ledger.date_column, "weight column": ledger.weight_column}
+             "date column": ledger.date_column, "weight column": ledger.weight_column,
+             "decision column (rejects.decision_column)": decision if require_outcome else ""}
     for role, column in named.items():
         if column and column not in columns:
             raise LedgerError(f"{source}: {role} {column!r} not found.{closest_names(column, columns)}")
@@ -50,7 +53,7 @@ def role_columns(frame: pd.DataFrame, settings: Settings, source: str, require_o
                 f"{source}: [characteristics.{name}] in the settings names no column of the ledger.{closest_names(name, columns)} "
                 "Correct the name in the settings file (or remove the section)."
             )
-    return {c for c in (target, ledger.id_column, ledger.date_column, ledger.weight_column, *ledger.leave_out) if c}
+    return {c for c in (target, ledger.id_column, ledger.date_column, ledger.weight_column, decision, *ledger.leave_out) if c}
 
 
 def choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[str],

@@ -49,6 +49,34 @@ class Fingerprint:
 
 
 @dataclass(frozen=True)
+class RejectedRows:
+    """The rejected applications of a ledger: never booked, so without an outcome; set apart from the samples.
+
+    Attributes
+    ----------
+    frame : pandas.DataFrame
+        Their characteristic columns.
+    weight : numpy.ndarray
+        Case weight of each.
+    in_time : numpy.ndarray
+        Whether each was made before ``samples.out_of_time_from`` (all, without one): only these
+        enter reject inference, as the development sample is in time.
+    rows : numpy.ndarray
+        Their 0-based rows in the ledger as read.
+    """
+
+    frame: pd.DataFrame
+    weight: np.ndarray
+    in_time: np.ndarray
+    rows: np.ndarray
+
+    @property
+    def n_rows(self) -> int:
+        """Number of rejected applications."""
+        return len(self.weight)
+
+
+@dataclass(frozen=True)
 class Ledger:
     """A checked ledger: characteristic columns, outcome, weights and samples, aligned by row.
 
@@ -78,6 +106,9 @@ class Ledger:
     subsamples : mapping of str to numpy.ndarray
         Ascending row numbers of the seeded sub-samples of a large development sample
         ('classing', 'selection'; ``scorecard.intake.samples.draw_subsamples``).
+    rejects : RejectedRows or None
+        The rejected applications, set apart from every other field (those hold the booked
+        applications only), when the settings name them and the ledger has some.
     """
 
     source: str
@@ -92,6 +123,7 @@ class Ledger:
     fingerprint: Fingerprint
     left_out: Mapping[str, str] = field(default_factory=dict)
     subsamples: Mapping[str, np.ndarray] = field(default_factory=dict)
+    rejects: RejectedRows | None = None
 
     @property
     def n_rows(self) -> int:

@@ -9,6 +9,7 @@ from __future__ import annotations
 import os
 import warnings
 from collections.abc import Sequence
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -18,11 +19,14 @@ from ..errors import LedgerError, ScorecardWarning
 from ..rows import BATCH_READABLE, InProcessRows, reads_in_batches
 from ..rows.keys import split_keys
 from ..settings import Settings
+from ..terms import BAD, DEVELOPMENT, GOOD, OUT_OF_TIME, REJECTED, UNKNOWN
 from .kinds import check_finite, choose_characteristics, role_columns
-from .ledger import Fingerprint, Ledger, fingerprint_of
+from .ledger import Fingerprint, Ledger, RejectedRows, fingerprint_of
 from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, read_head, read_ledger
 from .roles import check_roles, role_values, unit_weights
-from .samples import draw_subsamples, frame_tie_texts, key_columns, needs_keys, sample_keys, split_samples
+from .samples import (
+    draw_subsamples, frame_tie_texts, key_columns, needs_keys, out_of_time, sample_keys, split_samples,
+)
 
 
 def open_ledger(data: pd.DataFrame | str | os.PathLike[str], settings: Settings, *, stream: bool | None = None,
@@ -96,22 +100,43 @@ def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "Da
     check_finite(frame, characteristics, source)
     outcome, weight, dates = role_values(frame, settings, source)
     repairs = check_roles(outcome, weight, settings, source, require_outcome=require_outcome)
+    if fingerprint is None:
+        fingerprint = fingerprint_of(frame, len(frame))
+    rejects = None
+    if (outcome == REJECTED).any() and require_outcome:
+        in_time = out_of_time(dates, settings, n_rows=len(frame), source=source) != OUT_OF_TIME  # dates checked on every row
+        frame, outcome, weight, dates, rejects = _set_rejects_apart(frame, outcome, weight, dates, in_time, characteristics)
+    elif not require_outcome:
+        outcome = np.where(outcome == REJECTED, UNKNOWN, outcome).astype(np.int8)  # scored and monitored like any other
     keys = sample_keys(frame, settings) if require_outcome and needs_keys(len(frame), settings) else None
     tie_texts = frame_tie_texts(frame, settings)
     sample = split_samples(outcome, dates, settings, keys=keys, tie_texts=tie_texts, source=source)
     subsamples = draw_subsamples(sample, outcome, keys, settings, tie_texts=tie_texts) if keys is not None else {}
     ids = frame[settings.ledger.id_column].to_numpy() if settings.ledger.id_column else None
     kept = frame[[c.name for c in characteristics]]
-    if fingerprint is None:
-        fingerprint = fingerprint_of(frame, len(frame))
     notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
+    if rejects is not None:
+        notes.append(f"{source}: {rejects.n_rows:,} rejected applications set apart from the samples "
+                     f"({int(rejects.in_time.sum()):,} made in time); reject inference: {settings.rejects.method}.")
     for note in repairs:
         warnings.warn(note, ScorecardWarning, stacklevel=2)
     return Ledger(
         source=source, frame=kept, characteristics=tuple(characteristics), outcome=outcome, weight=weight,
         sample=sample, dates=dates, ids=ids, notes=tuple(notes), fingerprint=fingerprint, left_out=left_out,
-        subsamples=subsamples,
+        subsamples=subsamples, rejects=rejects,
     )
+
+
+def _set_rejects_apart(frame, outcome, weight, dates, in_time, characteristics):
+    """The booked applications alone (frame, outcome, weight, dates), and the rejected ones apart."""
+    rejected = outcome == REJECTED
+    rows = np.flatnonzero(rejected)
+    rejects = RejectedRows(frame.iloc[rows][[c.name for c in characteristics]].reset_index(drop=True),
+                           np.array(weight[rows], dtype=float), in_time[rows], rows)
+    booked = np.flatnonzero(~rejected)
+    weight = unit_weights(len(booked)) if weight.strides == (0,) else weight[booked]
+    return (frame.iloc[booked].reset_index(drop=True), outcome[booked], weight,
+            None if dates is None else dates[booked], rejects)
 
 
 def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require_outcome: bool = True):
@@ -150,8 +175,8 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
     roles = role_columns(head, settings, source_name, require_outcome)
     characteristics, left_out = choose_characteristics(head, settings, roles, source_name)
     types = arrow_types(head, exact=[settings.ledger.id_column])
-    role_names = [c for c in (settings.outcome.column, settings.ledger.weight_column, settings.ledger.date_column)
-                  if c and c in head.columns]
+    role_names = [c for c in (settings.outcome.column, settings.ledger.weight_column, settings.ledger.date_column,
+                              settings.rejects.decision_column) if c and c in head.columns]
     drawn = require_outcome and needs_keys(len(head) if len(head) < HEAD_ROWS else None, settings)
     keyed = key_columns(head.columns, settings) if drawn else []
     first_pass = list(dict.fromkeys([*role_names, *keyed])) or list(head.columns[:1])
@@ -166,6 +191,14 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
               split_keys(frame, keyed, settings.samples.seed) if drawn else None)
              for first_row, frame in file_batches(path, suffix, first_pass, types, batch_rows)]
     outcome = np.concatenate([p[0] for p in parts])
+    if (outcome == REJECTED).any():
+        if require_outcome:
+            raise LedgerError(
+                f"{source_name}: rejected applications can be set apart only from a ledger read whole, and this one is read "
+                "in batches. Build without --stream (ledger.stream_above_mb larger than the file), or leave the rejected "
+                "rows out of the file."
+            )
+        outcome = np.where(outcome == REJECTED, UNKNOWN, outcome).astype(np.int8)
     weight = np.concatenate([p[1] for p in parts]) if settings.ledger.weight_column else unit_weights(len(outcome))
     dates = np.concatenate([p[2] for p in parts]) if settings.ledger.date_column else None
     keys = np.concatenate([p[3] for p in parts]) if drawn else None
@@ -193,3 +226,36 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
         fingerprint=fingerprint_of(path, len(outcome)), left_out=left_out, subsamples=subsamples,
     )
     return ledger, batches
+
+
+def with_inferred_rejects(ledger: Ledger, bad_share: np.ndarray) -> Ledger:
+    """Return the booked applications with every in-time reject added twice to the development sample: once as a
+    good, once as a bad, weighted by its weight times one minus its share of bad, and times its share of bad.
+
+    Parameters
+    ----------
+    ledger : Ledger
+        A ledger held in memory, with rejected applications set apart.
+    bad_share : numpy.ndarray
+        The inferred share of bad of each in-time reject, in ledger order.
+
+    Returns
+    -------
+    Ledger
+        A part of no weight is left out (it is not a row). Sub-samples of a large ledger keep their
+        booked rows and take in every added one; the rejects are no longer apart.
+    """
+    rejected = ledger.rejects
+    in_time = np.flatnonzero(rejected.in_time)
+    weight = rejected.weight[in_time]
+    good_weight, bad_weight = weight * (1.0 - bad_share), weight * bad_share
+    good, bad = in_time[good_weight > 0], in_time[bad_weight > 0]
+    frame = pd.concat([ledger.frame, rejected.frame.iloc[good], rejected.frame.iloc[bad]], ignore_index=True)
+    n_booked, n_added = ledger.n_rows, len(good) + len(bad)
+    outcome = np.concatenate([ledger.outcome, np.full(len(good), GOOD, np.int8), np.full(len(bad), BAD, np.int8)])
+    weights = np.concatenate([ledger.weight, good_weight[good_weight > 0], bad_weight[bad_weight > 0]])
+    sample = np.concatenate([ledger.sample, np.full(n_added, DEVELOPMENT, np.int8)])
+    added = np.arange(n_booked, n_booked + n_added)
+    subsamples = {purpose: np.concatenate([drawn, added]) for purpose, drawn in ledger.subsamples.items()}
+    return replace(ledger, frame=frame, outcome=outcome, weight=weights, sample=sample, dates=None, ids=None,
+                   subsamples=subsamples, rejects=None)

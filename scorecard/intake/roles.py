@@ -12,12 +12,13 @@ import pandas as pd
 
 from ..errors import LedgerError, describe_rows
 from ..settings import Settings
-from ..terms import BAD, GOOD, INDETERMINATE, UNKNOWN, value_text
+from ..terms import BAD, GOOD, INDETERMINATE, REJECTED, UNKNOWN, value_text
 
 
 def role_values(frame: pd.DataFrame, settings: Settings, source: str, *, first_row: int = 0):
     """Return the outcome code, weight and date (or None) of every row, checking each value."""
-    outcome = map_outcome(frame, settings, source, first_row=first_row)
+    outcome = mark_rejected(frame, map_outcome(frame, settings, source, first_row=first_row), settings, source,
+                            first_row=first_row)
     weight = _weights(frame, settings.ledger.weight_column, source, first_row=first_row)
     column = settings.ledger.date_column
     dates = _dates(frame, column, source, first_row=first_row) if column and column in frame.columns else None
@@ -59,7 +60,7 @@ def map_outcome(frame: pd.DataFrame, settings: Settings, source: str, *, first_r
         raise LedgerError(
             f"{source}, column {column!r}, {describe_rows(first_rows.tolist())}: "
             f"value{'s' if len(unmapped) > 1 else ''} {shown} {'are' if len(unmapped) > 1 else 'is'} not a mapped outcome. "
-            "Add each under [outcome] in the settings file as good, bad or indeterminate (or use --bad/--good)."
+            "Add each under [outcome] in the settings file as good, bad, indeterminate or rejected (or use --bad/--good)."
         )
     lookup = np.array([mapping[k] for k in keys] + [UNKNOWN], dtype=np.int8)
     return lookup[codes]  # the sentinel -1 picks the last entry: unknown
@@ -102,7 +103,32 @@ def _outcome_mapping(settings: Settings, keys: Sequence[str]) -> dict[str, int]:
     mapping = {value: BAD for value in bad}
     mapping.update({value: GOOD for value in good})
     mapping.update({value: INDETERMINATE for value in outcome.indeterminate})
+    mapping.update({value: REJECTED for value in outcome.rejected})
     return mapping
+
+
+def mark_rejected(frame: pd.DataFrame, outcome: np.ndarray, settings: Settings, source: str, *, first_row: int = 0) -> np.ndarray:
+    """Return the outcome codes with every application the decision column calls rejected marked ``REJECTED``.
+
+    Raises
+    ------
+    LedgerError
+        A rejected application has a good, bad or indeterminate outcome: one that was never booked
+        cannot have one. The message names the rows.
+    """
+    column = settings.rejects.decision_column
+    if not column or column not in frame.columns:
+        return outcome
+    rejected = frame[column].map(outcome_key, na_action="ignore").isin(settings.rejects.rejected).to_numpy()
+    booked = rejected & np.isin(outcome, (GOOD, BAD, INDETERMINATE))
+    if booked.any():
+        rows = np.flatnonzero(booked) + 2 + first_row
+        raise LedgerError(
+            f"{source}, column {column!r}, {describe_rows(rows.tolist())}: the decision says rejected, but column "
+            f"{settings.outcome.column!r} gives an outcome ({n_rows_text(int(booked.sum()))}). A rejected application has no "
+            "outcome: correct the decision or the outcome, or check rejects.rejected in the settings file."
+        )
+    return np.where(rejected, REJECTED, outcome).astype(np.int8)
 
 
 def _check_both_classes(outcome: np.ndarray, source: str, column: str) -> None:

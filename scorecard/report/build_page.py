@@ -19,11 +19,13 @@ import numpy as np
 from markupsafe import Markup
 
 from .. import __version__
+from ..checks.discrimination import band_labels, band_of, score_bands
 from ..files import write_text_atomically
+from ..rows import merge_histograms
 from ..settings import settings_to_toml
 from ..terms import ACT_PSI, DEVELOPMENT_NAME, NUMERIC, WATCH_PSI, most_honest, shape_words
 from ..validation import review_flags
-from . import CAUTION, charts
+from . import CAUTION, REJECT_CAUTION, charts
 from .page_kit import (
     ADJUSTED_MARK, DASH, NOT_COMPUTED, Cell, classed_by, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text,
     interval_text, level_text, library_versions, p_value_text, percent_text, psi_table, score_text, signed_text,
@@ -42,6 +44,7 @@ SECTIONS = (
     ("calibration", "Calibration"),
     ("stability", "Stability"),
     ("cutoffs", "Cut-offs"),
+    ("rejects", "Reject inference"),
     ("cautions", "Cautions and limits"),
     ("reproducibility", "Reproducibility"),
 )
@@ -89,6 +92,9 @@ def render_report(build, validation, *, generated_by: str = "") -> str:
         "stability": _stability(build, validation),
         "cutoffs": _cutoffs(validation, build.scorecard.table.decimals,
                             every_level=build.settings.checks.cutoff_step == 0),
+        "rejects": _rejects(build),
+        "rejects_note": "rejects.method = none" if build.settings.rejects.method == "none" else
+                        "the ledger holds no rejected application made in time",
         "cautions": _cautions(build),
         "reproducibility": _reproducibility(build, generated_by),
     }
@@ -475,6 +481,105 @@ def _fit(build) -> dict:
 
 
 # --------------------------------------------------------------------------------------------
+# 11. Reject inference
+
+THROUGH_THE_DOOR_BANDS = 10  # equal-population bands of the through-the-door scores, for their distribution
+
+
+def _rejects(build) -> dict:
+    rejects = build.rejects
+    if rejects is None:
+        return {}
+    inferred, settings = rejects.inferred, build.settings.rejects
+    factor = "" if inferred.method == "fuzzy-augmentation" else f" with factor {settings.factor:g}"
+    n_in_time = float(inferred.rejects.sum())
+    intro = (
+        f"The ledger holds {count_text(rejects.n_rejects)} rejected applications; the {count_text(n_in_time)} made in time "
+        f"entered the model as inferred goods and bads by {inferred.method}{factor}, from their scores on the scorecard "
+        "fitted to the booked applications alone (the accepted-only scorecard). The scorecard of this report is the one "
+        "fitted with them, on the accepted-only classes with their WoE counted again; every other figure of the report "
+        "is of booked applications, whose outcomes are known."
+    )
+    return {"intro": intro, "caution": REJECT_CAUTION, "comparison": _reject_comparison(build),
+            "bands": _reject_bands(rejects), **_through_the_door(build)}
+
+
+def _reject_comparison(build) -> Table:
+    rejects = build.rejects
+    accepted_table = rejects.accepted_scorecard.table
+    booked_accepted = _in_time(rejects.accepted_histograms)
+    booked_delivered = _in_time(build.histograms)
+    accepted_rejects = _predicted_bads(rejects.inferred.scores, rejects.inferred.rejects, accepted_table)
+    delivered_rejects = _predicted_bads(rejects.rejected.scores, rejects.rejected.everyone, build.scorecard.table)
+    n_rejects = rejects.inferred.rejects.sum()
+    n_booked = booked_delivered.everyone.sum()
+    rows = [["characteristics in the model", str(len(accepted_table.names)), str(len(build.scorecard.table.names))]]
+    accepted_figures, delivered_figures = rejects.accepted_performance(), build.performance()
+    for sample in delivered_figures:
+        rows.append([f"AUC, {sample} sample (booked)", fixed_text(accepted_figures.get(sample, {}).get("auc", math.nan), 4),
+                     fixed_text(delivered_figures[sample]["auc"], 4)])
+    rows += [
+        ["predicted bad rate of the in-time rejects", percent_text(accepted_rejects / n_rejects),
+         percent_text(delivered_rejects / n_rejects)],
+        ["predicted bad rate through the door (in time)",
+         percent_text((accepted_rejects + _predicted_bads(booked_accepted.scores, booked_accepted.everyone, accepted_table))
+                      / (n_rejects + n_booked)),
+         percent_text((delivered_rejects + _predicted_bads(booked_delivered.scores, booked_delivered.everyone,
+                                                            build.scorecard.table)) / (n_rejects + n_booked))],
+        ["inferred bad rate of the in-time rejects", DASH, percent_text(rejects.inferred.bad_rate)],
+    ]
+    return text_table(["figure", "accepted-only scorecard", "scorecard with the inferred rejects"], rows, numeric=(1, 2),
+                      caption="The accepted-only scorecard beside the one fitted with the inferred rejects. AUCs are of "
+                              "booked applications; predicted bad rates are the mean PD of the scores.")
+
+
+def _in_time(histograms):
+    in_time = [histograms[name] for name in ("development", "hold-out") if name in histograms]
+    return merge_histograms(in_time)
+
+
+def _predicted_bads(scores, counts, table) -> float:
+    return float(np.asarray(counts) @ table.scaling.pd_of_score(np.asarray(scores, float)))
+
+
+def _reject_bands(rejects) -> Table:
+    bands = rejects.bands
+    rows = [[label, count_text(accepts), percent_text(accept_rate), count_text(rejected), percent_text(reject_rate)]
+            for label, accepts, accept_rate, rejected, reject_rate in zip(
+                bands.labels, bands.accepts, bands.accept_bad_rate, bands.rejects, bands.reject_bad_rate)]
+    return text_table(["accepted-only score band", "accepts", "accepts' bad rate (observed)", "rejects",
+                       "rejects' bad rate (inferred)"], rows, numeric=range(1, 5),
+                      caption="Bands of equal numbers of development accepts on the accepted-only scorecard: the accepts' "
+                              "bad rate as observed, the in-time rejects' as inferred.")
+
+
+def _through_the_door(build) -> dict:
+    booked, rejected = _in_time(build.histograms), build.rejects.rejected
+    everyone = merge_histograms([booked, rejected])
+    edges = score_bands(everyone.scores, everyone.everyone, n_bands=THROUGH_THE_DOOR_BANDS)
+    labels = band_labels(edges)
+    booked_counts = np.bincount(band_of(booked.scores, edges), weights=booked.everyone, minlength=len(labels))
+    rejected_counts = np.bincount(band_of(rejected.scores, edges), weights=rejected.everyone, minlength=len(labels))
+    total = booked_counts + rejected_counts
+    table = text_table(
+        ["score band", "applications", "booked", "rejected", "share rejected"],
+        [[label, count_text(t), count_text(b), count_text(r), percent_text(r / t if t else math.nan)]
+         for label, t, b, r in zip(labels, total, booked_counts, rejected_counts)],
+        numeric=range(1, 5),
+        caption="The through-the-door population (in time: development and hold-out samples and the in-time rejects) "
+                "on the scorecard of this report, in bands of about equal numbers of applications.",
+    )
+    chart = captioned_chart(
+        charts.clustered_columns(labels, {"booked": booked_counts / booked_counts.sum(),
+                                          "rejected": rejected_counts / rejected_counts.sum()},
+                                 x_label="score band", y_label="share", percent=True,
+                                 title="Scores of the booked and the rejected applications, through the door"),
+        "Share of the booked and of the rejected applications in each band of the through-the-door scores.",
+    )
+    return {"through_the_door": table, "chart": chart}
+
+
+# --------------------------------------------------------------------------------------------
 # 6. The points table
 
 
@@ -714,10 +819,16 @@ def _shown_cutoffs(cutoffs: np.ndarray, approval_rate: np.ndarray, ks_score: flo
 
 def _cautions(build) -> list[str]:
     outcome = build.settings.outcome
+    declined = (
+        "Applicants who were declined never had an outcome, and no reject inference was done, so scores of applicants "
+        "unlike past approvals are less certain than the figures here suggest." if build.rejects is None else
+        f"Applicants who were declined never had an outcome; reject inference ({build.rejects.inferred.method}) gave "
+        "them outcomes that rest on assumptions these data cannot test (see Reject inference), so scores of applicants unlike "
+        "past approvals are less certain than the figures here suggest."
+    )
     limits = [
         "The model describes past applicants who were approved and whose loans ran long enough to be called good "
-        "or bad. Applicants who were declined never had an outcome, and no reject inference was done, so scores "
-        "of applicants unlike past approvals are less certain than the figures here suggest.",
+        f"or bad. {declined}",
         "Figures on the development sample are optimistic: the classing, the choice of characteristics and the "
         "coefficients were all fitted to it. Judge the scorecard on the hold-out and out-of-time samples.",
         "Stepwise selection makes the p-values of the final fit smaller than they would be for a model fixed in "

@@ -42,7 +42,7 @@ from openpyxl.worksheet.worksheet import Worksheet
 from ..settings import settings_reference
 from ..terms import DEVELOPMENT_NAME, SAMPLE_NAMES
 from ..validation import review_flags
-from . import CAUTION
+from . import CAUTION, REJECT_CAUTION
 from .page_kit import NOT_COMPUTED, classed_by, degrees_of_freedom_rule
 from .sheet_kit import (
     AUC, CAPTION_ROW, COUNT, FIRST_ROW, Formula, HEADER_ROW, INPUT_FILL, P_VALUE, Placed, RATE, SAMPLE_COLOURS,
@@ -762,7 +762,11 @@ LIMITS = (
 def _cautions_sheet(sheet: Worksheet, build, validation) -> None:
     sheet_heading(sheet, "Cautions", "What this workbook does not replace, the limits of its figures, and the notes "
                                      "of this build.")
-    text_sections(sheet, [("Caution", [CAUTION]), ("Limits of these figures", LIMITS),
+    inference = [] if build.rejects is None else [("Reject inference", [
+        f"The scorecard was fitted with the rejected applications' outcomes inferred by {build.rejects.inferred.method} "
+        f"(in-time rejects' inferred bad rate {build.rejects.inferred.bad_rate:.2%}); the report's section on reject "
+        "inference sets it beside the accepted-only scorecard.", REJECT_CAUTION])]
+    text_sections(sheet, [("Caution", [CAUTION]), *inference, ("Limits of these figures", LIMITS),
                           ("Notes of this build", _build_notes(build, validation))], first_row=CAPTION_ROW + 1)
 
 

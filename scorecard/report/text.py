@@ -49,6 +49,12 @@ def build_summary(build) -> str:
     for sample, values in build.performance().items():
         figures.append((sample, f"{values['auc']:.4f}", f"{values['gini']:.4f}", f"{values['ks']:.4f}"))
     lines += _aligned(figures, numeric=(1, 2, 3))
+    if build.rejects is not None:
+        inferred, before = build.rejects.inferred, build.rejects.accepted_performance()
+        shown = "; ".join(f"{sample} {values['auc']:.4f}" for sample, values in before.items())
+        lines += ["", f"reject inference: {inferred.method}, {inferred.rejects.sum():,.0f} in-time rejects at an inferred "
+                  f"bad rate of {inferred.bad_rate:.2%}; the figures above are of booked applications. The accepted-only "
+                  f"scorecard's AUC: {shown}. Reject inference rests on assumptions the data cannot test (see the report)."]
     return "\n".join(lines)
 
 

@@ -12,15 +12,16 @@ A settings file is TOML. ``scorewright init`` writes one with proposals; the ana
 from .read import read_settings, settings_from_mapping
 from .schema import (
     SECTIONS, CharacteristicSettings, CheckSettings, ClassingSettings, FitSettings, LedgerSettings, OutcomeSettings,
-    ProposalSettings, ReasonSettings, ReportSettings, SampleSettings, ScalingSettings, SelectionSettings, Settings,
-    settings_reference,
+    ProposalSettings, ReasonSettings, RejectSettings, ReportSettings, SampleSettings, ScalingSettings, SelectionSettings,
+    Settings, settings_reference,
 )
 from .text import toml_value
 from .write import edit_settings, settings_to_mapping, settings_to_toml, write_settings
 
 __all__ = [
     "SECTIONS", "CharacteristicSettings", "CheckSettings", "ClassingSettings", "FitSettings", "LedgerSettings",
-    "OutcomeSettings", "ProposalSettings", "ReasonSettings", "ReportSettings", "SampleSettings", "ScalingSettings", "SelectionSettings",
+    "OutcomeSettings", "ProposalSettings", "ReasonSettings", "RejectSettings", "ReportSettings", "SampleSettings",
+    "ScalingSettings", "SelectionSettings",
     "Settings", "edit_settings", "read_settings", "settings_from_mapping", "settings_reference", "settings_to_mapping",
     "settings_to_toml", "toml_value", "write_settings",
 ]

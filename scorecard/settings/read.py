@@ -203,7 +203,8 @@ def _check_consistency(settings: Settings, source: str) -> None:
     if list(checks.grades) != sorted(set(checks.grades)):
         raise SettingsError(f"{source}: checks.grades must be strictly ascending score boundaries.")
     roles = {"outcome.column": settings.outcome.column, "ledger.id_column": settings.ledger.id_column,
-             "ledger.date_column": settings.ledger.date_column, "ledger.weight_column": settings.ledger.weight_column}
+             "ledger.date_column": settings.ledger.date_column, "ledger.weight_column": settings.ledger.weight_column,
+             "rejects.decision_column": settings.rejects.decision_column}
     taken: dict[str, str] = {}
     for key, column in roles.items():
         if column and column in taken:
@@ -217,11 +218,17 @@ def _check_consistency(settings: Settings, source: str) -> None:
         )
     outcome = settings.outcome
     seen: dict[str, str] = {}
-    for role in ("bad", "good", "indeterminate"):
+    for role in ("bad", "good", "indeterminate", "rejected"):
         for value in getattr(outcome, role):
             if value in seen:
                 raise SettingsError(f"{source}: outcome value {value!r} is listed both as {seen[value]} and as {role}. Keep it in one list.")
             seen[value] = role
+    rejects = settings.rejects
+    if bool(rejects.decision_column) != bool(rejects.rejected):
+        raise SettingsError(
+            f"{source}: rejects.decision_column and rejects.rejected go together: name the column that holds the "
+            "decision and the values in it that mean rejected, or neither."
+        )
     for name, char in settings.characteristics.items():
         where = f"characteristics.{name}"
         if char.cuts is not None:

@@ -15,7 +15,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from ..terms import ACT_P, ACT_PSI, BAD_RATE_SHAPES, COEFFICIENT_RANGE, FROM_DATA, GINI_DROP, LEAKAGE_IV, WATCH_P, WATCH_PSI
+from ..terms import (
+    ACT_P, ACT_PSI, BAD_RATE_SHAPES, COEFFICIENT_RANGE, FROM_DATA, GINI_DROP, LEAKAGE_IV, REJECT_METHODS, WATCH_P, WATCH_PSI,
+)
 from .text import toml_value
 
 
@@ -70,6 +72,9 @@ class OutcomeSettings:
     bad: tuple[str, ...] = _key((), "values meaning bad (with a 0/1 column and nothing set: 1)")
     good: tuple[str, ...] = _key((), "values meaning good (with a 0/1 column and nothing set: 0)")
     indeterminate: tuple[str, ...] = _key((), "values meaning neither; kept for scoring, left out of fitting")
+    rejected: tuple[str, ...] = _key(
+        (), "values meaning the application was rejected, so its outcome was never known; set apart for reject inference",
+    )
 
 
 @dataclass(frozen=True)
@@ -238,6 +243,22 @@ class FitSettings:
 
 
 @dataclass(frozen=True)
+class RejectSettings:
+    """Rejected applications and reject inference."""
+
+    decision_column: str = _key("", "column holding the lending decision on each application (blank: none)")
+    rejected: tuple[str, ...] = _key((), "values of decision_column meaning the application was rejected")
+    method: str = _key(
+        "none", "reject inference: none (the model is fitted on accepted applications only), fuzzy-augmentation, "
+        "parcelling or hard-cutoff", _one_of(*REJECT_METHODS), "one of " + ", ".join(REJECT_METHODS),
+    )
+    factor: float = _key(
+        2.0, "how many times the bad rate the accepted-only evidence gives them the rejects are taken to have: by score "
+        "band (parcelling) or in all (hard-cutoff); common practice, no source", lambda v: v > 0, "a positive number",
+    )
+
+
+@dataclass(frozen=True)
 class ScalingSettings:
     """How log-odds become points."""
 
@@ -290,6 +311,7 @@ SECTIONS: dict[str, type] = {
     "classing": ClassingSettings,
     "selection": SelectionSettings,
     "fit": FitSettings,
+    "rejects": RejectSettings,
     "scaling": ScalingSettings,
     "reasons": ReasonSettings,
     "checks": CheckSettings,
@@ -307,6 +329,7 @@ class Settings:
     classing: ClassingSettings = field(default_factory=ClassingSettings)
     selection: SelectionSettings = field(default_factory=SelectionSettings)
     fit: FitSettings = field(default_factory=FitSettings)
+    rejects: RejectSettings = field(default_factory=RejectSettings)
     scaling: ScalingSettings = field(default_factory=ScalingSettings)
     reasons: ReasonSettings = field(default_factory=ReasonSettings)
     checks: CheckSettings = field(default_factory=CheckSettings)
