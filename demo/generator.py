@@ -832,6 +832,62 @@ _NUMERIC_TERMS = {
 }
 
 
+# ---------------------------------------------------------------------------------------------
+# Rejected applications: the cooperative's earlier lending policy, and what the rejected would have done
+#
+# Invented scenario, no outside source. Before this scorecard the cooperative decided by a simple
+# points rule on the bureau score, arrears and recent enquiries, and a loan officer's judgement at
+# interview, which saw a little of what was to come. It declined REJECT_SHARE of the applications.
+# The ledger of a lender keeps no outcome for them; the generator knows what each would have done.
+
+DECISION_COLUMN = "decision"
+DECISIONS = ("approved", "declined")
+REJECT_SHARE = 0.15
+# how strongly the officer's judgement leans on an applicant who was going to go bad (log-odds units)
+JUDGEMENT_SIGHT = 1.0
+_REJECTIONS_STREAM = 16  # spawn key of the random stream of the judgement, apart from every block's
+
+
+def with_rejections(frame: pd.DataFrame, *, seed: int = 2024, share: float = REJECT_SHARE) -> tuple[pd.DataFrame, np.ndarray]:
+    """Return the ledger as the cooperative's earlier policy would have left it, and every row's true outcome.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        A ledger from ``generate_ledger`` (every application booked, every outcome known).
+    seed : int
+        Seed of the loan officers' judgement.
+    share : float
+        The share of applications declined: those the earlier policy found riskiest.
+
+    Returns
+    -------
+    (pandas.DataFrame, numpy.ndarray)
+        A copy of the ledger with a ``decision`` column ('approved' or 'declined'); a declined
+        application has no outcome and no collections status (it was never booked). And the
+        outcome each application had in ``frame``, what the declined ones would have done.
+
+    Notes
+    -----
+    The policy's risk is -0.006 per bureau point above 610 (0.45 without a bureau file), 0.3 per
+    step of worst arrears, 0.5 for three or more recent enquiries, and the officer's judgement:
+    normal noise plus ``JUDGEMENT_SIGHT`` for an applicant who was going to go bad. So the declined
+    are worse than booked applicants with the same characteristics, as reject inference assumes.
+    """
+    rng = np.random.default_rng(np.random.SeedSequence(seed, spawn_key=(_REJECTIONS_STREAM,)))
+    truth = frame[TARGET].astype(str).to_numpy()
+    bureau = _as_float(frame["bureau_score"])
+    risk = (np.where(np.isnan(bureau), 0.45, -0.006 * (bureau - 610)) + 0.3 * _as_float(frame["worst_arrears_24m"])
+            + 0.5 * (_as_float(frame["enquiries_6m"]) >= 3) + JUDGEMENT_SIGHT * (truth == "bad")
+            + rng.standard_normal(len(frame)))
+    declined = risk > np.quantile(risk, 1 - share)
+    result = frame.copy()
+    result[DECISION_COLUMN] = pd.Categorical.from_codes(declined.astype(np.int8), categories=DECISIONS)
+    result[TARGET] = result[TARGET].where(~declined)
+    result[LEAKING] = result[LEAKING].where(~declined)
+    return result, truth
+
+
 def _write_csv(chunks: Iterable[pd.DataFrame], path: str) -> None:
     """Write chunks to one CSV file with a single header and ISO dates."""
     with open(path, "w", newline="", encoding="utf-8") as handle:

@@ -23,6 +23,7 @@ from scorecard.settings import toml_value
 BUILD_QUARTERS = 6  # 2024Q1 to 2025Q2: the history the scorecard is built on
 OUT_OF_TIME_FROM = "2025-01-01"  # the last two of those quarters are kept out of time
 SPECIAL = ("months_since_delinquency=-1:no missed payment on record", "months_since_last_enquiry=999:no enquiry on record")
+REJECTED = f"{generator.DECISION_COLUMN}=declined"  # the applications the earlier policy declined: no outcome
 
 
 def run_demo(options: DemoOptions, streams: Streams) -> int:
@@ -41,7 +42,8 @@ def run_demo(options: DemoOptions, streams: Streams) -> int:
     steps = [
         ("Propose a classing of every characteristic and write the settings file",
          ["init", str(history), "--target", "outcome", "--bad", "bad", "--good", "good", "--indeterminate", "indeterminate",
-          "--out-of-time-from", OUT_OF_TIME_FROM, "--special", *SPECIAL, "--out", str(settings), "--force"]),
+          "--out-of-time-from", OUT_OF_TIME_FROM, "--special", *SPECIAL, "--rejected", REJECTED,
+          "--out", str(settings), "--force"]),
         ("The analyst's decisions, recorded in the settings file", "decisions"),
         ("Build the scorecard: selection, fit, points, checks, reports",
          ["build", str(settings), "--out", str(out / "build"), "--force"]),
@@ -73,16 +75,19 @@ def run_demo(options: DemoOptions, streams: Streams) -> int:
 
 def _write_ledgers(data: Path, *, rows: int, seed: int, streams):
     streams.say(f"== step 1 of 6: Generate the ledgers of {generator.SCENARIO_NAME} (invented), {rows:,} applications over eight quarters")
-    frame = generator.generate_ledger(rows, seed=seed)
+    frame, _ = generator.with_rejections(generator.generate_ledger(rows, seed=seed), seed=seed)
     quarter = generator.quarter_index(frame)
     history = generator.write_ledger(frame[quarter < BUILD_QUARTERS], data / "history.csv")
     later = frame[quarter >= BUILD_QUARTERS]
-    applications = generator.write_ledger(later.drop(columns=[generator.TARGET, generator.LEAKING]), data / "new_applications.csv")
+    applications = generator.write_ledger(later.drop(columns=[generator.TARGET, generator.LEAKING, generator.DECISION_COLUMN]),
+                                          data / "new_applications.csv")
     recent = generator.write_ledger(later, data / "recent_outcomes.csv")
     names = generator.quarter_names()
-    streams.say(f"  {history}: {names[0]} to {names[BUILD_QUARTERS - 1]}, {int((quarter < BUILD_QUARTERS).sum()):,} applications with outcomes")
+    declined = int((frame[generator.DECISION_COLUMN].eq("declined") & (quarter < BUILD_QUARTERS)).sum())
+    streams.say(f"  {history}: {names[0]} to {names[BUILD_QUARTERS - 1]}, {int((quarter < BUILD_QUARTERS).sum()):,} applications: "
+                f"{declined:,} declined by the earlier policy (no outcome), the rest with outcomes")
     streams.say(f"  {applications}: {names[BUILD_QUARTERS]} to {names[-1]}, {len(later):,} applications to score")
-    streams.say(f"  {recent}: the same applications with the outcomes known a year later")
+    streams.say(f"  {recent}: the same applications with the decisions, and the outcomes known a year later")
     return history, applications, recent
 
 

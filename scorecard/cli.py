@@ -110,6 +110,9 @@ def _add_ledger_options(parser: argparse.ArgumentParser, *, only: str = "") -> N
     parser.add_argument("--leave-out", nargs="+", default=(), metavar="COLUMN", help=f"columns that are not characteristics (e.g. recorded after the decision){only}")
     parser.add_argument("--out-of-time-from", default="", metavar="YYYY-MM-DD", help=f"rows dated on or after this date form the out-of-time sample{only}")
     parser.add_argument("--holdout", type=float, metavar="SHARE", help=f"share of the in-time rows kept back as the hold-out sample (default 0.3){only}")
+    parser.add_argument("--rejected", default="", metavar="COLUMN=V[,V]",
+                        help=f"the decision column and its values meaning rejected, e.g. 'decision=declined': those "
+                             f"applications are set apart (reject inference: rejects.method in the settings){only}")
 
 
 def _ledger_choices(args: argparse.Namespace) -> dict:
@@ -117,7 +120,7 @@ def _ledger_choices(args: argparse.Namespace) -> dict:
     return dict(bad=tuple(args.bad), good=tuple(args.good), indeterminate=tuple(args.indeterminate),
                 id_column=args.id_column, date_column=args.date_column, weight_column=args.weight_column,
                 special=tuple(args.special), leave_out=tuple(args.leave_out), out_of_time_from=args.out_of_time_from,
-                holdout=args.holdout)
+                holdout=args.holdout, rejected=args.rejected)
 
 
 def _init_options(args: argparse.Namespace) -> InitOptions:

@@ -77,12 +77,13 @@ def _initial_settings(frame, options: InitOptions, source: str) -> Settings:
         indeterminate=options.indeterminate, id_column=options.id_column, date_column=options.date_column,
         weight_column=options.weight_column, special=options.special, folder=options.out.resolve().parent, source=source,
         leave_out=options.leave_out, out_of_time_from=options.out_of_time_from, holdout=options.holdout,
+        rejected=options.rejected,
     )
 
 
 def command_line_settings(frame, *, ledger: Path, target: str, bad=(), good=(), indeterminate=(), id_column=None,
                           date_column=None, weight_column=None, special=(), folder: Path, source: str, leave_out=(),
-                          out_of_time_from: str = "", holdout: float | None = None) -> Settings:
+                          out_of_time_from: str = "", holdout: float | None = None, rejected: str = "") -> Settings:
     """Return settings for a ledger from command-line choices, detecting the id and date columns."""
     columns = [str(c) for c in frame.columns]
     if target not in columns:
@@ -102,7 +103,7 @@ def command_line_settings(frame, *, ledger: Path, target: str, bad=(), good=(), 
         ledger={"path": os.path.relpath(ledger.resolve(), folder), "id_column": id_column or "",
                 "date_column": date_column or "", "weight_column": weight_column or "", "leave_out": tuple(leave_out)},
         outcome={"column": target, "bad": bad, "good": good, "indeterminate": tuple(indeterminate)},
-        samples=samples,
+        samples=samples, rejects=_rejected_option(rejected, columns),
         characteristics={name: CharacteristicSettings(special_values=values) for name, values in specials.items()},
     ))
     # validated like a settings file, so that a wrong option gets the same clear message
@@ -171,6 +172,19 @@ def _special_values(entries, columns, source: str) -> dict[str, tuple[tuple[floa
             raise SettingsError(f"--special {entry!r}: special values must be numbers, e.g. -1 or 999, each "
                                 "with its meaning after a colon.") from None
     return specials
+
+
+def _rejected_option(entry: str, columns) -> dict[str, object]:
+    """The rejects section of ``--rejected COLUMN=V[,V]``: the decision column and its values meaning rejected."""
+    if not entry:
+        return {}
+    name, _, text = entry.partition("=")
+    if not text or name not in columns:
+        raise SettingsError(
+            f"--rejected {entry!r}: write COLUMN=VALUE[,VALUE], with COLUMN the ledger's decision column and the values "
+            "that mean rejected, e.g. --rejected decision=declined."
+        )
+    return {"decision_column": name, "rejected": tuple(value.strip() for value in text.split(","))}
 
 
 def _proposals(ledger, classed: ClassedLedger, settings: Settings):
@@ -287,6 +301,7 @@ def _build_settings(options: BuildOptions) -> tuple[Settings, Path]:
         indeterminate=options.indeterminate, id_column=options.id_column, date_column=options.date_column,
         weight_column=options.weight_column, special=options.special, folder=source.resolve().parent, source=source.name,
         leave_out=options.leave_out, out_of_time_from=options.out_of_time_from, holdout=options.holdout,
+        rejected=options.rejected,
     )
     return settings, source
 
@@ -296,7 +311,8 @@ def _ledger_flags(options: BuildOptions) -> dict[str, object]:
     return {"--target": options.target, "--bad": options.bad, "--good": options.good,
             "--indeterminate": options.indeterminate, "--id": options.id_column, "--date": options.date_column,
             "--weight": options.weight_column, "--special": options.special, "--leave-out": options.leave_out,
-            "--out-of-time-from": options.out_of_time_from, "--holdout": options.holdout is not None}
+            "--out-of-time-from": options.out_of_time_from, "--holdout": options.holdout is not None,
+            "--rejected": options.rejected}
 
 
 def check_output_folder(out: Path, force: bool, *, outputs: tuple[str, ...] | None = None) -> None:

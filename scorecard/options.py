@@ -71,6 +71,7 @@ class InitOptions:
     leave_out: tuple[str, ...] = ()
     out_of_time_from: str = ""
     holdout: float | None = None
+    rejected: str = ""
     out: Path = Path("scorecard.toml")
     force: bool = False
 
@@ -100,6 +101,7 @@ class BuildOptions:
     leave_out: tuple[str, ...] = ()
     out_of_time_from: str = ""
     holdout: float | None = None
+    rejected: str = ""
     out: Path | None = None
     force: bool = False
     reports: bool = True

@@ -113,7 +113,7 @@ def test_init_prints_the_iv_table_sorted_and_aligned(ledger_csv, tmp_path):
     code, stdout, _ = run("init", ledger_csv, "--target", "outcome", "--bad", "bad", "--out", out)
     assert code == 0
     header, rows = iv_rows(stdout)
-    assert header.split() == ["characteristic", "kind", "bins", "IV", "strength", "flag"]
+    assert header.split() == ["characteristic", "kind", "bins", "IV", "strength", "bad", "rate", "flag"]
     names = [row.split()[0] for row in rows]
     assert sorted(names) == ["home", "income", "months_at_address"]
     ivs = [float(row.split()[3]) for row in rows]

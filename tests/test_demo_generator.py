@@ -338,3 +338,39 @@ def test_main_reports_bad_input_with_exit_code_2(tmp_path):
     code = main(["--rows", "10", "--out", str(tmp_path / "ledger.txt")], stdout=out, stderr=err)
     assert code == 2 and out.getvalue() == ""
     assert err.getvalue().startswith("scorewright: error:") and "'.txt'" in err.getvalue()
+
+
+# ---------------------------------------------------------------------------------------------
+# The rejected population (invented: the cooperative's earlier policy)
+
+
+@pytest.fixture(scope="module")
+def rejected(ledger):
+    return generator.with_rejections(ledger, seed=SEED)
+
+
+def test_the_earlier_policy_declines_its_share_and_they_keep_no_outcome(ledger, rejected):
+    decided, truth = rejected
+    declined = decided[generator.DECISION_COLUMN].eq("declined").to_numpy()
+    assert declined.sum() == round(generator.REJECT_SHARE * N_ROWS)  # the riskiest share, by the policy's risk
+    assert decided.loc[declined, TARGET].isna().all() and decided.loc[declined, LEAKING].isna().all()
+    assert decided.loc[~declined, TARGET].astype(str).eq(ledger.loc[~declined, TARGET].astype(str)).all()
+    np.testing.assert_array_equal(truth, ledger[TARGET].astype(str).to_numpy())  # what each would have done
+    assert ledger[TARGET].notna().all() and generator.DECISION_COLUMN not in ledger  # the input is not changed
+
+
+def test_the_declined_are_worse_than_their_characteristics_say(ledger, rejected):
+    # the loan officer's judgement saw some of what was to come, so the declined went bad more often than
+    # the true model of their characteristics predicts; the booked less often (invented, no source)
+    decided, truth = rejected
+    declined = decided[generator.DECISION_COLUMN].eq("declined").to_numpy()
+    probability = true_bad_probability(ledger)
+    went_bad = truth == "bad"
+    assert went_bad[declined].mean() > probability[declined].mean() + 0.05
+    assert went_bad[~declined].mean() < probability[~declined].mean()
+    assert probability[declined].mean() > 1.5 * probability[~declined].mean()  # and worse on paper, too
+
+
+def test_rejections_are_the_same_for_the_same_seed(ledger, rejected):
+    again, _ = generator.with_rejections(ledger, seed=SEED)
+    pd.testing.assert_frame_equal(again, rejected[0])

@@ -6,17 +6,21 @@ from pathlib import Path
 
 from ..classing import ClassedLedger
 from ..monitor import STATUSES
-from ..terms import NUMERIC
+from ..terms import ANY, FROM_DATA, NUMERIC
 
 
 def iv_table(classed: ClassedLedger, left_out: dict[str, str] | None = None) -> str:
     """Return an aligned text table of characteristics sorted by IV, strongest first."""
-    rows = [("characteristic", "kind", "bins", "IV", "strength", "flag")]
+    rows = [("characteristic", "kind", "bins", "IV", "strength", "bad rate", "flag")]
     ranked = sorted(classed.characteristics, key=lambda c: -c.evidence.iv)
     for char in ranked:
         flag = "check for leakage" if char.evidence.leakage_flag else ""
-        kind = "numeric" if char.binning.kind == NUMERIC else "categorical"
-        rows.append((char.name, kind, str(char.binning.n_bins), f"{char.evidence.iv:.4f}", char.evidence.strength, flag))
+        numeric = char.binning.kind == NUMERIC
+        # how the bad rate moves as the value grows (a categorical's classes have no order of their own)
+        ordered = numeric and char.binning.n_chain > 1 and char.binning.bad_rate_shape not in (ANY, FROM_DATA)
+        shape = char.binning.bad_rate_shape if ordered else ""
+        rows.append((char.name, "numeric" if numeric else "categorical", str(char.binning.n_bins), f"{char.evidence.iv:.4f}",
+                     char.evidence.strength, shape, flag))
     widths = [max(len(row[i]) for row in rows) for i in range(len(rows[0]))]
     aligned = ["  ".join(cell.rjust(w) if i in (2, 3) else cell.ljust(w) for i, (cell, w) in enumerate(zip(row, widths))).rstrip()
                for row in rows]
