@@ -28,7 +28,8 @@ soak: $(STAMP)
 	SCOREWRIGHT_ROUND_TRIP_ROWS=1000000 $(BIN)/python -m pytest -q tests/test_exports_engines.py -k round_trip
 
 # The programs the workbook and report checks drive (LibreOffice, Chromium), Java 17 for the PMML
-# evaluator the export checks run, and GNU time for the benchmarks. CI installs them.
+# evaluator the export checks run and for the Spark engine (pyspark runs on it), and GNU time for
+# the benchmarks. CI installs them (and .ci/run says plainly when Java is missing).
 SUDO := $(shell if [ "$$(id -u)" != 0 ] && command -v sudo >/dev/null; then echo sudo; fi)
 system-deps:
 	$(SUDO) apt-get update -qq

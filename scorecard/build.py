@@ -23,7 +23,7 @@ from .errors import ScorecardWarning
 from .intake import Fingerprint, Ledger, open_ledger, rows_in_memory, with_inferred_rejects
 from .points import PointsTable, points_table, scaling
 from .rejects import BandRates, InferredRejects, band_rates, infer_rejects
-from .rows import InProcessRows, PatternTable, ScoreHistogram, score_codes, score_histogram
+from .rows import InProcessRows, PatternTable, RowSource, ScoreHistogram, score_codes, score_histogram
 from .scoring import Scorecard
 from .selection import Decision, SelectionResult, select_characteristics
 from .settings import Settings
@@ -131,7 +131,7 @@ def performance_of(histograms: Mapping[str, ScoreHistogram]) -> dict[str, dict[s
 def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settings: Settings, *,
                     progress: Callable[[Iterable], Iterable] = lambda items: items,
                     timings: dict[str, float] | None = None, stream: bool | None = None,
-                    rows: InProcessRows | None = None) -> Build:
+                    rows: RowSource | None = None) -> Build:
     """Run the whole build: classing, selection, fit, points, histograms.
 
     Parameters
@@ -147,9 +147,9 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
         Read a ledger file in batches of ``ledger.batch_rows``, never whole (True), whole
         (False), or as ``scorecard.rows.reads_in_batches`` decides from its size (None). Only
         count tables are kept; the result is the same.
-    rows : InProcessRows, optional
-        The rows of ``data`` when it is a ``Ledger`` already opened with ``open_ledger``
-        (default: the ledger's own frame, held in memory).
+    rows : RowSource, optional
+        The rows of ``data`` when it is a ``Ledger`` already opened with ``open_ledger`` (in this
+        process, or kept by an engine; default: the ledger's own frame, held in memory).
 
     Returns
     -------
@@ -273,22 +273,21 @@ def _rejects_histogram(ledger: Ledger, in_time: np.ndarray, scores: np.ndarray) 
     return score_histogram(scores, none, none, ledger.rejects.weight[in_time], sample="rejected")
 
 
-def _pattern_tables(classed: ClassedLedger, rows: InProcessRows):
+def _pattern_tables(classed: ClassedLedger, rows: RowSource):
     """The pattern table the choice runs on, and a function making the final fit's table for some characteristics.
 
     When the choice runs on every development row, the final table is a subset of its table;
     otherwise the development rows are counted again for the chosen characteristics only, so
     that a large ledger's table never holds every candidate.
     """
-    fitting, chosen = rows.fitting_rows(), rows.fitting_rows("selection")
+    def table(subsample: str, columns: Sequence[str], *, final: bool = False) -> PatternTable:
+        return rows.pattern_table(subsample, [classed.get(name).binning for name in columns], kept=classed.kept, final=final)
 
-    def table(which: np.ndarray, columns: Sequence[str]) -> PatternTable:
-        return rows.pattern_table(which, [classed.get(name).binning for name in columns], kept=classed.kept)
-
-    choice = table(chosen, classed.names)
-    if len(chosen) == len(fitting):
+    choice = table("selection", classed.names)
+    if "selection" not in rows.subsamples:
         return choice, choice.subset
-    return choice, lambda columns: table(fitting, tuple(columns))
+    # the final table of a large ledger may stay where the rows are (an engine fits it there)
+    return choice, lambda columns: table("fitting", tuple(columns), final=True)
 
 
 class Stopwatch:

@@ -170,11 +170,22 @@ def _add_build(commands) -> None:
     parser.add_argument("--timings", action="store_true", help="print the seconds each stage took to stderr, as JSON (for benchmarks)")
     parser.add_argument("--stream", action="store_true",
                         help="read the ledger in batches, never whole (automatic above ledger.stream_above_mb); same result")
+    parser.add_argument("--engine", metavar="NAME", help="read and count the rows with this engine: in-process, duckdb or spark "
+                        "(default: ledger.engine)")
     _add_common(parser)
     parser.set_defaults(
         make_options=lambda a: BuildOptions(a.source, a.target, **_ledger_choices(a), out=a.out, force=a.force,
-                                            reports=a.reports, timings=a.timings, stream=a.stream),
+                                            reports=a.reports, timings=a.timings, stream=a.stream, engine=a.engine),
     )
+
+
+def _add_engine_options(parser: argparse.ArgumentParser) -> None:
+    """Where a new ledger's rows are, for score and monitor: an engine, and a table or a query instead of a file."""
+    parser.add_argument("--engine", metavar="NAME", default=None,
+                        help="read and count the rows with this engine: in-process (the default), duckdb or spark")
+    parser.add_argument("--table", default="", metavar="NAME",
+                        help="the table holding the ledger: in the DuckDB database LEDGER, or in Spark's catalog (no LEDGER)")
+    parser.add_argument("--query", default="", metavar="SQL", help="a SELECT whose rows are the ledger (run in the database LEDGER, if given)")
 
 
 def _add_score(commands) -> None:
@@ -188,16 +199,22 @@ def _add_score(commands) -> None:
         epilog=_examples(
             "scorewright score run1/model.json applications.csv --out scored.csv",
             "scorewright score run1/model.json applications.parquet --out scored.parquet --reasons 2",
+            "scorewright score run1/model.json warehouse.duckdb --engine duckdb --table applications --out-table scores",
         ),
     )
     parser.add_argument("model", type=Path, help="model.json written by 'scorewright build'")
-    parser.add_argument("ledger", type=Path, help="applications to score: CSV, Parquet or .xlsx")
-    parser.add_argument("--out", type=Path, required=True, metavar="FILE", help="scored file to write (.csv or .parquet)")
+    parser.add_argument("ledger", type=Path, nargs="?",
+                        help="applications to score: CSV, Parquet or .xlsx; through an engine also a folder of them or a DuckDB database")
+    parser.add_argument("--out", type=Path, metavar="FILE", help="scored file to write (.csv or .parquet; Spark writes .parquet)")
+    parser.add_argument("--out-table", default="", metavar="NAME",
+                        help="write the scores as a table instead, through the engine (into the DuckDB database LEDGER, or Spark's catalog)")
     parser.add_argument("--reasons", type=int, metavar="N", help="reasons per application (default: reasons.count of the model's settings)")
-    parser.add_argument("--force", action="store_true", help="overwrite FILE if it exists")
+    parser.add_argument("--force", action="store_true", help="overwrite FILE (or the table) if it exists")
     parser.add_argument("--stream", action="store_true", help="read and write in batches (automatic above ledger.stream_above_mb)")
+    _add_engine_options(parser)
     _add_common(parser)
-    parser.set_defaults(make_options=lambda a: ScoreOptions(a.model, a.ledger, a.out, a.reasons, a.force, a.stream))
+    parser.set_defaults(make_options=lambda a: ScoreOptions(a.model, a.ledger, a.out, a.reasons, a.force, a.stream,
+                                                            a.engine, a.table, a.query, a.out_table))
 
 
 def _add_monitor(commands) -> None:
@@ -213,16 +230,21 @@ def _add_monitor(commands) -> None:
         epilog=_examples(
             "scorewright monitor run1/model.json q3.csv --out q3/",
             "scorewright monitor run1/model.json latest.parquet --out checks/ --fail-on act",
+            "scorewright monitor run1/model.json --engine spark --table lake.applications_2025q3 --out q3/",
         ),
     )
     parser.add_argument("model", type=Path, help="model.json written by 'scorewright build'")
-    parser.add_argument("ledger", type=Path, help="the new applications: CSV, Parquet or .xlsx (outcome column optional)")
+    parser.add_argument("ledger", type=Path, nargs="?",
+                        help="the new applications: CSV, Parquet or .xlsx (outcome column optional); through an engine also "
+                             "a folder of them or a DuckDB database")
     parser.add_argument("--out", type=Path, metavar="DIR", help="output folder (default: NAME-monitor beside the ledger)")
     parser.add_argument("--fail-on", choices=("watch", "act"), help="exit with 1 when any check reaches this status")
     parser.add_argument("--force", action="store_true", help="write into the output folder even if it exists")
     parser.add_argument("--stream", action="store_true", help="read the ledger in batches (automatic above ledger.stream_above_mb)")
+    _add_engine_options(parser)
     _add_common(parser)
-    parser.set_defaults(make_options=lambda a: MonitorOptions(a.model, a.ledger, a.out, a.fail_on, a.force, a.stream))
+    parser.set_defaults(make_options=lambda a: MonitorOptions(a.model, a.ledger, a.out, a.fail_on, a.force, a.stream,
+                                                              a.engine, a.table, a.query))
 
 
 def _add_export(commands) -> None:

@@ -22,15 +22,16 @@ from .classing import ClassedLedger, class_ledger, classing_settings_values
 from .errors import LedgerError, SettingsError
 from .files import replacing, replacing_folder, write_text_atomically
 from .intake import (
-    closest_names, default_outcome_mapping, detect_kind, fingerprint_of, ledger_columns, looks_like_identifier_or_date,
-    open_ledger, outcome_key, prepare_ledger, read_batches, read_ledger,
+    closest_names, columns_of, default_outcome_mapping, detect_kind, fingerprint_of, ledger_columns, ledger_place,
+    looks_like_identifier_or_date, open_ledger, outcome_key, prepare_ledger, read_batches, read_ledger,
 )
 from .modelfile import load_model, model_document, save_model
 from .options import (
     EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, ExportOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions, Streams,
 )
 from .report.text import build_summary, iv_table, monitor_summary
-from .rows import reads_in_batches, tally_unseen
+from .terms import ENGINES, IN_PROCESS, SPARK
+from .rows import ordered_levels, reads_in_batches, tally_unseen
 from .settings import (
     CharacteristicSettings, Settings, edit_settings, read_settings, settings_from_mapping, settings_to_mapping, write_settings,
 )
@@ -229,18 +230,28 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     timings: dict[str, float] = {}
     clock = Stopwatch(timings)
     settings, ledger_path = _build_settings(options)
-    out = options.out or ledger_path.parent / f"{options.source.stem}-build"
+    if options.engine:
+        if options.engine not in ENGINES:
+            raise SettingsError(f"--engine {options.engine}: not an engine; use one of {', '.join(ENGINES)}.")
+        settings = replace(settings, ledger=replace(settings.ledger, engine=options.engine))
+    place = ledger_place(settings, path=ledger_path)
+    folder = ledger_path.parent if ledger_path else options.source.resolve().parent
+    out = options.out or folder / f"{options.source.stem}-build"
     check_output_folder(out, options.force, outputs=BUILD_OUTPUTS)
-    in_batches = reads_in_batches(ledger_path, settings.ledger.stream_above_mb, asked=options.stream or None)
+    in_batches = place.engine == IN_PROCESS and reads_in_batches(ledger_path, settings.ledger.stream_above_mb,
+                                                                 asked=options.stream or None)
     if in_batches:
         streams.note(f"reading {ledger_path.name} in batches of about {settings.ledger.batch_rows:,} rows")
     with clock("intake"):
-        ledger, rows = open_ledger(ledger_path, settings, stream=in_batches)
-    if not in_batches:
-        streams.note(f"read {ledger.n_rows:,} rows and {rows.frame.shape[1]} columns from {ledger_path.name}")
-    build = build_scorecard(ledger, settings, rows=rows, progress=lambda items: streams.progress(items, "classing"),
-                            timings=timings)
-    resolved = replace(build.settings, ledger=replace(build.settings.ledger, path=os.path.relpath(ledger_path.resolve(), out.resolve())))
+        ledger, rows = open_ledger(place, settings, stream=in_batches)
+    try:
+        _say_read(streams, ledger, place, in_batches)
+        build = build_scorecard(ledger, settings, rows=rows, progress=lambda items: streams.progress(items, "classing"),
+                                timings=timings)
+    finally:
+        rows.close()
+    path = os.path.relpath(ledger_path.resolve(), out.resolve()) if ledger_path else ""
+    resolved = replace(build.settings, ledger=replace(build.settings.ledger, path=path))
     summary = build_summary(build)
     # every output goes into a folder beside --out that replaces it whole at the end: a build that
     # fails at any step leaves the folder as it was
@@ -264,6 +275,14 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     return EXIT_OK
 
 
+def _say_read(streams: Streams, ledger, place, in_batches: bool) -> None:
+    """Say what was read, and where the rows are counted."""
+    if place.engine != IN_PROCESS:
+        streams.note(f"{ledger.n_rows:,} rows of {ledger.source} are kept and counted by {place.engine}")
+    elif not in_batches:
+        streams.note(f"read {ledger.n_rows:,} rows and {len(ledger.frame.columns)} columns from {ledger.source}")
+
+
 def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out: Path) -> list[Path]:
     """Run every validation check and write the HTML report and the workbook into ``folder``."""
     from .report.build_page import write_report
@@ -280,7 +299,7 @@ def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out:
     return [report, book]
 
 
-def _build_settings(options: BuildOptions) -> tuple[Settings, Path]:
+def _build_settings(options: BuildOptions) -> tuple[Settings, Path | None]:
     source = options.source
     if source.is_dir():
         raise SettingsError(f"{source}: is a folder. Give a settings file (.toml) or a ledger file.")
@@ -290,9 +309,11 @@ def _build_settings(options: BuildOptions) -> tuple[Settings, Path]:
             raise SettingsError(f"{source}: {', '.join(given)} {'is' if len(given) == 1 else 'are'} for building straight "
                                 "from a ledger; with a settings file, set them in the file (scorewright set).")
         settings = read_settings(source)
-        if not settings.ledger.path:
-            raise SettingsError(f"{source}: no ledger named. Set path under [ledger] to the ledger file.")
-        return settings, settings.ledger_path()
+        ledger = settings.ledger
+        if not ledger.path and not (ledger.table or ledger.query):
+            raise SettingsError(f"{source}: no ledger named. Set path under [ledger] to the ledger file "
+                                "(or, with an engine, table or query).")
+        return settings, settings.ledger_path() if ledger.path else None
     if not options.target:
         raise SettingsError(f"{source}: building straight from a ledger needs --target COLUMN (or give a settings file written by 'scorewright init').")
     frame = read_ledger(source)
@@ -345,18 +366,29 @@ def _temporary(name: str) -> bool:
 
 
 def run_score(options: ScoreOptions, streams: Streams) -> int:
-    """Score a ledger with a saved model and write the scored file (batch by batch for a large ledger)."""
-    if options.out.is_dir():
-        raise SettingsError(f"{options.out}: is a folder. Give --out a file name ending in .csv or .parquet.")
-    if options.out.exists() and not options.force:
-        raise SettingsError(f"{options.out}: the file exists. Pass --force to overwrite it, or choose another --out.")
-    if options.out.suffix.lower() not in (".csv", ".parquet"):
-        raise SettingsError(f"{options.out}: write the scored file as .csv or .parquet.")
+    """Score a ledger with a saved model and write the scored file (batch by batch for a large ledger), or, through
+    an engine, write the scores where the engine writes (a Parquet or CSV file, or a table)."""
     saved = load_model(options.model)
+    place = command_place(options, saved.settings)
+    if bool(options.out) == bool(options.out_table):
+        raise SettingsError("give where to write the scores: --out FILE, or --out-table NAME through an engine.")
+    if options.out_table and place.engine == IN_PROCESS:
+        raise SettingsError(f"--out-table {options.out_table}: a table is written through an engine; add --engine duckdb or --engine spark.")
+    if options.out:
+        if options.out.is_dir() and not (place.engine == SPARK and options.force):
+            raise SettingsError(f"{options.out}: is a folder. Give --out a file name ending in .csv or .parquet.")
+        if options.out.exists() and not options.force:
+            raise SettingsError(f"{options.out}: the file exists. Pass --force to overwrite it, or choose another --out.")
+        allowed = (".parquet",) if place.engine == SPARK else (".csv", ".parquet")
+        if options.out.suffix.lower() not in allowed:
+            raise SettingsError(f"{options.out}: write the scored file as {' or '.join(allowed)}"
+                                f"{' (Spark writes a folder of Parquet files)' if place.engine == SPARK else ''}.")
     scorecard = saved.scorecard
     count = saved.settings.reasons.count if options.reasons is None else options.reasons
     if count < 0:
         raise SettingsError(f"--reasons {count}: give 0 or more reasons.")
+    if place.engine != IN_PROCESS:
+        return _score_in_engine(options, saved, count, place, streams)
     source = options.ledger.name
     columns = ledger_columns(options.ledger)
     wanted = [b.characteristic for b in scorecard.binnings] + ([scorecard.id_column] if scorecard.id_column in columns else [])
@@ -384,13 +416,68 @@ def run_score(options: ScoreOptions, streams: Streams) -> int:
 
     write_tables_atomically(scored_batches(), options.out)
     for name, levels in unseen.items():
-        shown = ", ".join(f"{level!r} ({n} rows)" for level, n in list(levels.items())[:5])
-        binning = next(b for b in scorecard.binnings if b.characteristic == name)
-        streams.warn(f"{source}, column {name!r}: levels never seen at build time: {shown}"
-                     f"{' and more' if len(levels) > 5 else ''}; scored as {binning.labels[binning.unseen_bin]!r}.")
-    streams.note(f"scored {summary['rows']:,} applications; scores from {summary['low']:g} to {summary['high']:g}")
-    streams.say(f"written: {options.out}")
+        _warn_unseen(streams, source, next(b for b in scorecard.binnings if b.characteristic == name), ordered_levels(levels))
+    _say_scored(streams, summary, options.out)
     return EXIT_OK
+
+
+def _score_in_engine(options: ScoreOptions, saved, count: int, place, streams: Streams) -> int:
+    """Score every row where the engine holds it, and write the scores through the engine."""
+    from .intake.sql import typed_source
+    from .rows import connect, sql
+    from .rows.sqlrows import TYPED_SOURCE, levels_in, scored_query
+
+    scorecard = saved.scorecard
+    engine = connect(place, writable=bool(options.out_table))
+    try:
+        _, types = typed_source(engine, place, exact=[scorecard.id_column])
+        scorecard.codes(pd.DataFrame(columns=list(types)), source=engine.name)  # names a missing characteristic
+        if not scorecard.id_column or scorecard.id_column not in types:
+            raise LedgerError(
+                f"{engine.name}: scores written through an engine are keyed by the application's id, and the ledger has no "
+                f"column {scorecard.id_column or '(the model names no id column)'!r}. Add the id column (ledger.id_column of the model)."
+            )
+        kinds = {b.characteristic: sql.value_kind(types[b.characteristic]) for b in scorecard.binnings}
+        query = scored_query(engine, scorecard, kinds, reason_count=count, id_column=scorecard.id_column)
+        engine.write(query, path=options.out, table=options.out_table, force=options.force)
+        found = engine.arrow(f"SELECT count(*) AS n, min(score) AS low, max(score) AS high FROM ({query}) written").to_pylist()[0]
+        for binning in scorecard.binnings:
+            levels = levels_in(engine, TYPED_SOURCE, binning, kinds)
+            if levels:
+                _warn_unseen(streams, engine.name, binning, levels)
+    finally:
+        engine.close()
+    _say_scored(streams, {"rows": found["n"], "low": found["low"], "high": found["high"]},
+                options.out or f"table {options.out_table}")
+    return EXIT_OK
+
+
+def _warn_unseen(streams: Streams, source: str, binning, levels) -> None:
+    shown = ", ".join(f"{level!r} ({n} rows)" for level, n in list(levels.items())[:5])
+    streams.warn(f"{source}, column {binning.characteristic!r}: levels never seen at build time: {shown}"
+                 f"{' and more' if len(levels) > 5 else ''}; scored as {binning.labels[binning.unseen_bin]!r}.")
+
+
+def _say_scored(streams: Streams, summary, written) -> None:
+    streams.note(f"scored {summary['rows']:,} applications; scores from {summary['low']:g} to {summary['high']:g}")
+    streams.say(f"written: {written}")
+
+
+def command_place(options, settings: Settings):
+    """Where the ledger of score or monitor is: a file in process, or a file, table or query through an engine
+    (with the engine's settings of the model's settings file)."""
+    engine = options.engine or IN_PROCESS
+    if engine not in ENGINES:
+        raise SettingsError(f"--engine {engine}: not an engine; use one of {', '.join(ENGINES)}.")
+    if (options.table or options.query) and engine == IN_PROCESS:
+        flag = "--table" if options.table else "--query"
+        raise SettingsError(f"{flag} reads through an engine: add --engine duckdb or --engine spark.")
+    if options.table and options.query:
+        raise SettingsError("--table and --query are both given; give one (the query can read the table).")
+    if options.ledger is None and not (options.table or options.query):
+        raise SettingsError("give the ledger: a file, or --table NAME or --query SQL with --engine duckdb or spark.")
+    return ledger_place(settings, path="" if options.ledger is None else options.ledger, engine=engine,
+                        table=options.table, query=options.query)
 
 
 def write_tables_atomically(frames, path: Path) -> Path:
@@ -429,23 +516,31 @@ def run_monitor(options: MonitorOptions, streams: Streams) -> int:
     from .report.monitor_page import write_monitor
     from .report.monitor_sheets import write_monitor_workbook
 
+    if options.out is None and options.ledger is None:
+        raise SettingsError("give the output folder with --out when the ledger is a table or a query.")
     out = options.out or options.ledger.parent / f"{options.ledger.stem}-monitor"
     check_output_folder(out, options.force, outputs=MONITOR_OUTPUTS)
     saved = load_model(options.model)
-    source = options.ledger.name
-    settings = monitoring_settings(saved.settings, ledger_columns(options.ledger))
-    in_batches = reads_in_batches(options.ledger, settings.ledger.stream_above_mb, asked=options.stream or None)
+    place = command_place(options, saved.settings)
+    settings = monitoring_settings(saved.settings, columns_of(place))
+    in_batches = place.engine == IN_PROCESS and reads_in_batches(options.ledger, settings.ledger.stream_above_mb,
+                                                                 asked=options.stream or None)
     if in_batches:
-        streams.note(f"reading {source} in batches of about {settings.ledger.batch_rows:,} rows")
-    ledger, rows = open_ledger(options.ledger, settings, stream=in_batches, require_outcome=False)
-    if not in_batches:
-        streams.note(f"read {ledger.n_rows:,} rows from {source}")
-    result = monitor_rows(saved, rows, ledger.dates, source=source)
+        streams.note(f"reading {place.name} in batches of about {settings.ledger.batch_rows:,} rows")
+    ledger, rows = open_ledger(place, settings, stream=in_batches, require_outcome=False)
+    source = ledger.source
+    try:
+        if place.engine != IN_PROCESS or not in_batches:
+            streams.note(f"read {ledger.n_rows:,} rows from {source}" if place.engine == IN_PROCESS else
+                         f"{ledger.n_rows:,} rows of {source} are kept and counted by {place.engine}")
+        result = monitor_rows(saved, rows, by_quarter=rows.dated, source=source)
+    finally:
+        rows.close()
     for note in (*ledger.notes, *result.notes):
         if note not in ledger.left_out.values() and "left out:" not in note:
             streams.note(note)
     summary = monitor_summary(result, model=options.model)
-    command = "scorewright monitor " + " ".join(shlex.quote(str(a)) for a in (options.model, options.ledger, "--out", out))
+    command = "scorewright monitor " + " ".join(shlex.quote(str(a)) for a in (options.model, options.ledger or place.name, "--out", out))
     with replacing_folder(out) as folder:  # the set replaces the folder whole, or not at all
         written = [
             write_text_atomically(folder / "monitor.txt", summary + "\n"),

@@ -51,3 +51,19 @@ def describe_rows(rows: Sequence[int], *, limit: int = 5) -> str:
     if total > limit:
         return f"rows {', '.join(shown)} and {total - limit} more"
     return f"rows {', '.join(shown[:-1])} and {shown[-1]}"
+
+
+def describe_ids(ids: Sequence[object], total: int, *, limit: int = 5) -> str:
+    """Name rows by their ids, for rows that have no row numbers (a table in a database): '2 rows (ids 'A1' and 'B7')'.
+
+    ``ids`` are the first few rows' ids (none when the ledger has no id column); ``total`` is how many rows there are.
+    """
+    count = "1 row" if total == 1 else f"{total:,} rows"
+    shown = [repr(i.item() if hasattr(i, "item") else i) for i in list(ids)[:limit]]
+    if not shown:
+        return count
+    if total == 1:
+        return f"{count} (id {shown[0]})"
+    more = f" and {total - len(shown):,} more" if total > len(shown) else ""
+    listed = ", ".join(shown) if more else (", ".join(shown[:-1]) + f" and {shown[-1]}" if len(shown) > 1 else shown[0])
+    return f"{count} (ids {listed}{more})"

@@ -107,30 +107,38 @@ class BuildOptions:
     reports: bool = True
     timings: bool = False
     stream: bool = False
+    engine: str | None = None
 
 
 @dataclass(frozen=True)
 class ScoreOptions:
-    """Options of ``scorewright score``."""
+    """Options of ``scorewright score``: the ledger is a file, or (through an engine) a database's table or a query."""
 
     model: Path
-    ledger: Path
-    out: Path
+    ledger: Path | None
+    out: Path | None
     reasons: int | None = None
     force: bool = False
     stream: bool = False
+    engine: str | None = None
+    table: str = ""
+    query: str = ""
+    out_table: str = ""
 
 
 @dataclass(frozen=True)
 class MonitorOptions:
-    """Options of ``scorewright monitor``."""
+    """Options of ``scorewright monitor``: the ledger as for ``score``."""
 
     model: Path
-    ledger: Path
+    ledger: Path | None
     out: Path | None = None
     fail_on: str | None = None
     force: bool = False
     stream: bool = False
+    engine: str | None = None
+    table: str = ""
+    query: str = ""
 
 
 @dataclass(frozen=True)

@@ -22,7 +22,7 @@ import pandas as pd
 from scipy import special
 
 from .errors import FitError, ScorecardWarning
-from .fitter import INTERCEPT_NAME, FitResult, fit_logistic, fit_logistic_by_parts
+from .fitter import INTERCEPT_NAME, FitResult, fit_logistic, fit_logistic_by_parts, fit_logistic_by_sums
 from .rows import MERGE_LIMIT, PatternTable
 from .settings import FitSettings, SelectionSettings
 
@@ -174,12 +174,16 @@ class _WoeDesign:
         self.patterns = patterns
         self.woe = {name: np.asarray(woe[name], float) for name in patterns.characteristics}
         self.fit_settings = fit
-        self.weights = patterns.goods + patterns.bads
         self.last: dict[str, float] = {}
         self.fits: dict[tuple[str, ...], FitResult] = {}
         self.position = {name: j for j, name in enumerate(patterns.characteristics)}
         self.guard = guard  # trial fits skip the separation and dependence checks; the final fit runs them
         self._full: np.ndarray | None = None
+
+    @property
+    def weights(self) -> np.ndarray:
+        """Goods plus bads per pattern."""
+        return self.patterns.goods + self.patterns.bads
 
     @property
     def full(self) -> np.ndarray:
@@ -208,9 +212,11 @@ class _WoeDesign:
             with warnings.catch_warnings():
                 if not self.guard:  # a trial fit that does not converge is only ranked, not reported
                     warnings.simplefilter("ignore", ScorecardWarning)
+                if hasattr(table, "sums"):  # a table kept by the engine: each Newton step is one pass there
+                    result = _fit_in_engine(table, names, self.woe, settings)
                 # a table kept as rows (above MERGE_LIMIT) is fitted a part at a time, so that no design
                 # matrix of all of them is ever held (the Newton steps cost the same either way)
-                if table.n_patterns > MERGE_LIMIT and settings.solver == "newton" and settings.l2 == 0:
+                elif table.n_patterns > MERGE_LIMIT and settings.solver == "newton" and settings.l2 == 0:
                     result = fit_logistic_by_parts(lambda rows: self.matrix(names, table, rows), table.goods, table.bads,
                                                    names=list(names), start=start, max_iterations=settings.max_iterations or None,
                                                    guard=self.guard)
@@ -233,6 +239,16 @@ class _WoeDesign:
         for name, coefficient in zip(fit.names[1:], fit.coefficients[1:]):
             log_odds += (coefficient * self.woe[name])[self.patterns.column(name)]  # a look-up per bin, not per row
         return special.expit(log_odds)
+
+
+def _fit_in_engine(table, names: Sequence[str], woe: Mapping[str, np.ndarray], settings: FitSettings) -> FitResult:
+    """Newton's method on sums the engine adds up (``fitter.sums``); only that solver, without a penalty, runs there."""
+    if settings.solver != "newton" or settings.l2 != 0:
+        raise FitError(f"the final pattern table holds {table.n_patterns:,} patterns and stays in the engine, where only "
+                       "Newton's method without a penalty runs. Set fit.solver = \"newton\" and fit.l2 = 0.")
+    return fit_logistic_by_sums(lambda beta: table.sums(names, woe, beta), names=list(names), goods=table.goods_total,
+                                bads=table.bads_total, spread=table.spread(names, woe),
+                                max_iterations=settings.max_iterations or None)
 
 
 def weighted_correlation(matrix: np.ndarray, weights: np.ndarray) -> np.ndarray:

@@ -34,6 +34,11 @@ MOST_HONEST_FIRST = ("out-of-time", "hold-out", "development")
 # The two kinds of characteristic.
 NUMERIC, CATEGORICAL = "numeric", "categorical"
 
+# The engines that read and count a ledger's rows (the settings' ledger.engine): this process, an
+# embedded SQL engine, a cluster. Every one gives the same model file from the same ledger.
+IN_PROCESS, DUCKDB, SPARK = "in-process", "duckdb", "spark"
+ENGINES = (IN_PROCESS, DUCKDB, SPARK)
+
 # How the bad rate may move as a numeric characteristic's value grows (the settings' bad_rate_shape):
 # as the data say (the tool tries every shape below but 'any', and takes a single bend only when it
 # buys a clear gain in IV), it falls, it rises, it falls and then rises (one bend), it rises and then

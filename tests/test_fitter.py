@@ -527,30 +527,42 @@ def test_no_numpy_warnings_on_badly_scaled_characteristics():
 BY_PARTS_RTOL = 1e-9  # the same sums, added part by part: only rounding may differ
 
 
+def _weighted_rows(seed: int):
+    """20,000 rows of three features, goods 0-3 and bads 0 or 2 per row, and their fit on the whole design."""
+    rng = np.random.default_rng(seed)
+    features = rng.normal(size=(20_000, 3))
+    goods = rng.integers(0, 4, 20_000).astype(float)
+    bads = (rng.random(20_000) < special.expit(-1.0 - features @ np.array([0.8, -0.4, 0.2]))).astype(float) * 2
+    return features, goods, bads, fit_logistic(features, goods, bads, names=["a", "b", "c"])
+
+
+def _same_fit(fit: FitResult, whole: FitResult) -> None:
+    np.testing.assert_allclose(fit.coefficients, whole.coefficients, rtol=BY_PARTS_RTOL)
+    np.testing.assert_allclose(fit.std_errors, whole.std_errors, rtol=BY_PARTS_RTOL)
+    assert fit.log_likelihood == pytest.approx(whole.log_likelihood, rel=1e-12)
+    assert fit.converged and list(fit.cost_trace) == sorted(fit.cost_trace, reverse=True)
+    assert fit.iterations == whole.iterations  # one stopping rule
+
+
 def test_fit_by_parts_equals_the_whole_fit():
     # reference: fit_logistic on the same rows (itself checked against statsmodels above)
     from scorecard.fitter import fit_logistic_by_parts
 
-    rng = np.random.default_rng(21)
-    features = rng.normal(size=(20_000, 3))
-    goods = rng.integers(0, 4, 20_000).astype(float)
-    bads = (rng.random(20_000) < special.expit(-1.0 - features @ np.array([0.8, -0.4, 0.2]))).astype(float) * 2
-    whole = fit_logistic(features, goods, bads, names=["a", "b", "c"])
-    parts = fit_logistic_by_parts(lambda rows: features[rows], goods, bads, names=["a", "b", "c"], part_rows=3_001)
-    np.testing.assert_allclose(parts.coefficients, whole.coefficients, rtol=BY_PARTS_RTOL)
-    np.testing.assert_allclose(parts.std_errors, whole.std_errors, rtol=BY_PARTS_RTOL)
-    assert parts.log_likelihood == pytest.approx(whole.log_likelihood, rel=1e-12)
-    assert parts.converged and list(parts.cost_trace) == sorted(parts.cost_trace, reverse=True)
-    assert parts.iterations == whole.iterations  # one stopping rule
+    features, goods, bads, whole = _weighted_rows(21)
+    _same_fit(fit_logistic_by_parts(lambda rows: features[rows], goods, bads, names=["a", "b", "c"], part_rows=3_001), whole)
+
+
+def _dependent_rows(seed: int):
+    """5,000 rows whose second feature is twice the first."""
+    rng = np.random.default_rng(seed)
+    a = rng.normal(size=5_000)
+    return np.column_stack([a, 2 * a, rng.normal(size=5_000)]), (rng.random(5_000) < 0.7).astype(float)
 
 
 def test_fit_by_parts_names_dependent_columns():
     from scorecard.fitter import fit_logistic_by_parts
 
-    rng = np.random.default_rng(22)
-    a = rng.normal(size=5_000)
-    features = np.column_stack([a, 2 * a, rng.normal(size=5_000)])
-    goods = (rng.random(5_000) < 0.7).astype(float)
+    features, goods = _dependent_rows(22)
     with pytest.raises(FitError, match="'a' and 'twice_a'"):
         fit_logistic_by_parts(lambda rows: features[rows], goods, 1 - goods, names=["a", "twice_a", "c"])
 
@@ -580,3 +592,45 @@ def test_fit_in_one_part_is_the_whole_fit_to_the_last_bit():
     np.testing.assert_array_equal(one_part.coefficients, whole.coefficients)
     np.testing.assert_array_equal(one_part.covariance, whole.covariance)
     assert one_part.cost_trace == whole.cost_trace and one_part.solver == "newton (by parts)"
+
+
+# ---------------------------------------------------------------------------------------------
+# Fitting from sums an engine adds up, one pass a step
+
+
+def _sums_of(features, goods, bads, passes):
+    """The sums one pass of an engine returns, written here with numpy (the engine's SQL is tested against this fit)."""
+    design = np.column_stack([np.ones(len(goods)), features])
+
+    def sums(beta):
+        passes.append(beta)
+        eta = design @ beta
+        p, q = special.expit(eta), special.expit(-eta)
+        loss = goods @ np.logaddexp(0, -eta) + bads @ np.logaddexp(0, eta)
+        return loss, design.T @ (goods * q - bads * p), (design * ((goods + bads) * p * q)[:, None]).T @ design
+
+    return sums
+
+
+def test_fit_by_sums_equals_the_whole_fit():
+    # reference: fit_logistic on the same rows (itself checked against statsmodels above)
+    from scorecard.fitter import fit_logistic_by_sums
+
+    features, goods, bads, whole = _weighted_rows(25)
+    passes = []
+    weights = goods + bads
+    spread = np.sqrt(weights @ (features - weights @ features / weights.sum()) ** 2 / weights.sum())
+    by_sums = fit_logistic_by_sums(_sums_of(features, goods, bads, passes), names=["a", "b", "c"], goods=goods.sum(),
+                                   bads=bads.sum(), spread=spread)
+    _same_fit(by_sums, whole)
+    assert by_sums.solver == "newton (in the engine)"
+    assert len(passes) == by_sums.iterations + 1  # one pass a step, and one at the start: no step was halved here
+
+
+def test_fit_by_sums_names_dependent_columns():
+    from scorecard.fitter import fit_logistic_by_sums
+
+    features, goods = _dependent_rows(26)
+    with pytest.raises(FitError, match="'a', 'twice_a' depend on each other"):
+        fit_logistic_by_sums(_sums_of(features, goods, 1 - goods, []), names=["a", "twice_a", "c"], goods=goods.sum(),
+                             bads=(1 - goods).sum(), spread=np.ones(3))

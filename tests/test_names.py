@@ -23,6 +23,7 @@ OLD_NAMES = re.compile(
 ALLOWED = (
     '"On grouping for maximum homogeneity"',  # W. D. Fisher's paper, JASA 1958, cited as the source of the DP
     "chart.grouping = ",  # openpyxl's BarChart attribute
+    "GROUP BY", "GROUPING SETS",  # SQL's own words, in the queries of the engines
 )
 KEEPER = ROOT / "scorecard" / "settings" / "renamed.py"
 

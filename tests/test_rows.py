@@ -178,12 +178,15 @@ def test_rows_in_batches_count_what_the_same_rows_in_memory_count():
     rows = memory.fitting_rows()
     np.testing.assert_array_equal(rows, np.flatnonzero(fitting))
     ordered = [binnings["income"], binnings["housing"]]
-    a, b = memory.pattern_table(rows, ordered), streamed.pattern_table(rows, ordered)
+    a, b = memory.pattern_table("fitting", ordered), streamed.pattern_table("fitting", ordered)
     np.testing.assert_array_equal(a.codes, b.codes)
     np.testing.assert_array_equal(a.goods, b.goods)
-    gathered, weights = streamed.gather(rows[:50], ["income"], empty=frame.iloc[:0])
+    drawn = {"classing": rows[:50]}  # a sub-sample drawn at intake: these rows, not every fitting row
+    streamed = InProcessRows(outcome, weight, sample, batches, subsamples=drawn)
+    gathered, weights = streamed.gather("classing", ["income"])
     np.testing.assert_array_equal(gathered["income"].to_numpy(), frame["income"].to_numpy()[rows[:50]])
     np.testing.assert_array_equal(weights, weight[rows[:50]])
+    assert len(streamed.gather("fitting", ["income"])[0]) == len(rows)
 
 
 def test_the_unseen_tally_adds_batch_after_batch():

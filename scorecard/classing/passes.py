@@ -130,8 +130,7 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
     rows = rows_in_memory(ledger) if rows is None else rows
     characteristics = ledger.characteristics
     proposed = [c for c in characteristics if not _is_fixed(settings, c.name)]
-    fine_rows, fine_weights = rows.gather(rows.fitting_rows("classing"), [c.name for c in proposed],
-                                          empty=ledger.frame)
+    fine_rows, fine_weights = rows.gather("classing", [c.name for c in proposed])
     fine = {c.name: _fine_binning(fine_rows[c.name], fine_weights, c, settings) for c in proposed}
     binnings, coarse_notes, mergings = {}, {}, {}
     if fine:
@@ -153,7 +152,7 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
         if keep_codes:
             columns.append(mapping.astype(codes[char.name].dtype)[codes[char.name]])
     classed = _with_proposal_iv(classed, ledger, settings, rows, progress)
-    n_rows = len(rows.outcome)
+    n_rows = ledger.n_rows if keep_codes else 0
     matrix = np.column_stack(columns) if columns else np.zeros((n_rows if keep_codes else 0, 0), dtype=np.uint8)
     routine = {note for c in classed if c.origin == PROPOSED for note in c.proposal.notes}
     for note in notes:

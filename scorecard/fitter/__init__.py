@@ -6,7 +6,8 @@
 - ``solvers``: Newton–Raphson with step-halving, gradient descent, L-BFGS; one stopping rule, one result;
 - ``inputs``: the checks at entry;
 - ``fit``: ``fit_logistic``, the entry;
-- ``parts``: ``fit_logistic_by_parts``, for a table too large to hold as one design matrix.
+- ``parts``: ``fit_logistic_by_parts``, for a table too large to hold as one design matrix;
+- ``sums``: ``fit_logistic_by_sums``, for a table an engine keeps: each Newton step one pass of sums there.
 """
 
 from .fit import fit_logistic
@@ -14,8 +15,9 @@ from .parts import PART_ROWS, fit_logistic_by_parts
 from .problem import gradient, information_matrix, log_likelihood
 from .inputs import SOLVERS
 from .result import INTERCEPT_NAME, FitResult
+from .sums import Sums, fit_logistic_by_sums
 
 __all__ = [
-    "INTERCEPT_NAME", "PART_ROWS", "SOLVERS", "FitResult", "fit_logistic", "fit_logistic_by_parts", "gradient",
-    "information_matrix", "log_likelihood",
+    "INTERCEPT_NAME", "PART_ROWS", "SOLVERS", "FitResult", "Sums", "fit_logistic", "fit_logistic_by_parts",
+    "fit_logistic_by_sums", "gradient", "information_matrix", "log_likelihood",
 ]

@@ -9,19 +9,22 @@ user sees them (the header is row 1).
 - ``roles``: the outcome mapping, weights and dates;
 - ``samples``: development, hold-out and out-of-time;
 - ``ledger``: the checked ledger and its fingerprint;
-- ``prepare``: the whole check, and ``open_ledger``, the entry the build and the commands use.
+- ``prepare``: the whole check, and ``open_ledger``, the entry the build and the commands use;
+- ``sql``: the same checks of a ledger a SQL engine holds (DuckDB, Spark), as queries.
 """
 
 from .kinds import closest_names, detect_kind, looks_like_identifier_or_date, unusable_reason
 from .ledger import Characteristic, Fingerprint, Ledger, RejectedRows, fingerprint_of
-from .prepare import open_ledger, prepare_ledger, rows_in_memory, stream_ledger, with_inferred_rejects
+from .prepare import (
+    columns_of, ledger_place, open_batches, open_ledger, prepare_ledger, rows_in_memory, stream_ledger, with_inferred_rejects,
+)
 from .read import csv_delimiter, ledger_columns, read_batches, read_ledger
 from .roles import default_outcome_mapping, outcome_key, unit_weights
 from .samples import split_samples
 
 __all__ = [
-    "Characteristic", "Fingerprint", "Ledger", "closest_names", "csv_delimiter", "default_outcome_mapping",
-    "detect_kind", "fingerprint_of", "ledger_columns", "looks_like_identifier_or_date", "open_ledger", "outcome_key",
-    "prepare_ledger", "read_batches", "read_ledger", "RejectedRows", "rows_in_memory", "split_samples", "stream_ledger",
-    "unit_weights", "unusable_reason", "with_inferred_rejects",
+    "Characteristic", "Fingerprint", "Ledger", "closest_names", "columns_of", "csv_delimiter", "default_outcome_mapping",
+    "detect_kind", "fingerprint_of", "ledger_columns", "ledger_place", "looks_like_identifier_or_date", "open_batches",
+    "open_ledger", "outcome_key", "prepare_ledger", "read_batches", "read_ledger", "RejectedRows", "rows_in_memory",
+    "split_samples", "stream_ledger", "unit_weights", "unusable_reason", "with_inferred_rejects",
 ]

@@ -88,11 +88,12 @@ class Ledger:
         The characteristic columns only (ids, dates, outcome and weights are held apart).
     characteristics : tuple of Characteristic
         The characteristics, in ledger order.
-    outcome : numpy.ndarray
-        int8 per row: 0 good, 1 bad, 2 indeterminate, 3 unknown (no outcome recorded).
-    weight : numpy.ndarray
+    outcome : numpy.ndarray or None
+        int8 per row: 0 good, 1 bad, 2 indeterminate, 3 unknown (no outcome recorded); None when
+        a SQL engine keeps the rows (so do ``weight``, ``sample``, ``dates`` and ``ids``).
+    weight : numpy.ndarray or None
         float64 case weight per row.
-    sample : numpy.ndarray
+    sample : numpy.ndarray or None
         int8 per row: 0 development, 1 hold-out, 2 out-of-time.
     dates : numpy.ndarray or None
         datetime64[D] per row when the ledger has a date column.
@@ -109,6 +110,8 @@ class Ledger:
     rejects : RejectedRows or None
         The rejected applications, set apart from every other field (those hold the booked
         applications only), when the settings name them and the ledger has some.
+    summary : pandas.DataFrame or None
+        The sample summary, when the rows are not held here (see ``sample_summary``).
     """
 
     source: str
@@ -124,11 +127,12 @@ class Ledger:
     left_out: Mapping[str, str] = field(default_factory=dict)
     subsamples: Mapping[str, np.ndarray] = field(default_factory=dict)
     rejects: RejectedRows | None = None
+    summary: pd.DataFrame | None = None
 
     @property
     def n_rows(self) -> int:
-        """Number of rows."""
-        return len(self.outcome)
+        """Number of rows (booked applications when rejected ones are set apart)."""
+        return len(self.outcome) if self.outcome is not None else self.fingerprint.n_rows
 
     def characteristic(self, name: str) -> Characteristic:
         """Return the characteristic called ``name``."""
@@ -136,12 +140,19 @@ class Ledger:
 
     def sample_summary(self) -> pd.DataFrame:
         """Return rows, goods, bads, indeterminates and unknowns (weighted) per sample."""
+        if self.summary is not None:
+            return self.summary
         table = np.zeros((len(SAMPLE_NAMES), len(OUTCOME_NAMES)))
         np.add.at(table, (self.sample, self.outcome), self.weight)
-        frame = pd.DataFrame(table, index=list(SAMPLE_NAMES), columns=list(OUTCOME_NAMES))
-        frame.insert(0, "rows", np.bincount(self.sample, minlength=len(SAMPLE_NAMES)))
-        frame["bad rate"] = frame["bad"] / (frame["good"] + frame["bad"]).where(lambda s: s > 0)
-        return frame
+        return summary_frame(table, np.bincount(self.sample, minlength=len(SAMPLE_NAMES)))
+
+
+def summary_frame(weighted: np.ndarray, rows: np.ndarray) -> pd.DataFrame:
+    """The sample summary from its counts: weighted rows per (sample, outcome), and rows per sample."""
+    frame = pd.DataFrame(weighted, index=list(SAMPLE_NAMES), columns=list(OUTCOME_NAMES))
+    frame.insert(0, "rows", np.asarray(rows, dtype=np.int64))
+    frame["bad rate"] = frame["bad"] / (frame["good"] + frame["bad"]).where(lambda s: s > 0)
+    return frame
 
 
 def fingerprint_of(source: str | os.PathLike[str] | pd.DataFrame, n_rows: int) -> Fingerprint:

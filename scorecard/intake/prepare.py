@@ -6,6 +6,7 @@ ledger, checks it, and returns it with the source of its rows (``scorecard.rows`
 
 from __future__ import annotations
 
+import dataclasses
 import os
 import warnings
 from collections.abc import Sequence
@@ -16,43 +17,57 @@ import numpy as np
 import pandas as pd
 
 from ..errors import LedgerError, ScorecardWarning
-from ..rows import BATCH_READABLE, InProcessRows, reads_in_batches
+from ..rows import BATCH_READABLE, InProcessRows, RowPlace, reads_in_batches
 from ..rows.keys import split_keys
 from ..settings import Settings
-from ..terms import BAD, DEVELOPMENT, GOOD, OUT_OF_TIME, REJECTED, UNKNOWN
+from ..terms import BAD, DEVELOPMENT, DUCKDB, GOOD, IN_PROCESS, OUT_OF_TIME, REJECTED, SPARK, UNKNOWN
 from .kinds import check_finite, choose_characteristics, role_columns
 from .ledger import Fingerprint, Ledger, RejectedRows, fingerprint_of
-from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, read_head, read_ledger
+from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, ledger_columns, read_head, read_ledger
 from .roles import check_roles, role_values, unit_weights
 from .samples import (
     draw_subsamples, frame_tie_texts, key_columns, needs_keys, out_of_time, sample_keys, split_samples,
 )
 
 
-def open_ledger(data: pd.DataFrame | str | os.PathLike[str], settings: Settings, *, stream: bool | None = None,
-                require_outcome: bool = True) -> tuple[Ledger, InProcessRows]:
+def open_ledger(data: pd.DataFrame | str | os.PathLike[str] | RowPlace, settings: Settings, *, stream: bool | None = None,
+                require_outcome: bool = True):
     """Read (or begin to read) and check a ledger; return it with the source of its rows.
+
+    This is where every command decides how a ledger is read: by the engine the settings name
+    (``ledger.engine``), and in this process whole or in batches (``reads_in_batches``).
 
     Parameters
     ----------
-    data : pandas.DataFrame or path
-        The ledger.
+    data : pandas.DataFrame, path or RowPlace
+        The ledger: a frame, a file (read by the settings' engine, ``ledger_place``), or a place.
     settings : Settings
     stream : bool, optional
-        Read a file in batches (True), whole (False), or as ``scorecard.rows.reads_in_batches``
-        decides from its size (None, the default). A DataFrame is always in memory.
+        In this process: read a file in batches (True), whole (False), or as
+        ``scorecard.rows.reads_in_batches`` decides from its size (None, the default). A
+        DataFrame is always in memory.
     require_outcome : bool
         As for ``prepare_ledger``.
 
     Returns
     -------
-    (Ledger, InProcessRows)
-        A streamed ledger holds the roles of every row but no characteristic values; its rows
-        are read again, batch by batch, by each pass the row source makes.
+    (Ledger, row source)
+        ``InProcessRows``, or ``scorecard.rows.sqlrows.SqlRows`` when an engine keeps the rows (close
+        it with ``close()`` when done). A streamed ledger holds the roles of every row but no
+        characteristic values; its rows are read again, batch by batch, by each pass.
     """
+    if not isinstance(data, (pd.DataFrame, RowPlace)):
+        data = ledger_place(settings, path=data)
+    if isinstance(data, RowPlace):
+        if data.engine != IN_PROCESS:
+            from .sql import open_sql_ledger
+
+            return open_sql_ledger(data, settings, require_outcome=require_outcome)
+        data = Path(data.path)
     if not isinstance(data, pd.DataFrame) and reads_in_batches(data, settings.ledger.stream_above_mb, asked=stream):
         ledger, batches = stream_ledger(data, settings, require_outcome=require_outcome)
-        return ledger, InProcessRows(ledger.outcome, ledger.weight, ledger.sample, batches, subsamples=ledger.subsamples)
+        return ledger, InProcessRows(ledger.outcome, ledger.weight, ledger.sample, batches, subsamples=ledger.subsamples,
+                                     dates=ledger.dates)
     frame = read_ledger(data)
     if isinstance(data, pd.DataFrame):
         ledger = prepare_ledger(frame, settings, require_outcome=require_outcome)
@@ -62,9 +77,35 @@ def open_ledger(data: pd.DataFrame | str | os.PathLike[str], settings: Settings,
     return ledger, rows_in_memory(ledger)
 
 
+def ledger_place(settings: Settings, *, path: str | os.PathLike[str] | None = None, engine: str | None = None,
+                 table: str | None = None, query: str | None = None) -> RowPlace:
+    """Where a ledger's rows are: the settings' ``[ledger]`` (path resolved against the settings file's folder), with
+    any of its keys given on the command line instead."""
+    ledger = settings.ledger
+    engine = engine or ledger.engine
+    location = str(path) if path is not None else (str(settings.ledger_path()) if ledger.path else "")
+    options = {IN_PROCESS: {}, DUCKDB: dataclasses.asdict(settings.duckdb), SPARK: dataclasses.asdict(settings.spark)}[engine]
+    return RowPlace(engine, location, ledger.table if table is None else table, ledger.query if query is None else query, options)
+
+
+def columns_of(place: RowPlace) -> list[str]:
+    """A ledger's column names: a file's header in process, or the engine's view of the file, table or query."""
+    if place.engine == IN_PROCESS:
+        return ledger_columns(place.path)
+    from ..rows import connect
+    from ..rows.sqlrows import SOURCE
+
+    engine = connect(place)
+    try:
+        return [str(name) for name in engine.schema(SOURCE).names]
+    finally:
+        engine.close()
+
+
 def rows_in_memory(ledger: Ledger) -> InProcessRows:
     """The row source of a ledger held in memory."""
-    return InProcessRows.from_frame(ledger.frame, ledger.outcome, ledger.weight, ledger.sample, subsamples=ledger.subsamples)
+    return InProcessRows.from_frame(ledger.frame, ledger.outcome, ledger.weight, ledger.sample, subsamples=ledger.subsamples,
+                                    dates=ledger.dates)
 
 
 def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "DataFrame",

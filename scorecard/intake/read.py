@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import LedgerError
-from ..rows import BATCH_READABLE
+from ..rows import BATCH_READABLE, csv_delimiter
 from ..terms import NUMERIC
 from .kinds import closest_names, detect_kind
 
@@ -57,7 +57,7 @@ def read_ledger(source: str | os.PathLike[str] | pd.DataFrame, *, columns: Seque
         duplicate column names.
     """
     if isinstance(source, pd.DataFrame):
-        _check_column_names([str(c) for c in source.columns], "DataFrame")
+        check_column_names([str(c) for c in source.columns], "DataFrame")
         if len(source) == 0:
             raise LedgerError("DataFrame: the ledger has no rows. Pass a ledger with at least one application.")
         return source
@@ -92,15 +92,6 @@ def read_batches(source: str | os.PathLike[str], columns: Sequence[str], *, batc
     yield from file_batches(path, suffix, list(columns), arrow_types(head), batch_rows)
 
 
-def csv_delimiter(path: Path) -> str:
-    """The CSV file's delimiter: a comma, or the ';', tab or '|' its header uses instead (as some exports do)."""
-    with path.open(encoding="utf-8-sig", errors="replace") as stream:
-        header = stream.readline()
-    if "," in header:
-        return ","
-    return next((candidate for candidate in (";", "\t", "|") if candidate in header), ",")
-
-
 def checked_file(source: str | os.PathLike[str]) -> tuple[Path, str]:
     """Check a ledger file exists, has a known type, is not empty and has unique column names."""
     path = Path(source)
@@ -114,7 +105,7 @@ def checked_file(source: str | os.PathLike[str]) -> tuple[Path, str]:
         raise LedgerError(f"{path}: unknown ledger file type {suffix or '(no suffix)'!r}. Use a .csv, .parquet or .xlsx file.")
     if path.stat().st_size == 0:
         raise LedgerError(f"{name}: the file is empty. Export the ledger again with a header row and data rows.")
-    _check_column_names(_read_header(path, suffix), name)
+    check_column_names(_read_header(path, suffix), name)
     return path, suffix
 
 
@@ -158,7 +149,8 @@ def _read_frame(path: Path, suffix: str, columns: Sequence[str] | None) -> pd.Da
         raise LedgerError(f"{path.name}: cannot read the file ({type(error).__name__}: {error}). Check it opens and is not damaged.") from None
 
 
-def _check_column_names(names: list[str], source: str) -> None:
+def check_column_names(names: list[str], source: str) -> None:
+    """Refuse a ledger without column names, or with a name given twice."""
     if not names or all(not n.strip() for n in names):
         raise LedgerError(f"{source}: no header row with column names. The first row must name the columns.")
     seen: dict[str, int] = {}

@@ -52,18 +52,23 @@ def map_outcome(frame: pd.DataFrame, settings: Settings, source: str, *, first_r
         return np.full(len(frame), UNKNOWN, dtype=np.int8)
     codes, uniques = pd.factorize(frame[column], use_na_sentinel=True)
     keys = [outcome_key(u) for u in uniques]
-    mapping = _outcome_mapping(settings, keys)
+    mapping = outcome_mapping(settings, keys)
     unmapped = [(k, int(np.count_nonzero(codes == i))) for i, k in enumerate(keys) if k not in mapping]
     if unmapped:
-        shown = ", ".join(f"{k!r} ({n_rows_text(n)})" for k, n in unmapped[:8]) + (f" and {len(unmapped) - 8} more" if len(unmapped) > 8 else "")
         first_rows = np.flatnonzero(np.isin(codes, [keys.index(k) for k, _ in unmapped])) + 2 + first_row
-        raise LedgerError(
-            f"{source}, column {column!r}, {describe_rows(first_rows.tolist())}: "
-            f"value{'s' if len(unmapped) > 1 else ''} {shown} {'are' if len(unmapped) > 1 else 'is'} not a mapped outcome. "
-            "Add each under [outcome] in the settings file as good, bad, indeterminate or rejected (or use --bad/--good)."
-        )
+        raise LedgerError(unmapped_outcome_message(source, column, describe_rows(first_rows.tolist()), unmapped))
     lookup = np.array([mapping[k] for k in keys] + [UNKNOWN], dtype=np.int8)
     return lookup[codes]  # the sentinel -1 picks the last entry: unknown
+
+
+def unmapped_outcome_message(source: str, column: str, where: str, unmapped: Sequence[tuple[str, int]]) -> str:
+    """Say which outcome values are not mapped (with their row counts), where, and what to do."""
+    shown = ", ".join(f"{k!r} ({n_rows_text(n)})" for k, n in unmapped[:8]) + (f" and {len(unmapped) - 8} more" if len(unmapped) > 8 else "")
+    return (
+        f"{source}, column {column!r}, {where}: "
+        f"value{'s' if len(unmapped) > 1 else ''} {shown} {'are' if len(unmapped) > 1 else 'is'} not a mapped outcome. "
+        "Add each under [outcome] in the settings file as good, bad, indeterminate or rejected (or use --bad/--good)."
+    )
 
 
 def outcome_key(value: object) -> str:
@@ -85,15 +90,20 @@ def unknown_outcome_note(outcome: np.ndarray, source: str, column: str) -> str:
     unknown = np.flatnonzero(outcome == UNKNOWN)
     if not len(unknown):
         return ""
-    n_unknown = len(unknown)
+    return no_outcome_note(source, column, describe_rows((unknown + 2).tolist()), len(unknown))
+
+
+def no_outcome_note(source: str, column: str, where: str, n_unknown: int) -> str:
+    """The note on rows with no outcome: how many, where, and what is done with them."""
     return (
-        f"{source}, column {column!r}, {describe_rows((unknown + 2).tolist())}: {n_rows_text(n_unknown)} "
+        f"{source}, column {column!r}, {where}: {n_rows_text(n_unknown)} "
         f"{'has' if n_unknown == 1 else 'have'} no outcome; they are left out of fitting and the checks that need "
         "outcomes, and kept for stability checks."
     )
 
 
-def _outcome_mapping(settings: Settings, keys: Sequence[str]) -> dict[str, int]:
+def outcome_mapping(settings: Settings, keys: Sequence[str]) -> dict[str, int]:
+    """The outcome code of each outcome key: the settings' lists, or the 0/1 default when they are empty."""
     outcome = settings.outcome
     bad, good = outcome.bad, outcome.good
     if not bad and not good:
@@ -132,7 +142,11 @@ def mark_rejected(frame: pd.DataFrame, outcome: np.ndarray, settings: Settings, 
 
 
 def _check_both_classes(outcome: np.ndarray, source: str, column: str) -> None:
-    counts = np.bincount(outcome, minlength=4)
+    check_both_classes(np.bincount(outcome, minlength=4), source, column)
+
+
+def check_both_classes(counts: np.ndarray, source: str, column: str) -> None:
+    """Raise LedgerError when the rows per outcome code hold no goods or no bads."""
     if counts[GOOD] == 0 or counts[BAD] == 0:
         present = "good" if counts[GOOD] else "bad"
         missing = "bad" if counts[GOOD] else "good"

@@ -10,13 +10,12 @@ from __future__ import annotations
 
 import datetime
 from collections.abc import Callable, Sequence
-from fractions import Fraction
 
 import numpy as np
 import pandas as pd
 
 from ..errors import LedgerError, describe_rows
-from ..rows.keys import row_texts, split_keys
+from ..rows.keys import holdout_count, row_texts, split_keys, subsample_keys
 from ..settings import Settings
 from ..terms import BAD, DEVELOPMENT, GOOD, HOLDOUT, OUT_OF_TIME, OUTCOME_NAMES
 
@@ -72,15 +71,6 @@ def split_samples(outcome: np.ndarray, dates: np.ndarray | None, settings: Setti
     return sample
 
 
-def holdout_count(n_rows: int, fraction: float) -> int:
-    """Rows of a class that go to the hold-out sample: floor(n × fraction + 1/2), in exact arithmetic.
-
-    The fraction is taken as the decimal the settings file writes (0.3 is 3/10), so every engine
-    rounds the same way.
-    """
-    return int(n_rows * Fraction(repr(float(fraction))) + Fraction(1, 2))
-
-
 def smallest_keys(rows: np.ndarray, keys: np.ndarray, count: int, tie_texts: TieTexts | None) -> np.ndarray:
     """The ``count`` rows of smallest key; rows of equal key at the edge are ordered by their texts."""
     if count <= 0:
@@ -99,11 +89,6 @@ def smallest_keys(rows: np.ndarray, keys: np.ndarray, count: int, tie_texts: Tie
     return np.sort(np.concatenate([rows[below], tied[:wanted]]))
 
 
-# odd 64-bit multipliers (the golden ratio's and a well-known hash prime) that reorder the split keys
-# for each sub-sample of development, so that it is drawn independently of the hold-out
-SUBSAMPLE_MULTIPLIERS = {"classing": 0x9E3779B97F4A7C15, "selection": 0xC2B2AE3D27D4EB4F}
-
-
 def draw_subsamples(sample: np.ndarray, outcome: np.ndarray, keys: np.ndarray | None, settings: Settings, *,
                     tie_texts: TieTexts | None = None) -> dict[str, np.ndarray]:
     """The seeded sub-samples of a large development sample, as ascending row numbers.
@@ -120,16 +105,6 @@ def draw_subsamples(sample: np.ndarray, outcome: np.ndarray, keys: np.ndarray | 
         if limit and len(fitting) > limit:
             drawn[purpose] = smallest_keys(fitting, subsample_keys(keys[fitting], purpose), limit, tie_texts)
     return drawn
-
-
-def subsample_keys(keys: np.ndarray, purpose: str) -> np.ndarray:
-    """The split keys reordered for a sub-sample: the top 60 bits of key × multiplier modulo 2**64.
-
-    A one-to-one map (the multiplier is odd), so rows of different keys keep different keys;
-    multiplicative hashing as in D. E. Knuth, The Art of Computer Programming, vol. 3, section 6.4.
-    """
-    product = keys.astype(np.uint64) * np.uint64(SUBSAMPLE_MULTIPLIERS[purpose])  # wraps modulo 2**64
-    return (product >> np.uint64(4)).astype(np.int64)
 
 
 def needs_keys(n_rows: int | None, settings: Settings) -> bool:

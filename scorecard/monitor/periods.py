@@ -18,7 +18,7 @@ from ..errors import LedgerError
 from ..modelfile import SavedModel
 from ..rows import InProcessRows, ScoreHistogram
 from ..settings import CheckSettings
-from ..terms import BAD, DEVELOPMENT_NAME, GOOD
+from ..terms import DEVELOPMENT_NAME
 from ..checks.discrimination import band_labels
 from ..validation import (
     CharacteristicStability, SampleChecks, band_edges, characteristic_stability, sample_checks, score_range, without_outcomes,
@@ -107,57 +107,50 @@ def monitor_ledger(saved: SavedModel, frame, outcome: np.ndarray, weight: np.nda
         A characteristic is missing, the ledger has no rows, or a calendar quarter between the
         first and the last has no rows.
     """
-    rows = InProcessRows.from_frame(frame, outcome, weight, np.zeros(len(outcome), dtype=np.int8))
-    return monitor_rows(saved, rows, dates, source=source)
-
-
-def monitor_rows(saved: SavedModel, rows: InProcessRows, dates: np.ndarray | None, *, source: str = "ledger") -> MonitorResult:
-    """As ``monitor_ledger``, for the rows of a ledger opened with ``scorecard.intake.open_ledger`` (in batches or not)."""
-    outcome = rows.outcome
+    saved.scorecard.codes(frame.iloc[:0], source=source)  # names a missing characteristic
     if len(outcome) == 0:
         raise LedgerError(f"{source}: the ledger has no rows. Give the quarter's applications.")
+    rows = InProcessRows.from_frame(frame, outcome, weight, np.zeros(len(outcome), dtype=np.int8), dates=dates)
+    return monitor_rows(saved, rows, by_quarter=dates is not None, source=source)
+
+
+def monitor_rows(saved: SavedModel, rows, *, by_quarter: bool, source: str = "ledger") -> MonitorResult:
+    """As ``monitor_ledger``, for the rows of a ledger opened with ``scorecard.intake.open_ledger`` (any engine).
+
+    ``by_quarter``: the ledger has the model's date column, so every check is repeated per calendar quarter.
+    """
     baseline = saved.baseline[DEVELOPMENT_NAME]
     checks = saved.settings.checks
     edges = band_edges(baseline, checks)
     notes = []
-    if not ((outcome == GOOD) | (outcome == BAD)).any():
+    parts, unseen, undated = rows.period_counts(saved.scorecard, by_quarter=by_quarter)
+    whole = parts["all"]["histogram"]
+    if not (whole.goods.sum() > 0 or whole.bads.sum() > 0):
         notes.append(f"{source}: no row has a known outcome, so only stability is checked (discrimination and calibration need outcomes).")
-    quarter, labels = _quarters(dates, source, notes) if dates is not None else (None, ())
-    parts, unseen = rows.period_counts(saved.scorecard, quarter, labels, source=source)
+    if undated:
+        notes.append(f"{source}: {undated:,} rows have no date; they count in the whole-ledger checks only.")
+    quarters = sorted(key for key in parts if key != "all")
+    _check_no_quarter_is_empty(quarters, source)
     periods = [
-        check_period(label, part["histogram"], part["counts"], saved, edges,
-                     unseen=unseen if label == "all" else {}, unknown=part["unknown"])
-        for label, part in parts.items()
+        check_period("all" if key == "all" else _quarter_label(key), part["histogram"], part["counts"], saved, edges,
+                     unseen=unseen if key == "all" else {}, unknown=part["unknown"])
+        for key, part in [("all", parts["all"]), *((q, parts[q]) for q in quarters)]
     ]
     return MonitorResult(source, periods[0], tuple(periods[1:]), baseline, auc_baseline(saved.performance, saved.baseline),
                          edges, checks, tuple(notes), band_labels(edges, score_range=score_range(saved.scorecard.table)))
 
 
-def _quarters(dates: np.ndarray, source: str, notes: list[str]) -> tuple[np.ndarray, tuple[str, ...]]:
-    """Return each row's calendar quarter (-1: no date) counted from the first, and the quarters' labels.
-
-    Raises
-    ------
-    LedgerError
-        A quarter between the first and the last has no rows.
-    """
-    dated = ~np.isnat(dates)
-    if not dated.all():
-        notes.append(f"{source}: {int((~dated).sum()):,} rows have no date; they count in the whole-ledger checks only.")
-    quarter = np.full(len(dates), -1, dtype=np.int64)
-    if not dated.any():
-        return quarter, ()
-    absolute = dates[dated].astype("datetime64[M]").astype(np.int64) // 3
-    first, last = absolute.min(), absolute.max()
-    quarter[dated] = absolute - first
-    counts = np.bincount(quarter[dated], minlength=last - first + 1)
-    empty = [_quarter_label(first + i) for i in np.flatnonzero(counts == 0)]
+def _check_no_quarter_is_empty(quarters: Sequence[int], source: str) -> None:
+    """Raise LedgerError when a calendar quarter between the first and the last has no rows."""
+    if not quarters:
+        return
+    first, last = quarters[0], quarters[-1]
+    empty = [_quarter_label(q) for q in range(first, last + 1) if q not in set(quarters)]
     if empty:
         raise LedgerError(
             f"{source}: quarter {', '.join(empty)} has no rows, between {_quarter_label(first)} and "
             f"{_quarter_label(last)}. The ledger looks incomplete; add the missing applications or monitor the quarters apart."
         )
-    return quarter, tuple(_quarter_label(first + i) for i in range(last - first + 1))
 
 
 def _quarter_label(index: int) -> str:

@@ -4,11 +4,14 @@
   reading a ledger whole or in batches;
 - ``inprocess``: the in-process row source (numpy; a frame in memory or a file in batches);
 - ``tables``: the count tables every engine returns (bin counts, pattern tables, score histograms);
-- ``coding``: values to bins and bins to scores, the row work the in-process engine and scoring share.
+- ``coding``: values to bins and bins to scores, the row work the in-process engine and scoring share;
+- ``keys``: the seeded split key of each row, the rule every engine draws the samples by;
+- ``sql``, ``sqlrows``: the same row work as SQL, and the row source over an engine that runs it;
+- ``duckdb``, ``spark``: the two engines (imported only when a ledger names them).
 """
 
-from .coding import UNSEEN_LABEL, code_rows, factorize_levels, score_codes, tally_unseen, unseen_levels
-from .engine import BATCH_READABLE, Batches, RowSource, reads_in_batches
+from .coding import UNSEEN_LABEL, code_rows, factorize_levels, ordered_levels, score_codes, tally_unseen, unseen_levels
+from .engine import BATCH_READABLE, Batches, RowPlace, RowSource, connect, csv_delimiter, reads_in_batches
 from .inprocess import InProcessRows, KeptCodes
 from .tables import (
     MERGE_LIMIT, BinCounts, PatternTable, ScoreHistogram, count_bins, merge_histograms, merge_pattern_tables,
@@ -16,8 +19,9 @@ from .tables import (
 )
 
 __all__ = [
-    "BATCH_READABLE", "MERGE_LIMIT", "UNSEEN_LABEL", "Batches", "BinCounts", "InProcessRows", "KeptCodes",
+    "BATCH_READABLE", "MERGE_LIMIT", "UNSEEN_LABEL", "Batches", "BinCounts", "InProcessRows", "KeptCodes", "RowPlace",
+    "connect", "csv_delimiter",
     "PatternTable", "RowSource", "ScoreHistogram", "code_rows", "count_bins", "factorize_levels", "merge_histograms",
-    "merge_pattern_tables", "pattern_keys", "pattern_table", "reads_in_batches", "row_table", "score_codes",
+    "merge_pattern_tables", "ordered_levels", "pattern_keys", "pattern_table", "reads_in_batches", "row_table", "score_codes",
     "score_histogram", "tally_unseen", "unseen_levels",
 ]

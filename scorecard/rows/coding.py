@@ -79,6 +79,11 @@ def tally_unseen(tally: dict[str, dict[str, int]], found: Mapping[str, Mapping[s
             counts[level] = counts.get(level, 0) + n
 
 
+def ordered_levels(levels: Mapping[str, int]) -> dict[str, int]:
+    """Levels with their row counts, most rows first, then by text: an order no engine's row order decides."""
+    return dict(sorted(((str(level), int(n)) for level, n in levels.items()), key=lambda pair: (-pair[1], pair[0])))
+
+
 def factorize_levels(values: pd.Series | np.ndarray) -> tuple[np.ndarray, list[str]]:
     """Return (codes, levels as text): -1 marks a missing value; 1 and 1.0 are both the level '1'."""
     codes, uniques = pd.factorize(pd.Series(values) if not isinstance(values, pd.Series) else values, use_na_sentinel=True)

@@ -22,16 +22,22 @@ to hold is a cost summed over parts (``scorecard.fitter.parts``), which such an 
 where the rows are.
 
 Whether a ledger file is read whole or in batches is decided here, once: ``reads_in_batches``.
+Where the rows are is said by a ``RowPlace`` (an engine and a path, table or query); an engine that
+keeps the rows elsewhere is reached by ``connect`` (``scorecard.rows.duckdb``, ``scorecard.rows.spark``),
+whose rows ``scorecard.rows.sqlrows.SqlRows`` counts.
 """
 
 from __future__ import annotations
 
 import os
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Callable, Iterator, Mapping, Sequence
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Protocol
 
 import pandas as pd
+
+from ..terms import DUCKDB, IN_PROCESS, SPARK
 
 # batches(columns) returns a fresh iterator of (first row, frame): one pass over the ledger
 # reading those columns; a ledger in memory yields its whole frame once
@@ -53,22 +59,84 @@ def reads_in_batches(path: str | os.PathLike[str], stream_above_mb: float, *, as
     return path.suffix.lower() in BATCH_READABLE and path.exists() and path.stat().st_size > stream_above_mb * 2**20
 
 
+def csv_delimiter(path: Path) -> str:
+    """The CSV file's delimiter: a comma, or the ';', tab or '|' its header uses instead (as some exports do)."""
+    with path.open(encoding="utf-8-sig", errors="replace") as stream:
+        header = stream.readline()
+    if "," in header:
+        return ","
+    return next((candidate for candidate in (";", "\t", "|") if candidate in header), ",")
+
+
 class RowSource(Protocol):
-    """What the stages ask of the rows; see the module's table. ``InProcessRows`` is the reference."""
+    """What the stages ask of the rows; see the module's table. ``InProcessRows`` is the reference.
+
+    A sub-sample is named: 'fitting' (the development rows with a good or bad outcome), or
+    'classing' / 'selection', the seeded sub-samples of them drawn at intake when there are more
+    than the settings' limits (``subsamples`` lists those drawn).
+    """
 
     in_memory: bool
+    subsamples: Mapping | Sequence
 
     def count_bins(self, binnings, *, keep_codes: bool, progress: Callable) -> tuple:
         ...
 
-    def gather(self, rows, columns: Sequence[str]) -> tuple:
+    def gather(self, subsample: str, columns: Sequence[str]) -> tuple:
         ...
 
-    def pattern_table(self, rows, binnings, *, kept=None):
+    def pattern_table(self, subsample: str, binnings, *, kept=None):
         ...
 
     def score_histograms(self, binnings, table, *, kept=None) -> dict:
         ...
 
-    def period_counts(self, scorecard, quarter, labels, *, source: str) -> tuple:
+    def period_counts(self, scorecard, *, by_quarter: bool) -> tuple:
         ...
+
+
+@dataclass(frozen=True)
+class RowPlace:
+    """Where a ledger's rows are: the engine that reads and counts them, and a file, a table or a query.
+
+    Attributes
+    ----------
+    engine : str
+        'in-process' (this process, from a file), 'duckdb' or 'spark'.
+    path : str
+        A file or folder (relative paths already resolved), or a DuckDB database file.
+    table : str
+        A table of the DuckDB database at ``path``, or of Spark's catalog.
+    query : str
+        A SELECT whose rows are the ledger.
+    options : mapping
+        The engine's own settings (``[duckdb]`` or ``[spark]`` of the settings file).
+    """
+
+    engine: str = IN_PROCESS
+    path: str = ""
+    table: str = ""
+    query: str = ""
+    options: Mapping[str, object] = field(default_factory=dict)
+
+    @property
+    def name(self) -> str:
+        """The ledger's name in messages: the file's name, the table, or 'the query'."""
+        if self.query:
+            return "the query" + (f" in {Path(self.path).name}" if self.path else "")
+        if self.table:
+            return f"table {self.table!r}" + (f" in {Path(self.path).name}" if self.path else "")
+        return Path(self.path).name or self.path
+
+
+def connect(place: RowPlace, *, writable: bool = False):
+    """Open the engine that holds a ledger's rows (DuckDB or Spark) with the ledger as its view ``sw__source``."""
+    if place.engine == DUCKDB:
+        from .duckdb import DuckDBEngine
+
+        return DuckDBEngine(place, writable=writable)
+    if place.engine == SPARK:
+        from .spark import SparkEngine
+
+        return SparkEngine(place)
+    raise ValueError(f"connect: no SQL engine is called {place.engine!r}")  # our own invariant: settings checked it

@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 
 from ..terms import BAD, DEVELOPMENT, GOOD, SAMPLE_NAMES, UNKNOWN
-from .coding import UNSEEN_LABEL, code_rows, score_codes, tally_unseen, unseen_levels
+from .coding import UNSEEN_LABEL, code_rows, ordered_levels, score_codes, tally_unseen, unseen_levels
 from .engine import Batches
 from .tables import (
     MERGE_LIMIT, BinCounts, PatternTable, ScoreHistogram, count_bins, merge_histograms, merge_pattern_tables,
@@ -47,6 +47,8 @@ class InProcessRows:
         The characteristic columns when the ledger is held in memory; None when it is read in batches.
     subsamples : mapping of str to numpy.ndarray
         The seeded sub-samples of a large development sample (see ``fitting_rows``).
+    dates : numpy.ndarray or None
+        datetime64[D] per row, when the ledger has a date column (monitoring counts per quarter).
     """
 
     outcome: np.ndarray
@@ -55,12 +57,21 @@ class InProcessRows:
     batches: Batches
     frame: pd.DataFrame | None = None
     subsamples: Mapping[str, np.ndarray] = field(default_factory=dict)
+    dates: np.ndarray | None = None
 
     @classmethod
     def from_frame(cls, frame: pd.DataFrame, outcome: np.ndarray, weight: np.ndarray, sample: np.ndarray, *,
-                   subsamples: Mapping[str, np.ndarray] | None = None) -> InProcessRows:
+                   subsamples: Mapping[str, np.ndarray] | None = None, dates: np.ndarray | None = None) -> InProcessRows:
         """Rows held in memory: every pass sees the whole frame at once."""
-        return cls(outcome, weight, sample, lambda columns: iter([(0, frame)]), frame, dict(subsamples or {}))
+        return cls(outcome, weight, sample, lambda columns: iter([(0, frame)]), frame, dict(subsamples or {}), dates)
+
+    @property
+    def dated(self) -> bool:
+        """Whether the rows have the date column (monitoring then counts per calendar quarter)."""
+        return self.dates is not None
+
+    def close(self) -> None:
+        """Nothing to release: the rows are this process's."""
 
     @property
     def in_memory(self) -> bool:
@@ -82,15 +93,13 @@ class InProcessRows:
     # ----------------------------------------------------------------------------------------
     # Classing
 
-    def gather(self, rows: np.ndarray, columns: Sequence[str], *, empty: pd.DataFrame) -> tuple[pd.DataFrame, np.ndarray]:
-        """Return the values of some rows (ascending row numbers) in the named columns, and their weights.
-
-        ``empty`` is the frame returned when no column is asked for of a ledger read in batches.
-        """
+    def gather(self, subsample: str, columns: Sequence[str]) -> tuple[pd.DataFrame, np.ndarray]:
+        """Return the values of a sub-sample of development (``fitting_rows``) in the named columns, and their weights."""
+        rows = self.fitting_rows(subsample)
         if self.frame is not None:
-            return self.frame.iloc[rows], self.weight[rows]
+            return self.frame.iloc[rows][list(columns)], self.weight[rows]
         if not columns:
-            return empty, self.weight[:0]
+            return pd.DataFrame(index=range(len(rows))), self.weight[rows]
         parts = []
         for first_row, frame in self.batches(list(columns)):
             inside = rows[(rows >= first_row) & (rows < first_row + len(frame))]
@@ -137,16 +146,19 @@ class InProcessRows:
                         codes[name].append(column)
                     tally_unseen(unseen, {name: levels})
         joined = {name: np.concatenate(parts) if len(parts) != 1 else parts[0] for name, parts in codes.items() if parts}
-        return counts, joined, unseen
+        return counts, joined, {name: ordered_levels(levels) for name, levels in unseen.items()}
 
     # ----------------------------------------------------------------------------------------
     # Selection and the fit
 
-    def pattern_table(self, rows: np.ndarray, binnings: Sequence, *, kept: KeptCodes | None = None) -> PatternTable:
-        """The pattern table of some rows (ascending row numbers) over the given characteristics.
+    def pattern_table(self, subsample: str, binnings: Sequence, *, kept: KeptCodes | None = None,
+                      final: bool = False) -> PatternTable:
+        """The pattern table of a sub-sample of development (``fitting_rows``) over the given characteristics.
 
-        Above ``MERGE_LIMIT`` rows the table stays rows: merging would only cost memory.
+        Above ``MERGE_LIMIT`` rows the table stays rows: merging would only cost memory (``final``,
+        the final fit's table, is treated alike here: the rows are this process's anyway).
         """
+        rows = self.fitting_rows(subsample)
         columns = tuple(b.characteristic for b in binnings)
         if len(rows) > MERGE_LIMIT:
             return self._row_table(rows, binnings, kept)
@@ -195,29 +207,42 @@ class InProcessRows:
                         scores[inside], outcome[inside] == GOOD, outcome[inside] == BAD, weight[inside], sample=name))
         return {name: merge_histograms(pieces) for name, pieces in parts.items()}
 
-    def period_counts(self, scorecard, quarter: np.ndarray | None, labels: Sequence[str], *, source: str):
-        """One pass over a new ledger: per period ('all' and each quarter), the score histogram, every model
-        characteristic's weighted rows per bin, and the weight of rows with no outcome; and the unseen levels."""
+    def period_counts(self, scorecard, *, by_quarter: bool):
+        """One pass over a new ledger: per period ('all', and each calendar quarter as its number since 1970
+        when ``by_quarter``), the score histogram, every model characteristic's weighted rows per bin, and the
+        weight of rows with no outcome; the levels never seen at build time; and the number of undated rows.
+        """
         table = scorecard.table
         outcome, weight = self.outcome, self.weight
+        quarter = _absolute_quarters(self.dates) if by_quarter and self.dates is not None else None
+        labels = sorted(set(quarter[quarter >= 0].tolist())) if quarter is not None else []
         parts = {label: {"histograms": [], "counts": {c.name: np.zeros(len(c.points)) for c in table.characteristics},
                          "unknown": 0.0} for label in ("all", *labels)}
         unseen: dict[str, dict[str, int]] = {}
         for first_row, frame in self.batches([b.characteristic for b in scorecard.binnings]):
-            codes = scorecard.codes(frame, source=source)
+            codes = scorecard.codes(frame)
             scores = score_codes(codes, table)
             rows = slice(first_row, first_row + len(frame))
             tally_unseen(unseen, scorecard.unseen(frame))
             periods = [("all", np.ones(len(frame), bool))]
             if quarter is not None:
-                periods += [(label, quarter[rows] == index) for index, label in enumerate(labels)]
+                periods += [(label, quarter[rows] == label) for label in labels]
             for label, inside in periods:
                 o, w = outcome[rows][inside], weight[rows][inside]
                 part = parts[label]
-                part["histograms"].append(score_histogram(scores[inside], o == GOOD, o == BAD, w, sample=label))
+                part["histograms"].append(score_histogram(scores[inside], o == GOOD, o == BAD, w, sample=str(label)))
                 for j, char in enumerate(table.characteristics):
                     part["counts"][char.name] += np.bincount(codes[inside, j], weights=w, minlength=len(char.points))
                 part["unknown"] += float(w[o == UNKNOWN].sum())
         merged = {label: {"histogram": merge_histograms(part["histograms"]), "counts": part["counts"],
                           "unknown": part["unknown"]} for label, part in parts.items()}
-        return merged, unseen
+        undated = int((quarter < 0).sum()) if quarter is not None else 0
+        return merged, {name: ordered_levels(levels) for name, levels in unseen.items()}, undated
+
+
+def _absolute_quarters(dates: np.ndarray) -> np.ndarray:
+    """Each date's calendar quarter counted from 1970's first (-1: no date)."""
+    quarter = np.full(len(dates), -1, dtype=np.int64)
+    dated = ~np.isnat(dates)
+    quarter[dated] = dates[dated].astype("datetime64[M]").astype(np.int64) // 3
+    return quarter

@@ -26,6 +26,10 @@ each row gets a key computed from its content alone, by rules every engine can f
    (0 <= key < 2**60; a SQL engine's BIGINT holds it). The split key is that of the id column's
    row text when the ledger has an id column, else that of the whole row.
 
+4. **How many and which**: each outcome class of n rows gives ``holdout_count(n, fraction)`` rows
+   of smallest key to the hold-out; a sub-sample of development takes the rows of smallest
+   ``subsample_keys`` (the keys reordered by an odd multiplier, one per purpose).
+
 MD5 here is a well-spread hash every SQL engine has, not a guard against anyone: nothing secret
 depends on it. It is computed in numpy, one 64-byte block per step for many rows at once.
 """
@@ -34,8 +38,8 @@ from __future__ import annotations
 
 import datetime
 import decimal
-import hashlib
 from collections.abc import Sequence
+from fractions import Fraction
 
 import numpy as np
 import pandas as pd
@@ -162,6 +166,34 @@ def md5_keys(texts: pa.Array) -> np.ndarray:
             part = rows[start:start + _CHUNK_ROWS]
             keys[part] = _md5_prefix(_padded(texts.take(pa.array(part)), lengths[part], int(n_blocks)))
     return keys
+
+
+# --------------------------------------------------------------------------------------------
+# How many rows, and which order, each sample takes
+
+
+def holdout_count(n_rows: int, fraction: float) -> int:
+    """Rows of a class that go to the hold-out sample: floor(n × fraction + 1/2), in exact arithmetic.
+
+    The fraction is taken as the decimal the settings file writes (0.3 is 3/10), so every engine
+    rounds the same way.
+    """
+    return int(n_rows * Fraction(repr(float(fraction))) + Fraction(1, 2))
+
+
+# odd 64-bit multipliers (the golden ratio's and a well-known hash prime) that reorder the split keys
+# for each sub-sample of development, so that it is drawn independently of the hold-out
+SUBSAMPLE_MULTIPLIERS = {"classing": 0x9E3779B97F4A7C15, "selection": 0xC2B2AE3D27D4EB4F}
+
+
+def subsample_keys(keys: np.ndarray, purpose: str) -> np.ndarray:
+    """The split keys reordered for a sub-sample: the top 60 bits of key × multiplier modulo 2**64.
+
+    A one-to-one map (the multiplier is odd), so rows of different keys keep different keys;
+    multiplicative hashing as in D. E. Knuth, The Art of Computer Programming, vol. 3, section 6.4.
+    """
+    product = keys.astype(np.uint64) * np.uint64(SUBSAMPLE_MULTIPLIERS[purpose])  # wraps modulo 2**64
+    return (product >> np.uint64(4)).astype(np.int64)
 
 
 # --------------------------------------------------------------------------------------------

@@ -16,6 +16,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import SettingsError
+from ..terms import IN_PROCESS
 from .renamed import RENAMED_SHAPES, renamed_key, renamed_key_message
 from .schema import SECTIONS, CharacteristicSettings, ProposalSettings, Settings
 
@@ -210,6 +211,12 @@ def _check_consistency(settings: Settings, source: str) -> None:
         if column and column in taken:
             raise SettingsError(f"{source}: {key} and {taken[column]} both name column {column!r}; each role needs its own column.")
         taken[column] = key
+    ledger = settings.ledger
+    if ledger.table and ledger.query:
+        raise SettingsError(f"{source}: ledger.table and ledger.query are both set; give one (the query can read the table).")
+    if ledger.engine == IN_PROCESS and (ledger.table or ledger.query):
+        key = "ledger.table" if ledger.table else "ledger.query"
+        raise SettingsError(f"{source}: {key} needs an engine that reads tables: set ledger.engine = \"duckdb\" or \"spark\".")
     if settings.selection.p_enter > settings.selection.p_remove:
         raise SettingsError(
             f"{source}: selection.p_enter ({settings.selection.p_enter}) is above selection.p_remove "

@@ -16,7 +16,8 @@ from pathlib import Path
 from typing import Any
 
 from ..terms import (
-    ACT_P, ACT_PSI, BAD_RATE_SHAPES, COEFFICIENT_RANGE, FROM_DATA, GINI_DROP, LEAKAGE_IV, REJECT_METHODS, WATCH_P, WATCH_PSI,
+    ACT_P, ACT_PSI, BAD_RATE_SHAPES, COEFFICIENT_RANGE, ENGINES, FROM_DATA, GINI_DROP, IN_PROCESS, LEAKAGE_IV, REJECT_METHODS,
+    WATCH_P, WATCH_PSI,
 )
 from .text import toml_value
 
@@ -52,7 +53,15 @@ def _is_iso_date(text: str) -> bool:
 class LedgerSettings:
     """Where the ledger is and which of its columns play special roles."""
 
-    path: str = _key("", "ledger file (CSV, Parquet or .xlsx), relative to the settings file")
+    path: str = _key("", "ledger file (CSV, Parquet or .xlsx), relative to the settings file; through an engine also a "
+                         "folder of Parquet or CSV files, or a DuckDB database")
+    engine: str = _key(
+        IN_PROCESS, "where the rows are read and counted: in-process (this program), duckdb (an embedded SQL engine) or "
+        "spark (a cluster, or Spark on this machine); the same ledger gives the same model file on each",
+        _one_of(*ENGINES), "one of " + ", ".join(ENGINES),
+    )
+    table: str = _key("", "a table holding the ledger: in the DuckDB database at path, or in Spark's catalog")
+    query: str = _key("", "a SQL SELECT whose rows are the ledger (duckdb: run in the database at path, if any; spark)")
     id_column: str = _key("", "column identifying an application; never a characteristic, never in a report")
     date_column: str = _key("", "application date; used for the out-of-time sample and quarterly monitoring")
     weight_column: str = _key("", "case weight of each row (blank: every row weighs 1)")
@@ -62,6 +71,22 @@ class LedgerSettings:
         lambda v: v > 0, "a positive size in MB",
     )
     batch_rows: int = _key(500_000, "rows per batch when a ledger is read in batches", lambda v: v >= 100, "at least 100")
+
+
+@dataclass(frozen=True)
+class DuckDBSettings:
+    """The DuckDB engine (ledger.engine = "duckdb")."""
+
+    memory_limit: str = _key("", "most memory DuckDB may use, e.g. \"4GB\"; it spills the rest to a temporary folder (blank: its default)")
+    threads: int = _key(0, "threads DuckDB may use (0: one per core)", lambda v: v >= 0, "a whole number >= 0")
+
+
+@dataclass(frozen=True)
+class SparkSettings:
+    """The Spark engine (ledger.engine = "spark")."""
+
+    master: str = _key("", "the Spark master, e.g. \"spark://host:7077\" or \"yarn\" (blank: $SPARK_MASTER, else this machine)")
+    config: tuple[str, ...] = _key((), "other Spark settings as \"key=value\", e.g. [\"spark.executor.memory=8g\"]")
 
 
 @dataclass(frozen=True)
@@ -306,6 +331,8 @@ class ReportSettings:
 
 SECTIONS: dict[str, type] = {
     "ledger": LedgerSettings,
+    "duckdb": DuckDBSettings,
+    "spark": SparkSettings,
     "outcome": OutcomeSettings,
     "samples": SampleSettings,
     "classing": ClassingSettings,
@@ -324,6 +351,8 @@ class Settings:
     """Every decision of one scorecard build."""
 
     ledger: LedgerSettings = field(default_factory=LedgerSettings)
+    duckdb: DuckDBSettings = field(default_factory=DuckDBSettings)
+    spark: SparkSettings = field(default_factory=SparkSettings)
     outcome: OutcomeSettings = field(default_factory=OutcomeSettings)
     samples: SampleSettings = field(default_factory=SampleSettings)
     classing: ClassingSettings = field(default_factory=ClassingSettings)
