@@ -19,8 +19,10 @@ test: $(STAMP)
 demo: $(STAMP)
 	$(BIN)/scorewright demo --out $(DEMO_OUT) --force
 
+# every figure side by side in one run: the 1M-row comparisons, streamed builds of 1M to 30M rows,
+# and the same build through each engine (in process, DuckDB, Spark) on 1M and 10M rows
 bench: $(STAMP)
-	$(BIN)/python -m benchmarks
+	$(BIN)/python -m benchmarks --streaming --engines
 
 # Long property runs, kept out of `make test`: the exports' round trip on 1,000,000 generated
 # applications (make test runs 100,000)

@@ -1,13 +1,14 @@
 """Run the benchmarks and write benchmarks/RESULTS.md.
 
-``python -m benchmarks [--rows 1000000] [--pairs 5] [--quick] [--streaming] [--sizes 1000000,10000000,30000000]``
+``python -m benchmarks [--rows 1000000] [--pairs 5] [--quick] [--streaming] [--sizes 1000000,10000000,30000000] [--engines]``
 
 In order: make (or reuse) the ledger; run ``scorewright init`` once; time pandas' two CSV engines
 and keep the faster as the parse-only baseline; time ``scorewright --help``; alternate parse-only
 with build (with and without reports), the hand-written pipeline and score, ``--pairs`` rounds;
 compute the true model's AUC; time in-memory scoring; time report rendering at two sizes; with
-``--streaming``, time streamed builds on Parquet ledgers of each size. RESULTS.md is written at the
-end, atomically. Progress goes to stderr.
+``--streaming``, time streamed builds on Parquet ledgers of each size; with ``--engines``, the same
+build through each engine (``rowengines.py``). RESULTS.md is written at the end, atomically.
+Progress goes to stderr.
 """
 
 from __future__ import annotations
@@ -22,6 +23,7 @@ from . import sections as s
 from .data import ledger_file
 from .machine import changed_files, code_fingerprint, machine
 from .results import Results
+from .rowengines import PLAN, engine_builds
 from .streaming import streamed_builds
 from .writing import write_results
 
@@ -30,6 +32,8 @@ QUICK_ROWS, QUICK_PAIRS = 100_000, 2
 STREAM_SIZES = (1_000_000, 10_000_000, 30_000_000)
 QUICK_STREAM_SIZES = (100_000, 1_000_000, 3_000_000)
 SCORING_REPEATS = 5
+QUICK_ENGINE_PLAN = (("in-process", (), (100_000,)), ("in-process", ("--stream",), (100_000,)), ("duckdb", (), (100_000,)),
+                     ("spark", (), (100_000,)))
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -61,6 +65,8 @@ def main(argv: list[str] | None = None) -> int:
     results.reports = s.report_rendering((rows // 10, rows), SEED, settings, _log)
     if options.streaming:
         results.streaming = streamed_builds(sizes, SEED, settings, _log)
+    if options.engines:
+        results.row_engines = engine_builds(SEED, settings, _log, QUICK_ENGINE_PLAN if options.quick else PLAN)
     results.finished = datetime.now()
     results.code_changes = changed_files(code, code_fingerprint())
     _log(f"written {write_results(results, RESULTS)}")
@@ -75,6 +81,8 @@ def _parser() -> argparse.ArgumentParser:
     parser.add_argument("--streaming", action="store_true", help="also time streamed builds on Parquet ledgers")
     parser.add_argument("--sizes", type=_sizes, help="rows of the streamed ledgers, comma-separated "
                         "(default 1000000,10000000,30000000; with --quick 100000,1000000,3000000)")
+    parser.add_argument("--engines", action="store_true",
+                        help="also build through each engine (in process, DuckDB, Spark) on Parquet ledgers of 1M and 10M rows")
     parser.add_argument("--note", default="", help="a sentence to put at the top of RESULTS.md (e.g. the machine was busy)")
     return parser
 

@@ -42,6 +42,7 @@ class Run:
     stdout: str
     stderr: str
     stopped: str = ""  # "memory" or "time" when the harness ended the process before it finished
+    session_peak_mb: float = 0.0  # largest resident memory of every process it started together, sampled (a JVM too)
 
     @property
     def ok(self) -> bool:
@@ -72,12 +73,12 @@ def run_process(label: str, argv: Sequence[str], *, timeout: float = TIMEOUT_SEC
     load = os.getloadavg()[0]
     cap = memory_cap_mb or 0.75 * _machine_memory_mb()
     try:
-        returncode, stdout, stderr, stopped = _run([str(GNU_TIME), "-v", "-o", report, *map(str, argv)], timeout, cap)
+        returncode, stdout, stderr, stopped, session_peak = _run([str(GNU_TIME), "-v", "-o", report, *map(str, argv)], timeout, cap)
         figures = _gnu_time_figures(Path(report).read_text())
     finally:
         os.unlink(report)
     return Run(label, tuple(map(str, argv)), returncode, figures["wall"], figures["peak_mb"], figures["cpu"],
-               load, stdout, stderr, stopped)
+               load, stdout, stderr, stopped, max(session_peak, figures["peak_mb"]))
 
 
 def alternate(baseline: Command, others: Sequence[Command], pairs: int, *,
@@ -108,11 +109,11 @@ def median(values: Sequence[float]) -> float | None:
     return statistics.median(values) if values else None
 
 
-def _run(argv: list[str], timeout: float, cap_mb: float) -> tuple[int, str, str, str]:
+def _run(argv: list[str], timeout: float, cap_mb: float) -> tuple[int, str, str, str, float]:
     # A session of its own: the processes in it are exactly GNU time and what it runs.
     process = subprocess.Popen(argv, cwd=REPO, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
                                start_new_session=True)
-    deadline, stopped, note = time.monotonic() + timeout, "", ""
+    deadline, stopped, note, peak = time.monotonic() + timeout, "", "", 0.0
     try:
         while True:
             try:
@@ -120,6 +121,7 @@ def _run(argv: list[str], timeout: float, cap_mb: float) -> tuple[int, str, str,
                 break
             except subprocess.TimeoutExpired:
                 resident = _session_rss_mb(process.pid)
+                peak = max(peak, resident)
                 if not stopped and resident > cap_mb:
                     stopped, note = "memory", f"benchmarks: stopped at {resident:,.0f} MB resident, above the cap of {cap_mb:,.0f} MB"
                 elif not stopped and time.monotonic() > deadline:
@@ -129,7 +131,7 @@ def _run(argv: list[str], timeout: float, cap_mb: float) -> tuple[int, str, str,
     except BaseException:  # Ctrl-C: end the processes we started before stopping
         os.killpg(process.pid, signal.SIGKILL)
         raise
-    return process.returncode, stdout, stderr + (f"\n{note}" if note else ""), stopped
+    return process.returncode, stdout, stderr + (f"\n{note}" if note else ""), stopped, peak
 
 
 def _session_members(session: int) -> list[int]:

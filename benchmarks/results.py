@@ -42,6 +42,7 @@ class Results:
     scoring: dict = field(default_factory=dict)
     reports: dict | str | None = None
     streaming: list[tuple[int, Run]] | str | None = None
+    row_engines: list[dict] | None = None  # the same build through each engine (rowengines.py)
     finished: datetime | None = None
     code_changes: list[str] = field(default_factory=list)  # tool files that changed during the run
 
@@ -52,6 +53,7 @@ class Results:
             found += [run for pair in pairs for run in pair]
         if isinstance(self.streaming, list):
             found += [run for _, run in self.streaming]
+        found += [build["run"] for build in self.row_engines or []]
         return found
 
 

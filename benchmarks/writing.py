@@ -29,7 +29,7 @@ def markdown(results: r.Results) -> str:
     parts = [
         _heading(results), _machine(results), _targets(results), _processes(results), _auc(results),
         _engines(results), _help(results), _scoring(results), _reports(results), _streaming(results),
-        _where_time_goes(results), _profile(), _every_run(results),
+        _row_engines(results), _where_time_goes(results), _profile(), _every_run(results),
     ]
     return "\n\n".join(part.rstrip() for part in parts if part) + "\n"
 
@@ -189,6 +189,22 @@ def _streaming(results: r.Results) -> str:
              "staying near the smallest size's.\n\n")
     return text + table(["rows", "wall s", "peak RSS MB", "peak vs smallest", "s per million rows",
                          "per-row time vs smallest"], rows, numeric=(0, 1, 2, 3, 4, 5))
+
+
+def _row_engines(results: r.Results) -> str:
+    text = "## Engines: the same build where the rows live\n\n"
+    if results.row_engines is None:
+        return text + "Not run (pass `--engines`)."
+    from .rowengines import summary_rows
+
+    text += ("`scorewright build SETTINGS --out DIR --force --no-reports --timings --engine E` once per engine and size, "
+             "on the Parquet ledger of that size; in process the 1M ledger is read whole and the 10M one in batches "
+             "(`--stream`). Peak RSS of the process is GNU time's; of the process tree, sampled every 0.25 s (Spark's "
+             "JVM is a process of its own). Time against in-process: the in-process build of the same size (read whole "
+             "at 1M, streamed at 10M). Same model: the model file equals the in-process one but for `ledger.engine`. "
+             "On this 2-core machine Spark is not expected to win: the point is the same answer where the data lives.\n\n")
+    return text + table(["engine", "rows", "wall s", "peak RSS MB (process)", "peak RSS MB (process tree)",
+                         "time vs in-process", "same model"], summary_rows(results.row_engines), numeric=(1, 2, 3, 4, 5))
 
 
 def _where_time_goes(results: r.Results) -> str:

@@ -23,7 +23,7 @@ from .errors import LedgerError, SettingsError
 from .files import replacing, replacing_folder, write_text_atomically
 from .intake import (
     closest_names, columns_of, default_outcome_mapping, detect_kind, fingerprint_of, ledger_columns, ledger_place,
-    looks_like_identifier_or_date, open_ledger, outcome_key, prepare_ledger, read_batches, read_ledger,
+    looks_like_identifier_or_date, open_batches, open_ledger, outcome_key, prepare_ledger, read_ledger,
 )
 from .modelfile import load_model, model_document, save_model
 from .options import (
@@ -31,7 +31,7 @@ from .options import (
 )
 from .report.text import build_summary, iv_table, monitor_summary
 from .terms import ENGINES, IN_PROCESS, SPARK
-from .rows import ordered_levels, reads_in_batches, tally_unseen
+from .rows import ordered_levels, tally_unseen
 from .settings import (
     CharacteristicSettings, Settings, edit_settings, read_settings, settings_from_mapping, settings_to_mapping, write_settings,
 )
@@ -238,14 +238,10 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     folder = ledger_path.parent if ledger_path else options.source.resolve().parent
     out = options.out or folder / f"{options.source.stem}-build"
     check_output_folder(out, options.force, outputs=BUILD_OUTPUTS)
-    in_batches = place.engine == IN_PROCESS and reads_in_batches(ledger_path, settings.ledger.stream_above_mb,
-                                                                 asked=options.stream or None)
-    if in_batches:
-        streams.note(f"reading {ledger_path.name} in batches of about {settings.ledger.batch_rows:,} rows")
     with clock("intake"):
-        ledger, rows = open_ledger(place, settings, stream=in_batches)
+        ledger, rows = open_ledger(place, settings, stream=options.stream or None)
     try:
-        _say_read(streams, ledger, place, in_batches)
+        _say_read(streams, ledger, place, rows, settings)
         build = build_scorecard(ledger, settings, rows=rows, progress=lambda items: streams.progress(items, "classing"),
                                 timings=timings)
     finally:
@@ -275,12 +271,14 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     return EXIT_OK
 
 
-def _say_read(streams: Streams, ledger, place, in_batches: bool) -> None:
-    """Say what was read, and where the rows are counted."""
+def _say_read(streams: Streams, ledger, place, rows, settings: Settings) -> None:
+    """Say what was read, how (whole or in batches), and where the rows are counted."""
     if place.engine != IN_PROCESS:
         streams.note(f"{ledger.n_rows:,} rows of {ledger.source} are kept and counted by {place.engine}")
-    elif not in_batches:
+    elif rows.in_memory:
         streams.note(f"read {ledger.n_rows:,} rows and {len(ledger.frame.columns)} columns from {ledger.source}")
+    else:
+        streams.note(f"{ledger.source}: {ledger.n_rows:,} rows, read in batches of about {settings.ledger.batch_rows:,} rows")
 
 
 def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out: Path) -> list[Path]:
@@ -394,10 +392,7 @@ def run_score(options: ScoreOptions, streams: Streams) -> int:
     wanted = [b.characteristic for b in scorecard.binnings] + ([scorecard.id_column] if scorecard.id_column in columns else [])
     if any(b.characteristic not in columns for b in scorecard.binnings):
         scorecard.codes(pd.DataFrame(columns=columns), source=source)  # raises, naming the missing columns
-    if reads_in_batches(options.ledger, saved.settings.ledger.stream_above_mb, asked=options.stream or None):
-        batches = read_batches(options.ledger, wanted, batch_rows=saved.settings.ledger.batch_rows)
-    else:  # only the columns scoring needs are read
-        batches = iter([(0, read_ledger(options.ledger, columns=wanted))])
+    batches = open_batches(options.ledger, wanted, saved.settings, stream=options.stream or None)
     unseen: dict[str, dict[str, int]] = {}
     summary = {"rows": 0, "low": np.inf, "high": -np.inf}
 
@@ -523,16 +518,10 @@ def run_monitor(options: MonitorOptions, streams: Streams) -> int:
     saved = load_model(options.model)
     place = command_place(options, saved.settings)
     settings = monitoring_settings(saved.settings, columns_of(place))
-    in_batches = place.engine == IN_PROCESS and reads_in_batches(options.ledger, settings.ledger.stream_above_mb,
-                                                                 asked=options.stream or None)
-    if in_batches:
-        streams.note(f"reading {place.name} in batches of about {settings.ledger.batch_rows:,} rows")
-    ledger, rows = open_ledger(place, settings, stream=in_batches, require_outcome=False)
+    ledger, rows = open_ledger(place, settings, stream=options.stream or None, require_outcome=False)
     source = ledger.source
     try:
-        if place.engine != IN_PROCESS or not in_batches:
-            streams.note(f"read {ledger.n_rows:,} rows from {source}" if place.engine == IN_PROCESS else
-                         f"{ledger.n_rows:,} rows of {source} are kept and counted by {place.engine}")
+        _say_read(streams, ledger, place, rows, settings)
         result = monitor_rows(saved, rows, by_quarter=rows.dated, source=source)
     finally:
         rows.close()

@@ -23,7 +23,7 @@ from ..settings import Settings
 from ..terms import BAD, DEVELOPMENT, DUCKDB, GOOD, IN_PROCESS, OUT_OF_TIME, REJECTED, SPARK, UNKNOWN
 from .kinds import check_finite, choose_characteristics, role_columns
 from .ledger import Fingerprint, Ledger, RejectedRows, fingerprint_of
-from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, ledger_columns, read_head, read_ledger
+from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, ledger_columns, read_batches, read_head, read_ledger
 from .roles import check_roles, role_values, unit_weights
 from .samples import (
     draw_subsamples, frame_tie_texts, key_columns, needs_keys, out_of_time, sample_keys, split_samples,
@@ -86,6 +86,14 @@ def ledger_place(settings: Settings, *, path: str | os.PathLike[str] | None = No
     location = str(path) if path is not None else (str(settings.ledger_path()) if ledger.path else "")
     options = {IN_PROCESS: {}, DUCKDB: dataclasses.asdict(settings.duckdb), SPARK: dataclasses.asdict(settings.spark)}[engine]
     return RowPlace(engine, location, ledger.table if table is None else table, ledger.query if query is None else query, options)
+
+
+def open_batches(path: str | os.PathLike[str], columns: Sequence[str], settings: Settings, *, stream: bool | None = None):
+    """The named columns of a ledger file, for scoring in this process: in batches of ``ledger.batch_rows`` when
+    ``reads_in_batches`` says so (as ``open_ledger`` decides), else whole; an iterator of (first row, frame)."""
+    if reads_in_batches(path, settings.ledger.stream_above_mb, asked=stream):
+        return read_batches(path, columns, batch_rows=settings.ledger.batch_rows)
+    return iter([(0, read_ledger(path, columns=columns))])
 
 
 def columns_of(place: RowPlace) -> list[str]:
