@@ -22,6 +22,7 @@ import sqlprobes  # tests/sqlprobes.py: values that break careless rules
 from scorecard.build import build_scorecard
 from scorecard.cli import main
 from scorecard.demo.generator import generate_ledger, write_ledger
+from scorecard.errors import LedgerError
 from scorecard.intake import open_ledger
 from scorecard.intake.prepare import ledger_place
 from scorecard.modelfile import model_document
@@ -225,3 +226,15 @@ def _cli_build(demo):
              "--out-of-time-from", "2025-01-01", "--leave-out", "collections_status", "--out", settings, "--force")
         _run("build", settings, "--out", demo["folder"] / "build", "--no-reports", "--force")
     return model
+
+
+def test_rejected_applications_through_an_engine_are_refused_with_what_to_do(demo, tmp_path):
+    # reject inference sets the rejected rows apart in memory; an engine keeps every row where it is
+    from scorecard.demo.generator import with_rejections
+
+    frame, _ = with_rejections(pd.read_parquet(demo["parquet"]).head(3_000), seed=DEMO_SEED)
+    path = write_ledger(frame, tmp_path / "decided.parquet")
+    settings = _settings(engine="duckdb").replace(rejects={"decision_column": "decision", "rejected": ("declined",)})
+    with pytest.raises(LedgerError, match=r"decided.parquet: \d[\d,]* rejected applications, which are set apart .* only by the "
+                                        r"in-process engine"):
+        _document(path, settings)
