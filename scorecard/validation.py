@@ -375,7 +375,7 @@ def _overfitting_flags(validation: Validation, checks: CheckSettings) -> list[Fl
         drop = 1 - result.auc.gini / development.auc.gini
         if sample != DEVELOPMENT_NAME and drop > checks.gini_drop:
             flags.append(Flag("over-fitting", f"The Gini falls from {development.auc.gini:.4f} on development to "
-                                              f"{result.auc.gini:.4f} on the {sample} sample, {drop:.0%} less: more "
+                                              f"{result.auc.gini:.4f} on the {sample} sample, {drop:.1%} less: more "
                                               f"than {checks.gini_drop:.0%}, which can mean over-fitting.", "discrimination"))
     return flags
 

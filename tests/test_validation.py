@@ -109,7 +109,7 @@ def test_over_fitting_is_flagged_when_the_gini_falls_by_more_than_the_threshold(
     # common practice, no source: a relative fall of more than 10% from development deserves a look
     flags = _flags_of([1.0], {"development": 0.60, "hold-out": 0.53, "out-of-time": 0.55})
     assert [f.kind for f in flags] == ["over-fitting"]
-    assert "0.6000 on development to 0.5300 on the hold-out sample, 12% less" in flags[0].text
+    assert "0.6000 on development to 0.5300 on the hold-out sample, 11.7% less" in flags[0].text
     assert _flags_of([1.0], {"development": 0.60, "hold-out": 0.55}) == ()  # 8% less
 
 
