@@ -93,7 +93,14 @@ LEVELS: dict[str, tuple[str, ...]] = {
 
 CATEGORICAL_CHARACTERISTICS = tuple(LEVELS)
 CHARACTERISTICS = NUMERIC_CHARACTERISTICS + CATEGORICAL_CHARACTERISTICS
-COLUMNS = (ID_COLUMN, DATE_COLUMN) + CHARACTERISTICS + (TARGET,)
+# Protected attributes the ledger records, for the fairness checks only (invented scenario, no outside
+# source). National origin is spread unevenly over the home districts, more in those where loans go bad
+# more often, so that home_district stands in for it: the proxy the checks should find.
+PROTECTED = ("applicant_sex", "national_origin")
+PROTECTED_LEVELS = {"applicant_sex": ("female", "male"), "national_origin": ("born_here", "born_abroad")}
+FEMALE_SHARE = 0.48
+BORN_ABROAD_SHARE = {"riskier districts": 0.8, "other districts": 0.03}
+COLUMNS = (ID_COLUMN, DATE_COLUMN) + CHARACTERISTICS + PROTECTED + (TARGET,)
 
 # Special codes stand for "no record", not for a number of months.
 SPECIAL_CODES: dict[str, int] = {"months_since_delinquency": -1, "months_since_last_enquiry": 999}
@@ -412,7 +419,9 @@ def _blocks(n_rows: int, seed: int, quarters: int, drift: bool) -> Iterator[pd.D
     for number, start in enumerate(range(0, n_rows, BLOCK_ROWS)):
         # A spawn key of its own per block: block k's stream does not depend on how many follow.
         rng = np.random.default_rng(np.random.SeedSequence(seed, spawn_key=(number,)))
-        yield _block(rng, start, min(start + BLOCK_ROWS, n_rows), n_rows, quarters, drift)
+        # the protected attributes draw from a stream of their own, so every other column is as it was without them
+        protected_rng = np.random.default_rng(np.random.SeedSequence(seed, spawn_key=(number, 1)))
+        yield _block(rng, protected_rng, start, min(start + BLOCK_ROWS, n_rows), n_rows, quarters, drift)
 
 
 def _rechunk(blocks: Iterator[pd.DataFrame], chunk_rows: int) -> Iterator[pd.DataFrame]:
@@ -436,7 +445,8 @@ def _rechunk(blocks: Iterator[pd.DataFrame], chunk_rows: int) -> Iterator[pd.Dat
 
 
 def _block(
-    rng: np.random.Generator, start: int, stop: int, n_rows: int, quarters: int, drift: bool
+    rng: np.random.Generator, protected_rng: np.random.Generator, start: int, stop: int, n_rows: int, quarters: int,
+    drift: bool,
 ) -> pd.DataFrame:
     """Make rows ``start`` to ``stop`` of a ledger of ``n_rows`` rows."""
     size = stop - start
@@ -452,8 +462,23 @@ def _block(
     bad_probability = true_bad_probability(frame, quarters=quarters, drift=drift)
     outcome = _outcome_codes(rng, bad_probability)
     frame[LEAKING] = _categorical(_collections_codes(rng, outcome), LEAKING)
+    for name, values in _protected_columns(protected_rng, frame["home_district"]).items():
+        frame[name] = values
     frame[TARGET] = pd.Categorical.from_codes(outcome, categories=OUTCOMES)
     return frame
+
+
+def _protected_columns(rng: np.random.Generator, district: pd.Series) -> dict[str, pd.Categorical]:
+    """Draw sex (independent of risk) and national origin (more often born abroad in the riskier districts)."""
+    size = len(district)
+    effects = LEVEL_EFFECTS["home_district"]
+    riskier = district.map(lambda level: effects[level] > 0.2).to_numpy(dtype=bool)
+    abroad = rng.random(size) < np.where(riskier, BORN_ABROAD_SHARE["riskier districts"], BORN_ABROAD_SHARE["other districts"])
+    female = rng.random(size) < FEMALE_SHARE
+    return {
+        "applicant_sex": pd.Categorical.from_codes(np.where(female, 0, 1), categories=PROTECTED_LEVELS["applicant_sex"]),
+        "national_origin": pd.Categorical.from_codes(abroad.astype(int), categories=PROTECTED_LEVELS["national_origin"]),
+    }
 
 
 def _dates(

@@ -27,7 +27,7 @@ from .rows import InProcessRows, PatternTable, RowSource, ScoreHistogram, score_
 from .scoring import Scorecard
 from .selection import Decision, SelectionResult, select_characteristics
 from .settings import Settings
-from .terms import DEVELOPMENT_NAME, NO_INFERENCE
+from .terms import DEVELOPMENT, DEVELOPMENT_NAME, NO_INFERENCE, SAMPLE_NAMES
 
 
 @dataclass(frozen=True)
@@ -63,6 +63,26 @@ class RejectInference:
     def accepted_performance(self) -> dict[str, dict[str, float]]:
         """AUC, Gini and KS of the accepted-only scorecard per sample of booked applications."""
         return performance_of(self.accepted_histograms)
+
+
+@dataclass(frozen=True)
+class ProtectedAttribute:
+    """A protected attribute's levels, and what the fairness checks need of them (counted in one pass).
+
+    Attributes
+    ----------
+    name : str
+    levels : tuple of str
+    histograms : dict of sample name to (dict of level to ScoreHistogram)
+        Each level's scores, per sample.
+    crosstabs : dict of characteristic to numpy.ndarray
+        Per model characteristic, the development sample's weighted rows per bin (rows) and level (columns).
+    """
+
+    name: str
+    levels: tuple[str, ...]
+    histograms: Mapping[str, Mapping[str, ScoreHistogram]]
+    crosstabs: Mapping[str, np.ndarray]
 
 
 @dataclass(frozen=True)
@@ -103,10 +123,15 @@ class Build:
     histograms: Mapping[str, ScoreHistogram]
     notes: tuple[str, ...]
     rejects: RejectInference | None = None
+    protected: tuple[ProtectedAttribute, ...] = ()
 
     def characteristic(self, name: str) -> ClassedCharacteristic:
         """Return one classed characteristic by name."""
         return next(c for c in self.characteristics if c.name == name)
+
+    def selection_left_out(self) -> dict[str, str]:
+        """The columns left out before selection (by intake or the settings), with the reason."""
+        return {d.characteristic: d.reason for d in self.selection.log if d.step in ("intake", "settings")}
 
     def performance(self) -> dict[str, dict[str, float]]:
         """Return AUC (with its DeLong standard error), Gini and KS per sample that has goods and bads.
@@ -188,10 +213,23 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
                 "check it is known at the time of application; if not, set use = \"never\" under "
                 f"[characteristics.{name}] and build again.", ScorecardWarning, stacklevel=2,
             )
+    with clock("fairness"):
+        protected, fairness_notes = _protected_attributes(ledger, rows, model, kept=None if rejects else model.classed.kept)
     resolved = _resolved_settings(settings, model.classed)
-    notes = (*ledger.notes, *model.classed.notes, *notes)
+    notes = (*ledger.notes, *model.classed.notes, *notes, *fairness_notes)
     return Build(resolved, ledger.source, ledger.fingerprint, ledger.sample_summary(), model.classed.characteristics,
-                 model.selection, model.scorecard, histograms, notes, rejects)
+                 model.selection, model.scorecard, histograms, notes, rejects, protected)
+
+
+def _protected_attributes(ledger: Ledger, rows, model: _Model, *, kept) -> tuple[tuple, tuple[str, ...]]:
+    """Count the protected attributes' levels for the fairness checks; an engine that cannot yet says so in a note."""
+    if not ledger.protected:
+        return (), ()
+    if not hasattr(rows, "level_tables"):
+        return (), (f"The fairness checks of {', '.join(map(repr, ledger.protected))} were not computed: they count the "
+                    "rows in this process, and this ledger's rows are kept by an engine (build it in process to have them).",)
+    return tuple(_protected(name, levels, rows, model.binnings, model.table, kept)
+                 for name, levels in ledger.protected.items()), ()
 
 
 @dataclass(frozen=True)
@@ -229,6 +267,17 @@ def _model(ledger: Ledger, rows: InProcessRows, settings: Settings, clock, progr
         table = _points(selection, classed, settings)
         scorecard = Scorecard(table, tuple(classed.get(name).binning for name in table.names), settings.ledger.id_column)
     return _Model(classed, selection, table, scorecard)
+
+
+def _protected(name: str, levels, rows: InProcessRows, binnings, table: PointsTable, kept) -> ProtectedAttribute:
+    """Count one protected attribute's levels: their score histograms per sample, and the model's bins by level."""
+    found, crossed = rows.level_tables(binnings, table, levels.codes, rows.sample, n_levels=len(levels.levels),
+                                       n_parts=len(SAMPLE_NAMES), kept=kept)
+    histograms = {sample: {level: found[(index, g)] for g, level in enumerate(levels.levels) if (index, g) in found}
+                  for index, sample in enumerate(SAMPLE_NAMES)}
+    crosstabs = {b.characteristic: crossed.get((DEVELOPMENT, b.characteristic), np.zeros((b.n_bins, len(levels.levels))))
+                 for b in binnings}
+    return ProtectedAttribute(name, levels.levels, {s: h for s, h in histograms.items() if h}, crosstabs)
 
 
 def _infer_rejects(ledger: Ledger, settings: Settings, accepted: _Model, histograms, clock, progress):

@@ -23,7 +23,7 @@ from .errors import LedgerError, SettingsError
 from .files import replacing, replacing_folder, write_text_atomically
 from .intake import (
     closest_names, columns_of, default_outcome_mapping, detect_kind, fingerprint_of, ledger_columns, ledger_place,
-    looks_like_identifier_or_date, open_batches, open_ledger, outcome_key, prepare_ledger, read_ledger,
+    looks_like_identifier_or_date, open_batches, open_ledger, outcome_key, prepare_ledger, protected_ground, read_ledger,
 )
 from .modelfile import load_model, model_document, save_model
 from .options import (
@@ -206,14 +206,31 @@ def _proposals(ledger, classed: ClassedLedger, settings: Settings):
                 f"\nFLAGGED: IV above {settings.selection.leakage_iv} can mean the column is recorded after the "
                 "decision (leakage). Check it is known at application time; if not, set use = \"never\"."
             )
+        ground = ledger_ground(ledger, char.name, settings)
+        if ground:  # a ground lawful in some places, with conditions: flagged, never refused
+            comment += (f"\nFLAGGED: it looks like {ground}. Check local law before using it; if it may not be used "
+                        "where you lend, set use = \"protected\" (kept for the fairness checks, never in the model).")
         comments[char.name] = comment
     roles = {settings.ledger.id_column, settings.ledger.date_column}
     for name, why in ledger.left_out.items():
         if name in roles:
             continue
+        if why.startswith("it looks like") and "fair-lending law" in why:  # proposed protected
+            characteristics[name] = CharacteristicSettings(use="protected")
+            comments[name] = (f"FLAGGED: {why.split(';')[0]}. Proposed: protected, never in the model and kept for the "
+                              "fairness checks (proxies, adverse impact). If the law where you lend allows it, set use "
+                              "= \"auto\" with a note saying why; the reports show the note.")
+            continue
         characteristics[name] = CharacteristicSettings(use="never", note=why.split(";")[0])
         comments[name] = f"left out: {why}"
     return characteristics, comments
+
+
+def ledger_ground(ledger, name: str, settings: Settings) -> str:
+    """The protected ground a characteristic of the ledger looks like ('' for none), from its name and levels."""
+    if ledger.frame.empty and ledger.frame.columns.size == 0:
+        return ""
+    return protected_ground(name, ledger.frame[name], settings.fairness.grounds)
 
 
 # --------------------------------------------------------------------------------------------
@@ -522,7 +539,7 @@ def run_monitor(options: MonitorOptions, streams: Streams) -> int:
     source = ledger.source
     try:
         _say_read(streams, ledger, place, rows, settings)
-        result = monitor_rows(saved, rows, by_quarter=rows.dated, source=source)
+        result = monitor_rows(saved, rows, by_quarter=rows.dated, source=source, protected=ledger.protected)
     finally:
         rows.close()
     for note in (*ledger.notes, *result.notes):

@@ -120,7 +120,19 @@ def model_document(build) -> dict[str, Any]:
         "performance": build.performance(),
         "baseline": {"score_histograms": {sample: h.to_dict() for sample, h in build.histograms.items()}},
         "notes": list(build.notes),
+        "fairness": _fairness(build),
     }
+
+
+def _fairness(build) -> dict[str, Any]:
+    """What monitoring needs to repeat the adverse-impact checks: the cut-off and the protected attributes' levels."""
+    from .validation import build_cutoff
+
+    if not build.protected:
+        return {}
+    cutoff, source = build_cutoff(build)
+    return {"cutoff": cutoff, "cutoff_source": source,
+            "attributes": {attribute.name: list(attribute.levels) for attribute in build.protected}}
 
 
 def save_model(document: Mapping[str, Any], path: str | os.PathLike[str]) -> Path:

@@ -70,6 +70,22 @@ WATCH_P, ACT_P = 0.05, 0.01
 GINI_DROP = 0.10
 COEFFICIENT_RANGE = (0.5, 1.5)
 
+# Grounds fair-lending law commonly protects, each with words a column's name or its levels may hold.
+# Age is lawful in some places, with conditions: the tool flags it and says so, it never refuses it.
+PROTECTED_GROUNDS = (
+    "sex or gender: sex, gender, male, female",
+    "race or colour: race, racial, colour, color, skin",
+    "ethnicity or national origin: ethnic, ethnicity, ethnicity_group, nationality, national_origin, citizenship, "
+    "origin_group",
+    "religion: religion, religious, faith, creed",
+    "marital status: marital, married, divorced, widowed, cohabiting, spouse",
+    "disability: disability, disabled, handicap",
+    "age (lawful in some places with conditions: check local law): age, birth, dob",
+)
+GROUNDS_SOURCE = ("common practice, no single source; the grounds of, e.g., the US Equal Credit Opportunity Act "
+                  "(15 U.S.C. 1691) and Article 21 of the EU Charter of Fundamental Rights, from memory")
+CHECK_LOCAL_LAW = "check local law"
+
 
 def caution(subject: str) -> str:
     """Return the caution every deliverable carries (reports, workbooks, exported scorecards), said of ``subject``."""

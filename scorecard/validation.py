@@ -24,12 +24,14 @@ from .checks import (
     calibration_line, calibration_table, cap_points, cutoff_table, gains_table, holm, hosmer_lemeshow, ks_statistic,
     points_shift, psi, roc_points, score_bands, score_psi,
 )
+from .checks.fairness import ImpactTable, adverse_impact, cramers_v
 from .checks.discrimination import band_labels
 from .errors import ScorecardError
 from .points import Scaling
 from .rows import ScoreHistogram
 from .settings import CheckSettings
-from .terms import DEVELOPMENT_NAME, SAMPLE_NAMES
+from .intake import ground_of
+from .terms import CHECK_LOCAL_LAW, DEVELOPMENT_NAME, SAMPLE_NAMES
 
 
 @dataclass(frozen=True)
@@ -91,6 +93,40 @@ class CharacteristicStability:
 
 
 @dataclass(frozen=True)
+class Proxy:
+    """How well one model characteristic stands in for one protected attribute (development sample)."""
+
+    characteristic: str
+    attribute: str
+    cramers_v: float
+    flagged: bool
+
+
+@dataclass(frozen=True)
+class Fairness:
+    """The fair-lending checks of a build.
+
+    Attributes
+    ----------
+    cutoff : float
+        The cut-off the adverse impact is measured at.
+    cutoff_source : str
+        Where it comes from: the settings (checks.cutoff), or the first cut-off above the KS score.
+    sample : str
+        The sample the approvals are counted on (the cut-off table's).
+    impacts : dict of attribute to ImpactTable
+    proxies : tuple of Proxy
+        Every model characteristic against every protected attribute, strongest first.
+    """
+
+    cutoff: float
+    cutoff_source: str
+    sample: str
+    impacts: Mapping[str, ImpactTable]
+    proxies: tuple[Proxy, ...]
+
+
+@dataclass(frozen=True)
 class Validation:
     """Every check of a build (or a monitored quarter), by sample.
 
@@ -116,6 +152,7 @@ class Validation:
     characteristic_stability: Mapping[str, tuple[CharacteristicStability, ...]]
     band_names: tuple[str, ...] = ()
     not_computed: Mapping[str, str] = field(default_factory=dict)
+    fairness: Fairness | None = None
 
 
 def band_edges(baseline: ScoreHistogram, checks: CheckSettings) -> np.ndarray:
@@ -283,20 +320,89 @@ def validate(histograms: Mapping[str, ScoreHistogram], scale: Scaling, *,
     return Validation(edges, samples, score_stability, per_characteristic, names, not_computed)
 
 
+def cutoff_sample(validation: Validation) -> str:
+    """The sample the cut-off table and the adverse-impact checks are on: hold-out, else development."""
+    return "hold-out" if "hold-out" in validation.samples else DEVELOPMENT_NAME
+
+
+def marked_cutoff(checks: SampleChecks) -> float | None:
+    """The first candidate cut-off above the KS score (None when there is none above it)."""
+    cutoffs = checks.cutoffs.cutoffs
+    row = int(np.searchsorted(cutoffs, checks.ks.score, side="right"))
+    return float(cutoffs[row]) if row < len(cutoffs) else None
+
+
+def chosen_cutoff(checks: SampleChecks, settings: CheckSettings) -> tuple[float, str]:
+    """The cut-off of the adverse-impact checks, and where it comes from: the settings' ``checks.cutoff``, else
+    the first cut-off above the KS score of the cut-off table's sample."""
+    if settings.cutoff:
+        return float(settings.cutoff), "checks.cutoff in the settings"
+    found = marked_cutoff(checks)
+    chosen = found if found is not None else float(checks.cutoffs.cutoffs[0])
+    return chosen, f"the first cut-off above the KS score on the {checks.sample} sample (set checks.cutoff to choose it)"
+
+
+def build_cutoff(build) -> tuple[float, str]:
+    """``chosen_cutoff`` of a build, from its score histograms alone (the model file records it for monitoring)."""
+    sample = "hold-out" if not without_outcomes(build.histograms.get("hold-out", _EMPTY)) else DEVELOPMENT_NAME
+    histogram = build.histograms[sample]
+    keep = (histogram.goods + histogram.bads) > 0
+    scores, goods, bads = histogram.scores[keep], histogram.goods[keep], histogram.bads[keep]
+    checks = build.settings.checks
+    cutoffs = cutoff_table(scores, goods, bads, step=checks.cutoff_step or None)
+    table = SimpleSample(sample, ks_statistic(scores, goods, bads), cutoffs)
+    return chosen_cutoff(table, checks)
+
+
+@dataclass(frozen=True)
+class SimpleSample:
+    """What ``chosen_cutoff`` reads of a sample's checks: its name, its KS and its cut-off table."""
+
+    sample: str
+    ks: KsResult
+    cutoffs: CutoffTable
+
+
+_EMPTY = ScoreHistogram("", np.zeros(0), np.zeros(0), np.zeros(0), np.zeros(0))
+
+
+def fairness_checks(build, validation: Validation) -> Fairness | None:
+    """Return the proxy and adverse-impact checks of a build's protected attributes (None without any).
+
+    Proxies: Cramér's V of each model characteristic's bins against each attribute's levels, on the
+    development sample, flagged above ``fairness.proxy_cramers_v``. Adverse impact: per attribute,
+    each level's approvals at the cut-off (``checks.cutoff``, else the first cut-off above the KS
+    score) on the cut-off table's sample.
+    """
+    if not build.protected:
+        return None
+    settings = build.settings
+    sample = cutoff_sample(validation)
+    chosen, source = chosen_cutoff(validation.samples[sample], settings.checks)
+    threshold = settings.fairness.proxy_cramers_v
+    proxies = [Proxy(name, attribute.name, value, value > threshold)
+               for attribute in build.protected for name, table in attribute.crosstabs.items()
+               for value in [cramers_v(table)]]
+    impacts = {attribute.name: adverse_impact(attribute.histograms.get(sample, {}), chosen)
+               for attribute in build.protected if attribute.histograms.get(sample)}
+    return Fairness(chosen, source, sample, impacts, tuple(sorted(proxies, key=lambda p: -p.cramers_v)))
+
+
 def validate_build(build) -> Validation:
-    """Run every check on a build's samples (development, hold-out, out-of-time)."""
+    """Run every check on a build's samples (development, hold-out, out-of-time), and the fairness checks."""
     table = build.scorecard.table
     names = table.names
     counts = {name: {sample: build.characteristic(name).counts.everyone(index)
                      for index, sample in enumerate(SAMPLE_NAMES) if sample in build.histograms}
               for name in names}
-    return validate(
+    validation = validate(
         build.histograms, table.scaling, bin_counts=counts,
         points={name: table.get(name).points for name in names},
         labels={name: table.get(name).labels for name in names},
         missing_bins={b.characteristic: b.missing_bin for b in build.scorecard.binnings},
         checks=build.settings.checks, scores=score_range(table),
     )
+    return replace(validation, fairness=fairness_checks(build, validation))
 
 
 @dataclass(frozen=True)
@@ -360,10 +466,45 @@ def review_flags(build, validation: Validation) -> tuple[Flag, ...]:
               for sample, why in validation.not_computed.items()]
     flags += [Flag("not computed", f"{note[0].upper()}{note[1:]}.", "calibration")
               for result in validation.samples.values() for note in result.notes]
+    flags += _fairness_flags(build, validation)
+    flags += [Flag("screen", f"{test.characteristic!r} was screened out at IV {test.iv:.3f} but adds to the model: score "
+                             f"test p-value {test.p_value:.3g} against the final model.", "selection")
+              for test in getattr(build.selection, "screen_tests", ()) if test.significant]
     if build.notes:
         flags.append(Flag("notes", f"The build made {len(build.notes)} note{'s' if len(build.notes) != 1 else ''} of what "
                                    "was left out, repaired or merged; read them.", "data"))
     return tuple(flags)
+
+
+def _fairness_flags(build, validation: Validation) -> list[Flag]:
+    """Protected grounds in the model, proxies, and levels approved at under the four-fifths rule of thumb."""
+    settings = build.settings
+    flags = []
+    for name in build.scorecard.table.names:
+        binning = next(b for b in build.scorecard.binnings if b.characteristic == name)
+        ground = ground_of(name, binning.levels, settings.fairness.grounds)
+        note = settings.characteristic(name).note
+        if ground and CHECK_LOCAL_LAW in ground:
+            flags.append(Flag("fair lending", f"{name!r} is in the model and looks like {ground}: check local law"
+                                              + (f" (the settings' note: {note!r})." if note else "."), "fairness"))
+        elif ground:
+            flags.append(Flag("fair lending", f"{name!r} is in the model and looks like {ground}; the settings allow it "
+                                              f"with the note: {note!r}.", "fairness"))
+    fairness = validation.fairness
+    if fairness is None:
+        return flags
+    flags += [Flag("fair lending", f"{p.characteristic!r} stands in for the protected attribute {p.attribute!r}: "
+                                   f"Cramér's V {p.cramers_v:.3f}, above {settings.fairness.proxy_cramers_v:g}.", "fairness")
+              for p in fairness.proxies if p.flagged]
+    guide = settings.fairness.impact_ratio
+    for attribute, impact in fairness.impacts.items():
+        for level, ratio, rate in zip(impact.levels, impact.ratio, impact.approval_rate):
+            if np.isfinite(ratio) and ratio < guide:
+                flags.append(Flag("fair lending", f"At the cut-off {impact.cutoff:g}, level {level!r} of {attribute!r} is "
+                                                  f"approved at {rate:.1%}, {ratio:.2f} of the most-approved level's rate "
+                                                  f"(under the four-fifths guide, {guide:g}; a guide, not a verdict).",
+                                  "fairness"))
+    return flags
 
 
 def _overfitting_flags(validation: Validation, checks: CheckSettings) -> list[Flag]:

@@ -91,5 +91,5 @@ def test_each_stage_is_timed(frame):
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         build_scorecard(frame, _settings(), timings=timings)
-    assert list(timings) == ["intake", "classing", "pattern table", "selection and fit", "points and scoring"]
+    assert list(timings) == ["intake", "classing", "pattern table", "selection and fit", "points and scoring", "fairness"]
     assert all(seconds >= 0 for seconds in timings.values())

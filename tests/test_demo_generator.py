@@ -18,6 +18,7 @@ from scorecard.demo.generator import (
     CATEGORICAL_CHARACTERISTICS,
     CHARACTERISTICS,
     COLUMNS,
+    PROTECTED,
     CORRELATED_PAIR,
     DATE_COLUMN,
     DRIFTING,
@@ -99,11 +100,11 @@ def test_scenario_names_are_consistent():
     assert len(set(CHARACTERISTICS)) == 30
     assert LEAKING in CHARACTERISTICS and DRIFTING in CATEGORICAL_CHARACTERISTICS
     assert set(CORRELATED_PAIR) <= set(NUMERIC_CHARACTERISTICS)
-    assert COLUMNS == (ID_COLUMN, DATE_COLUMN, *CHARACTERISTICS, TARGET)
+    assert COLUMNS == (ID_COLUMN, DATE_COLUMN, *CHARACTERISTICS, *PROTECTED, TARGET)
 
 
 def test_columns_and_kinds(ledger):
-    assert ledger.shape == (N_ROWS, 33)
+    assert ledger.shape == (N_ROWS, 35)
     assert tuple(ledger.columns) == COLUMNS
     assert all(pd.api.types.is_numeric_dtype(ledger[name]) for name in NUMERIC_CHARACTERISTICS)
     assert not any(pd.api.types.is_numeric_dtype(ledger[name]) for name in CATEGORICAL_CHARACTERISTICS)
@@ -288,7 +289,7 @@ def test_two_quarters_without_drift_are_allowed():
 def test_write_ledger_round_trips_csv(tmp_path, ledger):
     path = write_ledger(ledger, tmp_path / "ledger.csv")
     back = pd.read_csv(path, parse_dates=[DATE_COLUMN])
-    text_columns = {name: "str" for name in (*CATEGORICAL_CHARACTERISTICS, TARGET)}
+    text_columns = {name: "str" for name in (*CATEGORICAL_CHARACTERISTICS, *PROTECTED, TARGET)}
     pd.testing.assert_frame_equal(back, ledger.astype(text_columns))
     assert [p.name for p in tmp_path.iterdir()] == ["ledger.csv"]
 
@@ -305,7 +306,7 @@ def test_write_ledger_takes_chunks(tmp_path, monkeypatch, suffix):
     back = pd.read_csv(path, parse_dates=[DATE_COLUMN]) if suffix == ".csv" else pd.read_parquet(path)
     expected = generate_ledger(2_500, seed=SEED)
     if suffix == ".csv":
-        expected = expected.astype({name: "str" for name in (*CATEGORICAL_CHARACTERISTICS, TARGET)})
+        expected = expected.astype({name: "str" for name in (*CATEGORICAL_CHARACTERISTICS, *PROTECTED, TARGET)})
     _assert_same_ledger(back, expected)
 
 
@@ -374,3 +375,13 @@ def test_the_declined_are_worse_than_their_characteristics_say(ledger, rejected)
 def test_rejections_are_the_same_for_the_same_seed(ledger, rejected):
     again, _ = generator.with_rejections(ledger, seed=SEED)
     pd.testing.assert_frame_equal(again, rejected[0])
+
+def test_national_origin_gathers_in_the_riskier_districts_and_sex_does_not():
+    # invented scenario: home_district stands in for national origin, so the fairness checks have a proxy to find
+    from scipy.stats.contingency import association
+
+    frame = generate_ledger(20_000, seed=5)
+    origin = pd.crosstab(frame["home_district"], frame["national_origin"]).to_numpy()
+    sex = pd.crosstab(frame["home_district"], frame["applicant_sex"]).to_numpy()
+    assert association(origin, method="cramer") > 0.3 > 0.05 > association(sex, method="cramer")
+    assert abs((frame["applicant_sex"] == "female").mean() - 0.48) < 0.02

@@ -34,7 +34,8 @@ FORMAT_1_FIGURES = "d94de527d8aca40f0beccbc533a55b7665076923b5438715589ca559d8e1
 # screen that only proposes. Issue 13 then added the engines' settings ([duckdb] threads = 0 is a number
 # of the file; without the [duckdb] and [spark] sections the fingerprint is
 # a170d804241b7cef225903ed8addca05227288c86b15ddfcce3f82b696d3fdf0)
-DEMO_FIGURES = "7a7a24cadddfe9cec05228a8a8cdb539ce599419e0f79452ba460613a83b9821"
+# Issue 11 declared marital_status protected (out of the model) and recorded the fairness checks' cut-off.
+DEMO_FIGURES = "PENDING"
 FORMAT_1 = Path(__file__).parent / "reference" / "demo-model-format-1.json"
 # SHA-256 of the CSV text of the scores and reasons the format-1 file gives the demo's new applications,
 # recorded at commit bea8143, when the tool's own demo build gave that very model (scores equal)

@@ -164,7 +164,8 @@ def test_after_init_then_build_the_tool_proposed_every_classing_and_its_notes_tr
     assert code == 0, err
     quick = _document(tmp_path / "quick" / "model.json")
     merges = [note for note in quick["notes"] if "too small to stand alone" in note]
-    assert merges and document["notes"] == quick["notes"]  # the same notes on both paths
+    classing_notes = [note for note in document["notes"] if " left out: " not in note]
+    assert merges and classing_notes == [note for note in quick["notes"] if " left out: " not in note]  # on both paths
     settings = (folder / "scorecard.toml").read_text(encoding="utf-8")
     assert all(json.dumps(note, ensure_ascii=False) in settings for note in merges)  # as init wrote them
     report = pages.Page((folder / "run1" / "report.html").read_text(encoding="utf-8"))
@@ -215,3 +216,35 @@ def test_a_rebuild_from_the_quick_paths_settings_gives_a_byte_identical_model_fi
     assert code == 0, err
     # every field: the classings and their bad-rate shapes, who classed them, the notes, the figures
     assert (tmp_path / "quick1" / "model.json").read_bytes() == (tmp_path / "quick2" / "model.json").read_bytes()
+
+
+def test_init_declares_marital_status_protected_and_the_report_checks_it(credit_run):
+    # init proposes Marital as protected (its levels are marital status); the build keeps it out of the model
+    # and checks it. References: Cramér's V by scipy.stats.contingency.association on the development rows;
+    # approvals counted from the scored file on the hold-out rows
+    from scipy.stats.contingency import association
+
+    folder, _ = credit_run
+    settings_text = (folder / "scorecard.toml").read_text(encoding="utf-8")
+    assert 'use = "protected"' in settings_text.split("[characteristics.Marital]")[1].split("[characteristics.")[0]
+    saved = load_model(folder / "run1" / "model.json")
+    assert "Marital" not in saved.scorecard.table.names
+    frame = pd.read_csv(folder / "credit.csv")
+    ledger = prepare_ledger(frame, saved.settings, source="credit.csv")
+    marital = ledger.protected["Marital"]
+    report = pages.Page((folder / "run1" / "report.html").read_text(encoding="utf-8"))
+    proxies = report.table("model characteristic", "protected attribute", "Cramér's V")
+    codes = saved.scorecard.codes(frame)
+    development = (ledger.sample == 0) & (ledger.outcome <= 1) & (marital.codes >= 0)
+    for name, attribute, shown, *_ in proxies:
+        j = saved.scorecard.table.names.index(name)
+        table = pd.crosstab(codes[development, j], marital.codes[development]).to_numpy()
+        assert float(shown) == pytest.approx(association(table, method="cramer"), abs=5e-4), name
+    cutoff = float(report.section("fairness").split("Cut-off of the adverse-impact tables: ")[1].split(" ")[0])
+    scores = pd.read_csv(folder / "scored.csv")["score"].to_numpy()
+    holdout = ledger.sample == 1
+    rows = report.table("level", "applications", "approved", "approval rate")
+    for level, applications, approved, rate, *_ in rows:
+        inside = holdout & (marital.codes == marital.levels.index(level))
+        assert int(applications) == inside.sum() and int(approved) == (inside & (scores >= cutoff)).sum()
+        assert rate == f"{100 * (inside & (scores >= cutoff)).sum() / inside.sum():.1f}%"

@@ -576,7 +576,17 @@ def test_credit_data(credit_data):
     assert counts[INDETERMINATE] == 0 and counts[UNKNOWN] == 0
     kinds = {c.name: c.kind for c in ledger.characteristics}
     assert kinds["Income"] == NUMERIC and kinds["Home"] == CATEGORICAL
-    assert len(kinds) == 13  # 15 columns less rownames and Status (counted from the data)
+    # 15 columns less rownames and Status (counted from the data), less Marital: its levels (married, widow,
+    # divorced, ...) are marital status, a protected ground, and the settings do not say it may be used
+    assert len(kinds) == 12 and "Marital" not in kinds
+    assert ledger.left_out["Marital"].startswith("it looks like marital status, a ground fair-lending law commonly protects")
+    declared = settings.replace(characteristics={"Marital": CharacteristicSettings(use="protected")})
+    ledger = prepare_ledger(credit_data, declared)
+    assert ledger.protected["Marital"].levels == ("divorced", "married", "separated", "single", "widow")
+    counts = np.bincount(ledger.protected["Marital"].codes + 1)
+    assert counts[0] == (credit_data["Marital"].isna()).sum()  # not recorded: group -1
+    allowed = settings.replace(characteristics={"Marital": CharacteristicSettings(use="auto", note="lawful here")})
+    assert "Marital" in {c.name for c in prepare_ledger(credit_data, allowed).characteristics}
 
 
 def test_a_semicolon_separated_csv_is_read_as_such(tmp_path):

@@ -197,3 +197,40 @@ def test_a_damaged_or_newer_model_file_is_bad_input(saved, tmp_path, damage):
     code, _, err = _run("monitor", str(tmp_path / "model.json"), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"))
     assert code == 2 and "Traceback" not in err
     assert ("not a valid model file" if damage == "corrupt" else "newer than this tool reads") in err
+
+
+def test_adverse_impact_is_repeated_per_quarter_at_the_builds_cut_off(tmp_path):
+    # an invented ledger with a protected attribute; the reference is the scored rows counted by hand
+    import openpyxl
+
+    from scorecard.settings import CharacteristicSettings
+
+    def with_sex(frame, seed):
+        rng = np.random.default_rng(seed)
+        return frame.assign(sex=np.where(rng.random(len(frame)) < 0.5 + 0.1 * (frame["income"] > 3000), "f", "m"))
+
+    settings = Settings().replace(outcome={"column": "outcome", "bad": ("bad",), "good": ("good",)},
+                                  ledger={"date_column": "date"},
+                                  characteristics={"sex": CharacteristicSettings(use="protected")})
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        build = build_scorecard(with_sex(ledgers.monitor_frame(6000, 21, days=360), 1), settings)
+    path = save_model(model_document(build), tmp_path / "model.json")
+    model = load_model(path)
+    assert "sex" not in model.scorecard.table.names and model.document["fairness"]["attributes"] == {"sex": ["f", "m"]}
+    cutoff = model.document["fairness"]["cutoff"]
+    frame = pd.concat([with_sex(ledgers.monitor_frame(1500, 22, start="2025-01-01"), 2),
+                       with_sex(ledgers.monitor_frame(1500, 23, start="2025-04-01"), 3)], ignore_index=True)
+    frame.to_csv(tmp_path / "q.csv", index=False)
+    code, _, err = _run("monitor", str(path), str(tmp_path / "q.csv"), "--out", str(tmp_path / "out"))
+    assert code == 0, err
+    sheet = openpyxl.load_workbook(tmp_path / "out" / "monitor.xlsx")["Fairness"]
+    rows = list(sheet.iter_rows(min_row=5, values_only=True))
+    scores = model.scorecard.score(frame)["score"].to_numpy()
+    quarter = np.where(frame["date"] < "2025-04-01", "2025Q1", "2025Q2")
+    for attribute, period, level, applications, approved, *_ in rows:
+        inside = (frame["sex"] == level).to_numpy() & ((quarter == period) | (period == "whole ledger"))
+        assert (applications, approved) == (inside.sum(), (inside & (scores >= cutoff)).sum()), (period, level)
+    assert {row[1] for row in rows} == {"whole ledger", "2025Q1", "2025Q2"}
+    page = (tmp_path / "out" / "monitor.html").read_text(encoding="utf-8")
+    assert "ratio, 2025Q2" in page and f"cut-off {cutoff:.0f}" in page

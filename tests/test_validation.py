@@ -98,10 +98,11 @@ def _flags_of(coefficients, ginis, *, converged=True, notes=(), binnings=()):
     fit = SimpleNamespace(names=("intercept", *(f"c{i}" for i in range(len(coefficients)))),
                           coefficients=(0.1, *coefficients), converged=converged, iterations=7)
     build = SimpleNamespace(settings=Settings(), scorecard=SimpleNamespace(table=SimpleNamespace(names=()), binnings=binnings),
-                            selection=SimpleNamespace(fit=fit), notes=tuple(notes))
+                            selection=SimpleNamespace(fit=fit, screen_tests=()), notes=tuple(notes))
     samples = {name: SimpleNamespace(auc=SimpleNamespace(gini=gini), calibration_tests=(), notes=())
                for name, gini in ginis.items()}
-    validation = SimpleNamespace(samples=samples, score_stability={}, characteristic_stability={}, not_computed={})
+    validation = SimpleNamespace(samples=samples, score_stability={}, characteristic_stability={}, not_computed={},
+                                 fairness=None)
     return review_flags(build, validation)
 
 

@@ -11,6 +11,8 @@ A score histogram is three aligned 1-D arrays: ``scores`` (strictly ascending), 
 - :mod:`~scorecard.checks.stability`: population stability index of scores and characteristics,
   and the shift in points per characteristic.
 - :mod:`~scorecard.checks.cutoffs`: approvals and bad rates at candidate cut-offs.
+- :mod:`~scorecard.checks.fairness`: Cramér's V of a characteristic against a protected attribute,
+  and approvals per level of one at a cut-off (the adverse impact ratio).
 """
 
 from __future__ import annotations
@@ -32,6 +34,9 @@ _PUBLIC = {
     "hosmer_lemeshow": "calibration",
     "CutoffTable": "cutoffs",
     "cutoff_table": "cutoffs",
+    "ImpactTable": "fairness",
+    "adverse_impact": "fairness",
+    "cramers_v": "fairness",
     "AucResult": "discrimination",
     "AucShortfall": "discrimination",
     "CapCurve": "discrimination",

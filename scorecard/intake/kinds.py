@@ -7,6 +7,7 @@ reason; a text column that is numbers but for a few typed-in values is refused, 
 from __future__ import annotations
 
 import difflib
+import re
 from collections.abc import Sequence
 
 import numpy as np
@@ -14,7 +15,7 @@ import pandas as pd
 
 from ..errors import LedgerError, describe_rows
 from ..settings import Settings
-from ..terms import CATEGORICAL, NUMERIC
+from ..terms import CATEGORICAL, CHECK_LOCAL_LAW, NUMERIC
 from .ledger import Characteristic
 from .roles import plain
 
@@ -69,6 +70,15 @@ def choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[s
         if spec.use == "never":
             left_out[name] = "use = never in the settings" + (f" ({spec.note})" if spec.note else "")
             continue
+        if spec.use == "protected":
+            left_out[name] = PROTECTED_REASON + (f" ({spec.note})" if spec.note else "")
+            continue
+        ground = protected_ground(name, series, settings.fairness.grounds)
+        if ground and CHECK_LOCAL_LAW not in ground and not (spec.use in ("auto", "always") and spec.note):
+            left_out[name] = (f"it looks like {ground}, a ground fair-lending law commonly protects; declare it "
+                              f"protected (use = \"protected\" under [characteristics.{name}]), or set use = \"auto\" "
+                              "with a note saying why it may be used where you lend")
+            continue
         reason = unusable_reason(series)
         if reason:
             left_out[name] = reason
@@ -96,6 +106,36 @@ def _characteristic(name: str, kind: str, series: pd.Series, spec) -> Characteri
     whole = bool(ordinary.size) and bool(np.all(ordinary == np.floor(ordinary)))
     lowest = float(ordinary.min()) if ordinary.size else None
     return Characteristic(name, kind, codes, spec.special_meanings, whole, lowest)
+
+
+PROTECTED_REASON = "use = protected in the settings: never in the model, kept for the fairness checks"
+
+
+def protected_ground(name: str, series: pd.Series, grounds: Sequence[str]) -> str:
+    """Return the protected ground a column looks like, by the words of its name or of its levels, or ''.
+
+    Each ground is 'NAME: word, word'; a column matches when a word of its name (split at anything
+    but letters and digits) or, for text columns, one of its levels is one of the ground's words.
+    """
+    levels = ()
+    if not pd.api.types.is_numeric_dtype(series) or pd.api.types.is_bool_dtype(series):
+        levels = series.dropna().astype(str).unique()[:200]
+    return ground_of(name, levels, grounds)
+
+
+def ground_of(name: str, levels, grounds: Sequence[str]) -> str:
+    """Return the protected ground a characteristic looks like by the words of its name and levels, or ''."""
+    texts = [str(name), *(str(level) for level in levels)]
+    words = {word for text in texts for word in (text.lower(), *_words(text))}  # the whole text, and each word of it
+    for ground in grounds:
+        label, _, listed = ground.rpartition(":")  # a label may hold a colon of its own
+        if words & {word.strip().lower() for word in listed.split(",")}:
+            return label.strip()
+    return ""
+
+
+def _words(text: str) -> list[str]:
+    return [word for word in re.split(r"[^0-9a-z]+", str(text).lower()) if word]
 
 
 def closest_names(name: str, columns: Sequence[str]) -> str:

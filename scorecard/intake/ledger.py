@@ -35,6 +35,14 @@ class Characteristic:
     lowest: float | None = None
 
 
+@dataclass(frozen=True, eq=False)
+class AttributeLevels:
+    """The levels of one protected attribute: each row's level (-1: not recorded) and the levels' names."""
+
+    codes: np.ndarray
+    levels: tuple[str, ...]
+
+
 @dataclass(frozen=True)
 class Fingerprint:
     """What identifies a ledger: its row count and a SHA-256 of its content."""
@@ -125,6 +133,7 @@ class Ledger:
     notes: tuple[str, ...]
     fingerprint: Fingerprint
     left_out: Mapping[str, str] = field(default_factory=dict)
+    protected: Mapping[str, AttributeLevels] = field(default_factory=dict)  # per protected attribute, each row's level
     subsamples: Mapping[str, np.ndarray] = field(default_factory=dict)
     rejects: RejectedRows | None = None
     summary: pd.DataFrame | None = None

@@ -24,7 +24,7 @@ from ..terms import BAD, DEVELOPMENT, DUCKDB, GOOD, IN_PROCESS, OUT_OF_TIME, REJ
 from .kinds import check_finite, choose_characteristics, role_columns
 from .ledger import Fingerprint, Ledger, RejectedRows, fingerprint_of
 from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, ledger_columns, read_batches, read_head, read_ledger
-from .roles import check_roles, role_values, unit_weights
+from .roles import check_roles, protected_columns, protected_levels, role_values, unit_weights
 from .samples import (
     draw_subsamples, frame_tie_texts, key_columns, needs_keys, out_of_time, sample_keys, split_samples,
 )
@@ -162,6 +162,7 @@ def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "Da
     sample = split_samples(outcome, dates, settings, keys=keys, tie_texts=tie_texts, source=source)
     subsamples = draw_subsamples(sample, outcome, keys, settings, tie_texts=tie_texts) if keys is not None else {}
     ids = frame[settings.ledger.id_column].to_numpy() if settings.ledger.id_column else None
+    protected = {name: protected_levels(frame[name]) for name in protected_columns(settings, frame.columns)}
     kept = frame[[c.name for c in characteristics]]
     notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
     if rejects is not None:
@@ -172,7 +173,7 @@ def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "Da
     return Ledger(
         source=source, frame=kept, characteristics=tuple(characteristics), outcome=outcome, weight=weight,
         sample=sample, dates=dates, ids=ids, notes=tuple(notes), fingerprint=fingerprint, left_out=left_out,
-        subsamples=subsamples, rejects=rejects,
+        subsamples=subsamples, rejects=rejects, protected=protected,
     )
 
 
@@ -228,7 +229,8 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
                               settings.rejects.decision_column) if c and c in head.columns]
     drawn = require_outcome and needs_keys(len(head) if len(head) < HEAD_ROWS else None, settings)
     keyed = key_columns(head.columns, settings) if drawn else []
-    first_pass = list(dict.fromkeys([*role_names, *keyed])) or list(head.columns[:1])
+    protected_names = protected_columns(settings, head.columns)
+    first_pass = list(dict.fromkeys([*role_names, *keyed, *protected_names])) or list(head.columns[:1])
 
     def batches(columns: Sequence[str]):
         read = [c for c in characteristics if c.name in columns]
@@ -237,8 +239,10 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
             yield first_row, frame
 
     parts = [(*role_values(frame, settings, source_name, first_row=first_row),
-              split_keys(frame, keyed, settings.samples.seed) if drawn else None)
+              split_keys(frame, keyed, settings.samples.seed) if drawn else None, frame[protected_names])
              for first_row, frame in file_batches(path, suffix, first_pass, types, batch_rows)]
+    protected_values = pd.concat([p[4] for p in parts], ignore_index=True) if protected_names else None
+    protected = {name: protected_levels(protected_values[name]) for name in protected_names}
     outcome = np.concatenate([p[0] for p in parts])
     if (outcome == REJECTED).any():
         if require_outcome:
@@ -272,7 +276,7 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
     ledger = Ledger(
         source=source_name, frame=head.iloc[:0][[c.name for c in characteristics]], characteristics=tuple(characteristics),
         outcome=outcome, weight=weight, sample=sample, dates=dates, ids=None, notes=tuple(notes),
-        fingerprint=fingerprint_of(path, len(outcome)), left_out=left_out, subsamples=subsamples,
+        fingerprint=fingerprint_of(path, len(outcome)), left_out=left_out, subsamples=subsamples, protected=protected,
     )
     return ledger, batches
 

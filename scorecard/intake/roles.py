@@ -13,6 +13,7 @@ import pandas as pd
 from ..errors import LedgerError, describe_rows
 from ..settings import Settings
 from ..terms import BAD, GOOD, INDETERMINATE, REJECTED, UNKNOWN, value_text
+from .ledger import AttributeLevels
 
 
 def role_values(frame: pd.DataFrame, settings: Settings, source: str, *, first_row: int = 0):
@@ -201,3 +202,17 @@ def plain(value: object) -> object:
 
 def n_rows_text(count: int) -> str:
     return "1 row" if count == 1 else f"{count} rows"
+
+
+def protected_columns(settings: Settings, columns) -> list[str]:
+    """The columns the settings declare protected (``use = "protected"``) that the ledger has."""
+    present = {str(c) for c in columns}
+    return [name for name, spec in settings.characteristics.items() if spec.use == "protected" and name in present]
+
+
+def protected_levels(values: pd.Series) -> AttributeLevels:
+    """Return each row's level of a protected attribute (-1 where it is not recorded) and the levels, sorted."""
+    texts = values.map(value_text, na_action="ignore")
+    levels = tuple(sorted(texts.dropna().unique()))
+    codes = pd.Index(levels).get_indexer(texts.to_numpy(dtype=object, na_value=None))
+    return AttributeLevels(codes.astype(np.int32), levels)

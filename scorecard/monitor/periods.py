@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..checks import AucShortfall, PsiResult, auc_shortfall, score_psi
+from ..checks import AucShortfall, ImpactTable, PsiResult, adverse_impact, auc_shortfall, score_psi
 from ..errors import LedgerError
 from ..modelfile import SavedModel
 from ..rows import InProcessRows, ScoreHistogram
@@ -72,6 +72,8 @@ class MonitorResult:
     checks: CheckSettings
     notes: tuple[str, ...]
     band_names: tuple[str, ...] = ()  # each score band by the scores it can hold, as in the build report
+    cutoff: float | None = None  # the build's cut-off of the adverse-impact checks
+    impacts: Mapping[str, Mapping[str, ImpactTable]] = field(default_factory=dict)  # attribute -> period -> table
 
     @property
     def status(self) -> str:
@@ -114,10 +116,14 @@ def monitor_ledger(saved: SavedModel, frame, outcome: np.ndarray, weight: np.nda
     return monitor_rows(saved, rows, by_quarter=dates is not None, source=source)
 
 
-def monitor_rows(saved: SavedModel, rows, *, by_quarter: bool, source: str = "ledger") -> MonitorResult:
+def monitor_rows(saved: SavedModel, rows, *, by_quarter: bool, source: str = "ledger",
+                 protected: Mapping[str, object] | None = None) -> MonitorResult:
     """As ``monitor_ledger``, for the rows of a ledger opened with ``scorecard.intake.open_ledger`` (any engine).
 
     ``by_quarter``: the ledger has the model's date column, so every check is repeated per calendar quarter.
+    ``protected`` gives each protected attribute's levels per row (``Ledger.protected``): with the
+    cut-off the model file records, each level's approvals are checked for the whole ledger and each
+    quarter (the adverse impact ratio).
     """
     baseline = saved.baseline[DEVELOPMENT_NAME]
     checks = saved.settings.checks
@@ -136,8 +142,45 @@ def monitor_rows(saved: SavedModel, rows, *, by_quarter: bool, source: str = "le
                      unseen=unseen if key == "all" else {}, unknown=part["unknown"])
         for key, part in [("all", parts["all"]), *((q, parts[q]) for q in quarters)]
     ]
+    impacts, cutoff = _impacts(saved, rows, protected or {}, quarters if by_quarter else [], notes)
     return MonitorResult(source, periods[0], tuple(periods[1:]), baseline, auc_baseline(saved.performance, saved.baseline),
-                         edges, checks, tuple(notes), band_labels(edges, score_range=score_range(saved.scorecard.table)))
+                         edges, checks, tuple(notes), band_labels(edges, score_range=score_range(saved.scorecard.table)),
+                         cutoff, impacts)
+
+
+def _impacts(saved: SavedModel, rows, protected, quarters: Sequence[int], notes: list[str]):
+    """Each protected attribute's approvals at the build's cut-off, for the whole ledger and each quarter."""
+    fairness = saved.document.get("fairness") or {}
+    cutoff = fairness.get("cutoff")
+    wanted = {name: levels for name, levels in protected.items() if name in fairness.get("attributes", {})}
+    if cutoff is None or not wanted:
+        return {}, cutoff
+    if not hasattr(rows, "level_tables"):
+        notes.append("The adverse-impact checks were not computed: they count the rows in this process, and this "
+                     "ledger's rows are kept by an engine.")
+        return {}, cutoff
+    position = {q: i for i, q in enumerate(quarters)}
+    quarter = rows.quarter_of_rows() if quarters else None
+    parts = (np.array([position.get(q, -1) for q in range(int(quarter.max()) + 1)] + [-1])[quarter]
+             if quarter is not None and len(quarter) else None)
+    return {name: _period_impacts(saved, rows, levels, parts, quarters, cutoff) for name, levels in wanted.items()}, cutoff
+
+
+def _period_impacts(saved: SavedModel, rows, levels, parts, quarters: Sequence[int], cutoff: float) -> dict[str, ImpactTable]:
+    """One attribute's approvals at the cut-off: the whole ledger, then each quarter (one pass for each)."""
+    binnings, table = saved.scorecard.binnings, saved.scorecard.table
+
+    def by_part(part_of_rows, n_parts):
+        found, _ = rows.level_tables(binnings, table, levels.codes, part_of_rows, n_levels=len(levels.levels), n_parts=n_parts)
+        return [{level: found[(number, g)] for g, level in enumerate(levels.levels) if (number, g) in found}
+                for number in range(n_parts)]
+
+    impacts = {"all": adverse_impact(by_part(np.zeros(len(rows.outcome), dtype=np.int64), 1)[0], cutoff)}
+    if parts is not None:
+        for number, histograms in enumerate(by_part(parts, len(quarters))):
+            if histograms:
+                impacts[_quarter_label(quarters[number])] = adverse_impact(histograms, cutoff)
+    return impacts
 
 
 def _check_no_quarter_is_empty(quarters: Sequence[int], source: str) -> None:

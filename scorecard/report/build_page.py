@@ -45,6 +45,7 @@ SECTIONS = (
     ("stability", "Stability"),
     ("cutoffs", "Cut-offs"),
     ("rejects", "Reject inference"),
+    ("fairness", "Fair lending"),
     ("cautions", "Cautions and limits"),
     ("reproducibility", "Reproducibility"),
 )
@@ -95,6 +96,7 @@ def render_report(build, validation, *, generated_by: str = "") -> str:
         "rejects": _rejects(build),
         "rejects_note": "rejects.method = none" if build.settings.rejects.method == "none" else
                         "the ledger holds no rejected application made in time",
+        "fairness": _fairness(build, validation),
         "cautions": _cautions(build),
         "reproducibility": _reproducibility(build, generated_by),
     }
@@ -811,6 +813,67 @@ def _shown_cutoffs(cutoffs: np.ndarray, approval_rate: np.ndarray, ks_score: flo
         shown = [item for item in shown if item[0] != ks_cutoff] + [(ks_cutoff, ks_row, True)]
         shown.sort(key=lambda item: item[0])
     return shown, step
+
+
+# --------------------------------------------------------------------------------------------
+# 11. Fair lending
+
+
+def _fairness(build, validation) -> dict:
+    settings = build.settings
+    declared = [name for name, spec in settings.characteristics.items() if spec.use == "protected"]
+    refused = {name: why for name, why in build.selection_left_out().items()
+               if why.startswith("it looks like") and "fair-lending" in why}
+    fairness = validation.fairness
+    grounds = [(ground.rpartition(":")[0].strip(), ground.rpartition(":")[2].strip()) for ground in settings.fairness.grounds]
+    context = {"declared": declared, "refused": refused, "grounds": grounds, "source": settings.fairness.grounds_source,
+               "checked": fairness is not None}
+    if fairness is None:
+        return context
+    threshold = settings.fairness.proxy_cramers_v
+    proxies = text_table(
+        ["model characteristic", "protected attribute", "Cramér's V", "flag"],
+        [[p.characteristic, p.attribute, fixed_text(p.cramers_v, 3), _flag(f"above {threshold:g}") if p.flagged else ""]
+         for p in fairness.proxies],
+        numeric=(2,), caption=f"How well each model characteristic's bins stand in for each protected attribute's levels: "
+                              f"Cramér's V (0 none, 1 one determines the other), development sample; flagged above "
+                              f"{threshold:g} (fairness.proxy_cramers_v, common practice, no source). Strongest first.")
+    guide = settings.fairness.impact_ratio
+    impacts = []
+    for attribute in build.protected:
+        impact = fairness.impacts.get(attribute.name)
+        if impact is None:
+            continue
+        rows = [[level, count_text(n), count_text(approved), percent_text(rate, 1),
+                 Cell(fixed_text(ratio, 3), "flag" if ratio < guide else ""), percent_text(bad_rate)]
+                for level, n, approved, rate, ratio, bad_rate in zip(impact.levels, impact.applications, impact.approved,
+                                                                     impact.approval_rate, impact.ratio, impact.approved_bad_rate)]
+        table = text_table(["level", "applications", "approved", "approval rate", "ratio to the most approved",
+                            "bad rate among approved"], rows, numeric=range(1, 6),
+                           caption=f"{attribute.name}: applications approved at or above the cut-off "
+                                   f"{score_text(impact.cutoff, build.scorecard.table.decimals)}, {fairness.sample} sample. "
+                                   f"A ratio under {guide:g} (the four-fifths rule of thumb, common practice, no source) "
+                                   f"is marked: a guide for a closer look, not a verdict.")
+        impacts.append({"name": attribute.name, "table": table,
+                        "chart": _group_distribution(attribute, fairness.sample, validation)})
+    return {**context, "cutoff": score_text(fairness.cutoff, build.scorecard.table.decimals),
+            "cutoff_source": fairness.cutoff_source, "proxies": proxies, "impacts": impacts,
+            "strongest": [p for p in fairness.proxies[:3]]}
+
+
+def _group_distribution(attribute, sample: str, validation):
+    """Each level's applications over the score bands fixed on development, as shares of the level."""
+    from ..checks.discrimination import band_sums
+
+    shares = {}
+    for level, histogram in attribute.histograms[sample].items():
+        counts = band_sums(histogram.scores, validation.edges, histogram.everyone)
+        shares[level] = counts / counts.sum()
+    return captioned_chart(
+        charts.clustered_columns(list(validation.band_names), shares, x_label="score band",
+                                 y_label="share of the level's applications", percent=True,
+                                 title=f"Score distribution of each level of {attribute.name}, {sample} sample"),
+        f"Share of each level's applications in each score band (bands fixed on development); {sample} sample.")
 
 
 # --------------------------------------------------------------------------------------------

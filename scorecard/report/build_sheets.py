@@ -53,9 +53,9 @@ from .sheet_kit import (
 
 OVERVIEW, POINTS, CLASSING, FIT, SELECTION = "Overview", "Points", "Classing", "Fit", "Selection"
 DISCRIMINATION, CALIBRATION, STABILITY, CUTOFFS = "Discrimination", "Calibration", "Stability", "Cut-offs"
-APPLICANT, SETTINGS, CAUTIONS = "Applicant", "Settings", "Cautions"
+FAIRNESS, APPLICANT, SETTINGS, CAUTIONS = "Fairness", "Applicant", "Settings", "Cautions"
 SHEET_NAMES = (OVERVIEW, POINTS, CLASSING, FIT, SELECTION, DISCRIMINATION, CALIBRATION, STABILITY, CUTOFFS,
-               APPLICANT, SETTINGS, CAUTIONS)
+               FAIRNESS, APPLICANT, SETTINGS, CAUTIONS)
 
 
 SHEET_PURPOSES = {
@@ -68,6 +68,8 @@ SHEET_PURPOSES = {
     CALIBRATION: "per sample and score band observed against predicted bad rates with tests; summary tests",
     STABILITY: "score PSI per band against development; PSI and points shift of each model characteristic",
     CUTOFFS: "approvals, declines and bad rates at every candidate cut-off, per sample",
+    FAIRNESS: "per protected attribute, each level's approvals at the cut-off and the adverse impact ratio (formulas); "
+              "each model characteristic's Cramér's V against each protected attribute",
     APPLICANT: "pick an applicant's bins and see the points, the score and the PD (formulas)",
     SETTINGS: "the settings used, one key per row, with their meaning",
     CAUTIONS: "what this workbook does not replace, the limits of its figures, and this build's notes",
@@ -78,7 +80,7 @@ EMPTY_CELL_NAME = "EmptyCellAdd"
 
 # the sheet that holds the evidence of each flag (by the report section that shows it)
 FLAG_SHEETS = {"characteristics": CLASSING, "fit": FIT, "discrimination": DISCRIMINATION, "calibration": CALIBRATION,
-               "stability": STABILITY, "data": CAUTIONS}
+               "stability": STABILITY, "data": CAUTIONS, "selection": SELECTION, "fairness": FAIRNESS}
 
 
 def write_workbook(build, validation, path: str | os.PathLike[str]) -> Path:
@@ -130,6 +132,7 @@ def workbook(build, validation) -> Workbook:
     _calibration_sheet(sheets[CALIBRATION], validation, counts_format)
     _stability_sheet(sheets[STABILITY], build, validation, counts_format)
     _cutoffs_sheet(sheets[CUTOFFS], validation, counts_format)
+    _fairness_sheet(sheets[FAIRNESS], build, validation, counts_format)
     _applicant_sheet(sheets[APPLICANT], build, points_ranges)
     _settings_sheet(sheets[SETTINGS], build.settings)
     _cautions_sheet(sheets[CAUTIONS], build, validation)
@@ -691,6 +694,60 @@ def _cutoffs_sheet(sheet: Worksheet, validation, counts_format: str) -> None:
                          **dict.fromkeys(("Goods approved", "Goods declined", "Bads approved", "Bads declined"),
                                          counts_format)})
     freeze_header(sheet)
+    fit_widths(sheet)
+
+
+IMPACT_COLUMNS = ["Attribute", "Level", "Applications", "Approved", "Approval rate", "Ratio to the most approved",
+                  "Under the guide", "Goods approved", "Bads approved", "Bad rate among approved"]
+
+
+def _fairness_sheet(sheet: Worksheet, build, validation, counts_format: str) -> None:
+    """Each protected attribute's levels at the cut-off, the rates and ratios as formulas; the proxies beside them."""
+    fairness = validation.fairness
+    guide = build.settings.fairness.impact_ratio
+    if fairness is None:
+        sheet_heading(sheet, "Fairness", "No protected attribute is declared in the settings (use = \"protected\"), "
+                                         "so no proxy or adverse-impact check was made.")
+        write_frame(sheet, pd.DataFrame(columns=IMPACT_COLUMNS), caption="Adverse impact at the cut-off")
+        text_cell(sheet, FIRST_ROW, 1, "none: no protected attribute declared")
+        freeze_header(sheet)
+        fit_widths(sheet)
+        return
+    sheet_heading(sheet, "Fairness", f"Approvals at the cut-off {fairness.cutoff:g} ({fairness.cutoff_source}), "
+                                     f"{fairness.sample} sample. Approval rate, ratio to the most-approved level and the "
+                                     f"bad rate are formulas; a ratio under {guide:g} is marked (the four-fifths rule of "
+                                     "thumb: common practice, no source; a guide, not a verdict).")
+    letter = {name: get_column_letter(i + 1) for i, name in enumerate(IMPACT_COLUMNS)}
+    rows, row = [], FIRST_ROW
+    for attribute, impact in fairness.impacts.items():
+        first, last = row, row + len(impact.levels) - 1
+        rates = f"${letter['Approval rate']}${first}:${letter['Approval rate']}${last}"
+        for level, applications, approved, goods, bads in zip(impact.levels, impact.applications, impact.approved,
+                                                              impact.goods_approved, impact.bads_approved):
+            cell = {name: f"{letter[name]}{row}" for name in letter}
+            rows.append({
+                "Attribute": attribute, "Level": level, "Applications": applications, "Approved": approved,
+                "Approval rate": Formula(f'IF({cell["Applications"]}>0,{cell["Approved"]}/{cell["Applications"]},"")'),
+                "Ratio to the most approved": Formula(f'IF(MAX({rates})>0,{cell["Approval rate"]}/MAX({rates}),"")'),
+                "Under the guide": Formula(f'IF({cell["Ratio to the most approved"]}<{guide!r},"under {guide:g}",'
+                                           f'"at or above {guide:g}")'),
+                "Goods approved": goods, "Bads approved": bads,
+                "Bad rate among approved": Formula(f'IF({cell["Goods approved"]}+{cell["Bads approved"]}>0,'
+                                                   f'{cell["Bads approved"]}/({cell["Goods approved"]}+{cell["Bads approved"]}),"")'),
+            })
+            row += 1
+    frame = pd.DataFrame(rows, columns=IMPACT_COLUMNS, dtype=object)
+    placed = write_frame(sheet, frame, caption="Adverse impact at the cut-off",
+                         formats={"Applications": counts_format, "Approved": counts_format, "Approval rate": RATE,
+                                  "Ratio to the most approved": "0.000", "Goods approved": counts_format,
+                                  "Bads approved": counts_format, "Bad rate among approved": RATE})
+    proxies = pd.DataFrame([{"Model characteristic": p.characteristic, "Protected attribute": p.attribute,
+                             "Cramér's V": p.cramers_v, "Flag": "proxy" if p.flagged else ""} for p in fairness.proxies],
+                           columns=["Model characteristic", "Protected attribute", "Cramér's V", "Flag"])
+    write_frame(sheet, proxies, column=max(placed.columns.values()) + 2,
+                caption=f"Proxies: Cramér's V on the development sample, flagged above "
+                        f"{build.settings.fairness.proxy_cramers_v:g}", formats={"Cramér's V": "0.000"})
+    freeze_header(sheet, columns=2)
     fit_widths(sheet)
 
 

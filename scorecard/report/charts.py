@@ -26,7 +26,7 @@ GRID = "#e4e0d7"
 PAPER = "#fbfaf7"
 GOOD_COLOUR = "#3b7d4f"
 BAD_COLOUR = "#a8433a"
-SERIES_COLOURS = ("#2f6f73", "#b0761a", "#6a4c93", "#5e6a72")  # teal, ochre, plum, slate
+SERIES_COLOURS = ("#2f6f73", "#b0761a", "#6a4c93", "#5e6a72", "#9c4f6e", "#4f7a99")  # teal, ochre, plum, slate, rose, steel
 
 WIDTH, HEIGHT = 640, 300
 MARGIN_LEFT, MARGIN_RIGHT, MARGIN_TOP, MARGIN_BOTTOM = 60, 20, 34, 46
@@ -252,9 +252,9 @@ def clustered_columns(labels: Sequence[str], series: Mapping[str, Sequence[float
     for number, (name, row) in enumerate(zip(series, values)):
         for position, value in enumerate(row):
             x = frame.x(position) + 0.1 * slot + number * column
-            parts.append(_rect(x, frame.y(value), column - 1, frame.y(0.0) - frame.y(value), colours[number],
+            parts.append(_rect(x, frame.y(value), column - 1, frame.y(0.0) - frame.y(value), colours[number % len(colours)],
                                tooltip=f"{labels[position]}: {name} {_tick_text(value, 0.001, percent)}"))
-    parts.append(_legend(frame, [(name, colours[n], "") for n, name in enumerate(series)], swatch="block"))
+    parts.append(_legend(frame, [(name, colours[n % len(colours)], "") for n, name in enumerate(series)], swatch="block"))
     return _svg(width, height, title, parts)
 
 

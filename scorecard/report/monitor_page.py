@@ -45,6 +45,7 @@ SECTIONS = (
     ("stability", "Stability"),
     ("discrimination", "Discrimination"),
     ("calibration", "Calibration"),
+    ("fairness", "Fair lending"),
     ("quarters", "By quarter"),
     ("rules", "How statuses are set"),
     ("cautions", "Cautions and limits"),
@@ -97,6 +98,7 @@ def render_monitor(result: MonitorResult, saved: SavedModel, *, model_path: str 
         "stability": _stability(result),
         "discrimination": _discrimination(result, saved),
         "calibration": _calibration(result, saved.scorecard.table.decimals),
+        "fairness": _fairness(result, saved),
         "quarters": _quarters(result, saved),
         "rules": _rules(result.checks),
         "cautions": {"limits": monitoring_limits(result), "notes": list(result.notes)},
@@ -406,7 +408,42 @@ def _adjusted_cell(p_value: float, checks: CheckSettings) -> Cell:
 
 
 # --------------------------------------------------------------------------------------------
-# 5. By quarter
+# 5. Fair lending
+
+
+def _fairness(result: MonitorResult, saved: SavedModel) -> dict:
+    """Each protected attribute's levels at the build's cut-off: approvals and the adverse impact ratio, per period."""
+    guide = saved.settings.fairness.impact_ratio
+    attributes = list((saved.document.get("fairness") or {}).get("attributes", {}))
+    tables = []
+    for name, periods in result.impacts.items():
+        whole = periods["all"]
+        quarters = [label for label in periods if label != "all"]
+        rows = []
+        for i, level in enumerate(whole.levels):
+            cells = [level, count_text(whole.applications[i]), percent_text(whole.approval_rate[i], 1),
+                     _ratio_cell(whole.ratio[i], guide)]
+            for label in quarters:
+                table = periods[label]
+                cells.append(_ratio_cell(table.ratio[table.levels.index(level)], guide) if level in table.levels else DASH)
+            rows.append(cells)
+        tables.append(text_table(
+            ["level", "applications", "approval rate", "ratio, whole ledger", *(f"ratio, {q}" for q in quarters)], rows,
+            numeric=range(1, 4 + len(quarters)),
+            caption=f"{name}: each level's applications approved at or above the build's cut-off "
+                    f"{fixed_text(result.cutoff, 0)}, and the ratio of its approval rate to the most-approved level's, "
+                    f"whole ledger and each quarter. A ratio under {guide:g} is marked (the four-fifths rule of thumb: "
+                    "common practice, no source; a guide, not a verdict)."))
+    missing = [name for name in attributes if name not in result.impacts]
+    return {"tables": tables, "attributes": attributes, "missing": missing}
+
+
+def _ratio_cell(ratio: float, guide: float) -> Cell:
+    return Cell(fixed_text(ratio, 3), "flag" if ratio < guide else "")
+
+
+# --------------------------------------------------------------------------------------------
+# 6. By quarter
 
 
 def _quarters(result: MonitorResult, saved: SavedModel) -> dict:

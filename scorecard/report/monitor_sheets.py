@@ -43,8 +43,8 @@ from .sheet_kit import (
     write_pairs,
 )
 
-OVERVIEW, STABILITY, DISCRIMINATION, CALIBRATION, QUARTERS, CAUTIONS = (
-    "Overview", "Stability", "Discrimination", "Calibration", "Quarters", "Cautions")
+OVERVIEW, STABILITY, DISCRIMINATION, CALIBRATION, FAIRNESS, QUARTERS, CAUTIONS = (
+    "Overview", "Stability", "Discrimination", "Calibration", "Fairness", "Quarters", "Cautions")
 WHOLE_LEDGER = "whole ledger"
 POINTS = "0.00"
 STATUS_WIDTH = 12  # the Status column of Overview; the long values of the pairs below it run on to the right
@@ -63,7 +63,8 @@ NO_OUTCOMES = ("Not computed: no row of the ledger has a known outcome (good or 
 
 def sheet_names(result: MonitorResult) -> tuple[str, ...]:
     """Return the sheets of a run's workbook, in order (Quarters only when the ledger is dated)."""
-    return (OVERVIEW, STABILITY, DISCRIMINATION, CALIBRATION, *((QUARTERS,) if result.quarters else ()), CAUTIONS)
+    return (OVERVIEW, STABILITY, DISCRIMINATION, CALIBRATION, *((FAIRNESS,) if result.impacts else ()),
+            *((QUARTERS,) if result.quarters else ()), CAUTIONS)
 
 
 def monitor_workbook(result: MonitorResult, saved: SavedModel, *, model_path: str | os.PathLike[str] = "model.json",
@@ -94,6 +95,8 @@ def monitor_workbook(result: MonitorResult, saved: SavedModel, *, model_path: st
     _stability_sheet(sheets[STABILITY], result, counts)
     _discrimination_sheet(sheets[DISCRIMINATION], result, counts)
     _calibration_sheet(sheets[CALIBRATION], result, counts)
+    if result.impacts:
+        _fairness_sheet(sheets[FAIRNESS], result, saved, counts)
     if result.quarters:
         _quarters_sheet(sheets[QUARTERS], result, counts)
     _cautions_sheet(sheets[CAUTIONS], result)
@@ -415,6 +418,38 @@ def _calibration_bands(period: PeriodMonitor, names) -> list[dict[str, object]]:
         "Binomial p (two-sided)": band.binomial_p_two_sided, "Binomial p (more bads)": band.binomial_p_excess,
         "Holm-adjusted p": tests[f"band {names[band.band]}"].adjusted_p_value,
     } for band in frame.itertuples(index=False)]
+
+
+FAIRNESS_COLUMNS = ["Attribute", "Period", "Level", "Applications", "Approved", "Approval rate",
+                    "Ratio to the most approved", "Under the guide"]
+
+
+def _fairness_sheet(sheet: Worksheet, result: MonitorResult, saved: SavedModel, counts: str) -> None:
+    """Each protected attribute's levels at the build's cut-off, whole ledger and each quarter; rates and ratios live."""
+    guide = saved.settings.fairness.impact_ratio
+    sheet_heading(sheet, "Fairness", f"Approvals at the build's cut-off {result.cutoff:g}, whole ledger and each quarter. "
+                                     f"Approval rate and the ratio to the most-approved level are formulas; under {guide:g} "
+                                     "is marked (the four-fifths rule of thumb: a guide, not a verdict).")
+    letter = {name: get_column_letter(i + 1) for i, name in enumerate(FAIRNESS_COLUMNS)}
+    rows, row = [], FIRST_ROW
+    for attribute, periods in result.impacts.items():
+        for period, impact in periods.items():
+            first, last = row, row + len(impact.levels) - 1
+            rates = f"${letter['Approval rate']}${first}:${letter['Approval rate']}${last}"
+            for level, applications, approved in zip(impact.levels, impact.applications, impact.approved):
+                cell = {name: f"{letter[name]}{row}" for name in letter}
+                rows.append({"Attribute": attribute, "Period": WHOLE_LEDGER if period == "all" else period, "Level": level,
+                             "Applications": applications, "Approved": approved,
+                             "Approval rate": Formula(f'IF({cell["Applications"]}>0,{cell["Approved"]}/{cell["Applications"]},"")'),
+                             "Ratio to the most approved": Formula(f'IF(MAX({rates})>0,{cell["Approval rate"]}/MAX({rates}),"")'),
+                             "Under the guide": Formula(f'IF({cell["Ratio to the most approved"]}<{guide!r},"under {guide:g}",'
+                                                        f'"at or above {guide:g}")')})
+                row += 1
+    write_frame(sheet, pd.DataFrame(rows, columns=FAIRNESS_COLUMNS, dtype=object), caption="Adverse impact at the cut-off",
+                formats={"Applications": counts, "Approved": counts, "Approval rate": RATE,
+                         "Ratio to the most approved": "0.000"})
+    freeze_header(sheet, columns=3)
+    fit_widths(sheet)
 
 
 def _quarters_sheet(sheet: Worksheet, result: MonitorResult, counts: str) -> None:

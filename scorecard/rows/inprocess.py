@@ -207,6 +207,49 @@ class InProcessRows:
                         scores[inside], outcome[inside] == GOOD, outcome[inside] == BAD, weight[inside], sample=name))
         return {name: merge_histograms(pieces) for name, pieces in parts.items()}
 
+    def level_tables(self, binnings: Sequence, table, levels: np.ndarray, parts: np.ndarray, *, n_levels: int,
+                     n_parts: int, kept: KeptCodes | None = None):
+        """One pass for the fairness checks: per part of the rows and level of one protected attribute, the score
+        histogram; and per characteristic, its weighted rows per bin and level.
+
+        Parameters
+        ----------
+        binnings, table
+            The model's binnings and points table (characteristics in its order).
+        levels : numpy.ndarray
+            Each row's level (0 .. n_levels − 1; -1: not recorded, left out).
+        parts : numpy.ndarray
+            Each row's part (0 .. n_parts − 1: a sample, or a calendar quarter; -1: in none).
+
+        Returns
+        -------
+        (dict of (part, level) to ScoreHistogram, dict of (part, characteristic) to array bins × levels)
+        """
+        histograms: dict[tuple[int, int], list[ScoreHistogram]] = {}
+        crossed: dict[tuple[int, str], np.ndarray] = {}
+        for first_row, codes in self.coded_batches(binnings, kept):
+            scores = score_codes(codes, table)
+            rows = slice(first_row, first_row + len(scores))
+            outcome, weight, level, part = self.outcome[rows], self.weight[rows], levels[rows], parts[rows]
+            for number in range(n_parts):
+                for g in range(n_levels):
+                    inside = (part == number) & (level == g)
+                    if inside.any():
+                        histograms.setdefault((number, g), []).append(score_histogram(
+                            scores[inside], outcome[inside] == GOOD, outcome[inside] == BAD, weight[inside],
+                            sample=f"{number}:{g}"))
+                known = (part == number) & (level >= 0)
+                for j, binning in enumerate(binnings):
+                    cell = codes[known, j].astype(np.int64) * n_levels + level[known]
+                    counts = np.bincount(cell, weights=weight[known], minlength=binning.n_bins * n_levels)
+                    key = (number, binning.characteristic)
+                    crossed[key] = crossed.get(key, 0) + counts.reshape(binning.n_bins, n_levels)
+        return ({key: merge_histograms(pieces) for key, pieces in histograms.items()}, crossed)
+
+    def quarter_of_rows(self) -> np.ndarray:
+        """Each row's calendar quarter, counted from 1970 (-1: no date)."""
+        return _absolute_quarters(self.dates)
+
     def period_counts(self, scorecard, *, by_quarter: bool):
         """One pass over a new ledger: per period ('all', and each calendar quarter as its number since 1970
         when ``by_quarter``), the score histogram, every model characteristic's weighted rows per bin, and the

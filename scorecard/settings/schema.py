@@ -16,7 +16,8 @@ from pathlib import Path
 from typing import Any
 
 from ..terms import (
-    ACT_P, ACT_PSI, BAD_RATE_SHAPES, COEFFICIENT_RANGE, ENGINES, FROM_DATA, GINI_DROP, IN_PROCESS, LEAKAGE_IV, REJECT_METHODS,
+    ACT_P, ACT_PSI, BAD_RATE_SHAPES, COEFFICIENT_RANGE, ENGINES, FROM_DATA, GINI_DROP, GROUNDS_SOURCE, IN_PROCESS, LEAKAGE_IV, PROTECTED_GROUNDS,
+    REJECT_METHODS,
     WATCH_P, WATCH_PSI,
 )
 from .text import toml_value
@@ -183,8 +184,9 @@ class CharacteristicSettings:
 
     kind: str = _key("", "numeric or categorical (blank: detected)", _one_of("", "numeric", "categorical"), "numeric, categorical or blank")
     use: str = _key(
-        "", "auto (selection decides), always (forced in), never (left out); blank: auto unless it looks like an identifier or date",
-        _one_of("", "auto", "always", "never"), "one of auto, always, never",
+        "", "auto (selection decides), always (forced in), never (left out), protected (never in the model, kept for the "
+        "fairness checks); blank: auto unless it looks like an identifier, a date or a protected ground",
+        _one_of("", "auto", "always", "never", "protected"), "one of auto, always, never, protected",
     )
     special_values: tuple[tuple[float, str], ...] = _key(
         (), "numeric codes with a meaning of their own, each with its meaning: {-1 = \"no delinquency on record\"} (a list "
@@ -311,6 +313,10 @@ class CheckSettings:
     p_watch: float = _key(WATCH_P, "test p-value below which a check is 'watch'", lambda v: 0 < v < 1, "a p-value in (0, 1)")
     p_act: float = _key(ACT_P, "test p-value below which a check is 'act'", lambda v: 0 < v < 1, "a p-value in (0, 1)")
     cutoff_step: float = _key(0.0, "step between candidate cut-off scores (0: every score that occurs)", lambda v: v >= 0, "a number >= 0")
+    cutoff: float = _key(
+        0.0, "the cut-off score the lender approves at (scores at or above it), for the adverse-impact checks (0: the "
+        "first cut-off above the KS score, as the cut-off table marks it)", lambda v: v >= 0, "a score >= 0",
+    )
     gini_drop: float = _key(
         GINI_DROP, "a relative fall of the Gini from development to hold-out or out-of-time above this is flagged for "
         "over-fitting (common practice)", lambda v: 0 < v < 1, "a share between 0 and 1",
@@ -322,11 +328,45 @@ class CheckSettings:
 
 
 @dataclass(frozen=True)
+class FairnessSettings:
+    """Protected grounds: what a column that looks like one is, and the thresholds of the fairness checks."""
+
+    grounds: tuple[str, ...] = _key(
+        PROTECTED_GROUNDS, "grounds fair-lending law commonly protects, each 'NAME: words a column's name or levels may "
+        "hold'; a ground whose name says 'check local law' is flagged, never refused",
+    )
+    grounds_source: str = _key(GROUNDS_SOURCE, "where the list of grounds comes from")
+    proxy_cramers_v: float = _key(
+        0.3, "a model characteristic whose Cramér's V with a protected attribute is above this is flagged as a proxy "
+        "for it (common practice, no source)", lambda v: 0 < v < 1, "a number between 0 and 1",
+    )
+    impact_ratio: float = _key(
+        0.8, "a level approved at less than this share of the most-approved level's rate is flagged (the four-fifths "
+        "rule of thumb: common practice, no source; a guide, not a verdict)", lambda v: 0 < v <= 1, "a share in (0, 1]",
+    )
+
+
+@dataclass(frozen=True)
+class ChallengerSettings:
+    """The benchmark fitted beside the scorecard, to show what the scorecard's format costs."""
+
+    l2: float = _key(1.0, "ridge penalty of the challenger: fine bins, one indicator per bin", lambda v: v > 0, "a positive number")
+    auc_gap: float = _key(
+        0.02, "a challenger AUC above the scorecard's by more than this, on an honest sample, is flagged (common "
+        "practice, no source)", lambda v: v > 0, "a positive number",
+    )
+
+
+@dataclass(frozen=True)
 class ReportSettings:
-    """What the reports say about themselves."""
+    """What the reports say about themselves, and what the model document asks the analyst to write."""
 
     title: str = _key("Application scorecard", "title of the reports")
     lender: str = _key("", "name of the lending organisation shown in the reports")
+    purpose: str = _key("", "model document: the business purpose of the scorecard (blank: a placeholder to fill in)")
+    intended_use: str = _key("", "model document: the decisions it is meant for, the products and the applicants")
+    owner: str = _key("", "model document: who owns the model")
+    approval: str = _key("", "model document: who approved it, and when (blank: a placeholder for the sign-off)")
 
 
 SECTIONS: dict[str, type] = {
@@ -342,6 +382,8 @@ SECTIONS: dict[str, type] = {
     "scaling": ScalingSettings,
     "reasons": ReasonSettings,
     "checks": CheckSettings,
+    "fairness": FairnessSettings,
+    "challenger": ChallengerSettings,
     "report": ReportSettings,
 }
 
@@ -362,6 +404,8 @@ class Settings:
     scaling: ScalingSettings = field(default_factory=ScalingSettings)
     reasons: ReasonSettings = field(default_factory=ReasonSettings)
     checks: CheckSettings = field(default_factory=CheckSettings)
+    fairness: FairnessSettings = field(default_factory=FairnessSettings)
+    challenger: ChallengerSettings = field(default_factory=ChallengerSettings)
     report: ReportSettings = field(default_factory=ReportSettings)
     characteristics: Mapping[str, CharacteristicSettings] = field(default_factory=dict)
     folder: str = ""  # where the settings file lives; relative ledger paths start here
