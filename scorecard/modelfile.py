@@ -31,7 +31,7 @@ from .rows import ScoreHistogram
 from .scoring import Scorecard
 from .settings import Settings, settings_from_mapping, settings_to_mapping
 from .settings.renamed import upgrade_binning, upgrade_settings
-from .terms import NUMERIC, SAMPLE_NAMES, frozen
+from .terms import CATEGORICAL, DEVELOPMENT_NAME, NUMERIC, SAMPLE_NAMES, frozen
 
 FORMAT = "scorewright-model"
 FORMAT_VERSION = 2  # 2: the present names of classes, bad-rate shape and unseen bin (scorecard.settings.renamed)
@@ -176,13 +176,19 @@ def load_model(path: str | os.PathLike[str]) -> SavedModel:
     except (OSError, UnicodeDecodeError) as error:
         raise ModelFileError(f"{path}: cannot read the model file ({error}).") from None
     try:
-        document = json.loads(text)
+        document = json.loads(text, parse_constant=_no_constant, parse_float=_finite_float)
     except json.JSONDecodeError as error:
         raise ModelFileError(f"{path}: not a valid model file (JSON error at line {error.lineno}). It may be damaged; build it again.") from None
+    except (ValueError, RecursionError) as error:  # NaN, Infinity, 1e400; brackets nested past any model's depth
+        reason = "it is nested too deeply" if isinstance(error, RecursionError) else str(error)
+        raise ModelFileError(f"{path}: not a valid model file ({reason}). It may be damaged; build it again.") from None
     if not isinstance(document, dict) or document.get("format") != FORMAT:
         raise ModelFileError(f"{path}: not a scorewright model file. Give the model.json written by 'scorewright build'.")
     version = document.get("format_version")
-    if not isinstance(version, int) or version > FORMAT_VERSION:
+    if isinstance(version, bool) or not isinstance(version, int) or version < 1:
+        raise ModelFileError(f"{path}: model file format version {version!r} is not one this tool wrote. "
+                             "It may be damaged; build it again.")
+    if version > FORMAT_VERSION:
         raise ModelFileError(
             f"{path}: model file format version {version!r} is newer than this tool reads ({FORMAT_VERSION}). "
             f"Upgrade scorewright (this is {__version__})."
@@ -197,6 +203,7 @@ def load_model(path: str | os.PathLike[str]) -> SavedModel:
 
 def _saved_model(document: Mapping[str, Any], path: Path) -> SavedModel:
     older = document["format_version"] < FORMAT_VERSION
+    check_meaning(document, path, older=older)
     try:
         settings_document = upgrade_settings(document["settings"]) if older else document["settings"]
         settings = settings_from_mapping(settings_document, source=f"{path} (settings)")
@@ -219,9 +226,20 @@ def _saved_model(document: Mapping[str, Any], path: Path) -> SavedModel:
         scorecard = Scorecard(table, tuple(binnings), settings.ledger.id_column)
         baseline = {sample: ScoreHistogram.from_dict(sample, data)
                     for sample, data in document["baseline"]["score_histograms"].items()}
-    except (KeyError, TypeError, ValueError) as error:
+    except (KeyError, TypeError, ValueError, AttributeError, IndexError) as error:
         raise ModelFileError(f"{path}: the model file lacks or mangles an entry ({type(error).__name__}: {error}). Build it again.") from None
     return SavedModel(scorecard, settings, baseline, bin_counts, document.get("performance", {}), document)
+
+
+def _no_constant(name: str) -> None:
+    raise ValueError(f"it holds {name}, which is not a number")
+
+
+def _finite_float(text: str) -> float:
+    value = float(text)
+    if not math.isfinite(value):
+        raise ValueError(f"it holds {text}, a number too large for a double")
+    return value
 
 
 def _bounds(binning: Binning, index: int) -> dict[str, Any]:
@@ -260,3 +278,163 @@ def _plain(value: Any) -> Any:
         return bool(value)
     return value
 
+
+
+# --------------------------------------------------------------------------------------------
+# The meaning of a model file: a checksum proves the file is as written, not that what was
+# written makes sense (a file edited and its checksum recomputed passes it). Everything scoring,
+# monitoring and the exports rely on is checked here, once, where the file enters.
+
+
+def check_meaning(document: Mapping[str, Any], path: Path, *, older: bool = False) -> None:
+    """Refuse a model file whose content no build could have written.
+
+    Raises
+    ------
+    ModelFileError
+        Naming the entry and what is wrong with it.
+    """
+    where = f"{path}: "
+    _entry(document, "settings", dict, where)
+    scaling = _entry(document, "scaling", dict, where)
+    for key in ("base_score", "base_odds", "pdo", "factor", "offset"):
+        _number(scaling, key, f"{where}scaling.")
+    if not scaling["base_odds"] > 0 or not scaling["pdo"] > 0:
+        _refuse(f"{where}scaling: base_odds and pdo must be positive (they are {scaling['base_odds']!r} and {scaling['pdo']!r})")
+    factor = scaling["pdo"] / math.log(2.0)
+    offset = scaling["base_score"] - factor * math.log(scaling["base_odds"])
+    if not (math.isclose(scaling["factor"], factor, rel_tol=1e-9) and math.isclose(scaling["offset"], offset, rel_tol=1e-9, abs_tol=1e-9)):
+        _refuse(f"{where}scaling: factor and offset do not follow from base_score, base_odds and pdo")
+    decimals = _entry(document, "decimals", int, where)
+    if not 0 <= decimals <= 6:
+        _refuse(f"{where}decimals = {decimals!r}: points keep 0 to 6 decimals")
+    _number(document, "intercept", where)
+    characteristics = _entry(document, "characteristics", list, where)
+    if not characteristics:
+        _refuse(f"{where}the model has no characteristics")
+    names = set()
+    for index, char in enumerate(characteristics):
+        here = f"{where}characteristics[{index}]"
+        if not isinstance(char, dict):
+            _refuse(f"{here}: not an entry of a characteristic")
+        name = _entry(char, "name", str, f"{here}.")
+        if not name or name in names:
+            _refuse(f"{here}: the name {name!r} is empty or given twice")
+        names.add(name)
+        _check_characteristic(char, f"{where}characteristic {name!r}", decimals, older=older)
+    baseline = _entry(document, "baseline", dict, where)
+    histograms = _entry(baseline, "score_histograms", dict, f"{where}baseline.")
+    if DEVELOPMENT_NAME not in histograms:
+        _refuse(f"{where}baseline.score_histograms: no histogram of the {DEVELOPMENT_NAME} sample")
+    for sample, data in histograms.items():
+        _check_histogram(data, f"{where}baseline.score_histograms.{sample}")
+    performance = _entry(document, "performance", dict, where)
+    for sample, figures in performance.items():
+        if not isinstance(figures, dict) or not all(
+                value is None or (not isinstance(value, bool) and isinstance(value, (int, float)) and math.isfinite(value))
+                for value in figures.values()) or not isinstance(figures.get("auc", 0.5), (int, float)):
+            _refuse(f"{where}performance.{sample}: not figures (numbers) of a sample")
+
+
+def _check_characteristic(char: Mapping[str, Any], here: str, decimals: int, *, older: bool) -> None:
+    for key in ("reason_code", "reason_label"):
+        _entry(char, key, str, f"{here}, ")
+    _number(char, "coefficient", f"{here}, ")
+    binning = _entry(char, "binning", dict, f"{here}, ")
+    if older:
+        binning = upgrade_binning(binning)
+    kind = binning.get("kind")
+    if kind not in (NUMERIC, CATEGORICAL) or char.get("kind", kind) != kind:
+        _refuse(f"{here}, binning.kind: {kind!r} is not numeric or categorical, or not the characteristic's kind")
+    bins = _entry(char, "bins", list, f"{here}, ")
+    n_bins = len(bins)
+    labels = _entry(binning, "labels", list, f"{here}, binning.")
+    if len(labels) != n_bins or not all(isinstance(label, str) for label in labels):
+        _refuse(f"{here}: {n_bins} bins but {len(labels)} bin labels in the binning")
+    if kind == NUMERIC:
+        cuts = _numbers(binning, "cuts", f"{here}, binning.")
+        if any(b <= a for a, b in zip(cuts, cuts[1:])):
+            _refuse(f"{here}, binning.cuts: not strictly ascending")
+        n_chain = len(cuts) + 1
+    else:
+        classes = _entry(binning, "classes", list, f"{here}, binning.")
+        if not all(isinstance(levels, list) and levels and all(isinstance(v, str) for v in levels) for levels in classes):
+            _refuse(f"{here}, binning.classes: every class must be a non-empty list of levels (text)")
+        levels = [level for group in classes for level in group]
+        if len(set(levels)) != len(levels):
+            _refuse(f"{here}, binning.classes: a level is in two classes")
+        n_chain = len(classes)
+    special_values = _numbers(binning, "special_values", f"{here}, binning.")
+    special_bins = _entry(binning, "special_bins", list, f"{here}, binning.")
+    if kind == CATEGORICAL and special_values or len(special_bins) != len(special_values) or len(set(special_values)) != len(special_values):
+        _refuse(f"{here}, binning: special values and their bins do not match")
+    if not 1 <= n_chain <= n_bins:
+        _refuse(f"{here}: {n_bins} bins cannot hold the binning's {n_chain} classes")
+    for key, value, lowest in [*(("special_bins", b, -1) for b in special_bins), ("missing_bin", binning.get("missing_bin"), -1),
+                               ("unseen_bin", binning.get("unseen_bin"), 0)]:
+        if isinstance(value, bool) or not isinstance(value, int) or not lowest <= value < n_bins:
+            _refuse(f"{here}, binning.{key} = {value!r}: not a bin of the characteristic (0 to {n_bins - 1})")
+    unit = 10.0**decimals
+    for index, entry in enumerate(bins):
+        at = f"{here}, bins[{index}]"
+        if not isinstance(entry, dict):
+            _refuse(f"{at}: not an entry of a bin")
+        for key in ("woe", "exact_points", "points"):
+            _number(entry, key, f"{at}.")
+        if not math.isclose(entry["points"] * unit, round(entry["points"] * unit), abs_tol=1e-6):
+            _refuse(f"{at}.points = {entry['points']!r}: not rounded to the model's {decimals} decimals")
+        counts = _entry(entry, "counts", dict, f"{at}.")
+        if DEVELOPMENT_NAME not in counts:
+            _refuse(f"{at}.counts: no counts of the {DEVELOPMENT_NAME} sample")
+        for sample, numbers in counts.items():
+            for key in ("goods", "bads", "everyone"):
+                if _number(numbers if isinstance(numbers, dict) else {}, key, f"{at}.counts.{sample}.", largest=math.inf) < 0:
+                    _refuse(f"{at}.counts.{sample}.{key}: a negative count")
+        if entry.get("label", labels[index]) != labels[index]:
+            _refuse(f"{at}.label differs from the binning's label of the bin")
+        if kind == NUMERIC and index < n_chain:
+            edges = [None, *cuts, None]
+            if (entry.get("lower", edges[index]), entry.get("upper", edges[index + 1])) != (edges[index], edges[index + 1]):
+                _refuse(f"{at}: lower and upper do not match the binning's cuts")
+        if kind == CATEGORICAL and index < n_chain and entry.get("levels", classes[index]) != classes[index]:
+            _refuse(f"{at}.levels do not match the binning's classes")
+
+
+def _check_histogram(data: Any, here: str) -> None:
+    if not isinstance(data, dict):
+        _refuse(f"{here}: not a score histogram")
+    columns = [_numbers(data, key, f"{here}.") for key in ("scores", "goods", "bads", "others")]
+    if len({len(c) for c in columns}) != 1 or any(v < 0 for c in columns[1:] for v in c):
+        _refuse(f"{here}: its columns differ in length or hold negative counts")
+    if any(b <= a for a, b in zip(columns[0], columns[0][1:])):
+        _refuse(f"{here}.scores: not strictly ascending")
+
+
+def _entry(mapping: Mapping[str, Any], key: str, kind: type, where: str) -> Any:
+    value = mapping.get(key) if isinstance(mapping, Mapping) else None
+    if isinstance(value, bool) or not isinstance(value, kind):
+        _refuse(f"{where}{key}: {'missing' if value is None else repr(value)[:40]}, where {kind.__name__} was written")
+    return value
+
+
+# No scorecard has a number this large in its scaling, points or counts; beyond it sums of points
+# in units of a sixth decimal would leave the integers a double holds exactly
+LARGEST = 1e9
+
+
+def _number(mapping: Mapping[str, Any], key: str, where: str, *, largest: float = LARGEST) -> float:
+    value = mapping.get(key)
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not abs(value) <= largest:
+        _refuse(f"{where}{key} = {repr(value)[:40]}: not a number within ±{largest:g}")
+    return float(value)
+
+
+def _numbers(mapping: Mapping[str, Any], key: str, where: str) -> list[float]:
+    values = _entry(mapping, key, list, where)
+    if not all(not isinstance(v, bool) and isinstance(v, (int, float)) and math.isfinite(v) for v in values):
+        _refuse(f"{where}{key}: not a list of finite numbers")
+    return [float(v) for v in values]
+
+
+def _refuse(text: str) -> None:
+    raise ModelFileError(f"{text}. The file was edited after the build; build the model again instead of editing it.")
