@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import json
 import os
+import re
 import shlex
 import tomllib
 from dataclasses import replace
@@ -20,12 +21,12 @@ import pandas as pd
 from .build import Stopwatch, build_scorecard
 from .classing import ClassedLedger, class_ledger, classing_settings_values
 from .errors import LedgerError, SettingsError
-from .files import replacing, replacing_folder, write_text_atomically
+from .files import check_not_an_input, claiming, replacing, replacing_folder, write_text_atomically
 from .intake import (
     closest_names, columns_of, default_outcome_mapping, detect_kind, fingerprint_of, ledger_columns, ledger_place,
     looks_like_identifier_or_date, open_batches, open_ledger, outcome_key, prepare_ledger, protected_ground, read_ledger,
 )
-from .modelfile import load_model, model_document, save_model
+from .modelfile import document_checksum, load_model, model_document, save_model
 from .options import (
     EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, ExportOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions, Streams,
 )
@@ -39,9 +40,13 @@ from .settings import (
 
 def run_init(options: InitOptions, streams: Streams) -> int:
     """Read a ledger, propose a classing, write the settings file and print the IV table."""
+    check_not_an_input(options.out, {"the ledger": options.ledger})
+    with claiming(options.out):
+        return _init(options, streams)
+
+
+def _init(options: InitOptions, streams: Streams) -> int:
     out = options.out
-    if out.exists() and options.ledger.exists() and out.samefile(options.ledger):
-        raise SettingsError(f"{out}: this is the ledger itself; choose another name for the settings file with --out.")
     if out.is_dir():
         raise SettingsError(f"{out}: is a folder. Give --out the name of the settings file to write, e.g. {out / 'scorecard.toml'}.")
     if out.exists() and not options.force:
@@ -254,6 +259,15 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     place = ledger_place(settings, path=ledger_path)
     folder = ledger_path.parent if ledger_path else options.source.resolve().parent
     out = options.out or folder / f"{options.source.stem}-build"
+    inputs = {**({"the ledger": ledger_path} if ledger_path else {}),
+              **({"the settings file": options.source} if options.source != ledger_path else {})}
+    check_not_an_input(out, inputs, replaces_folder=True)
+    with claiming(out):
+        return _build(options, streams, settings, ledger_path, place, out, clock, timings)
+
+
+def _build(options: BuildOptions, streams: Streams, settings: Settings, ledger_path: Path | None, place, out: Path, clock,
+           timings: dict[str, float]) -> int:
     check_output_folder(out, options.force, outputs=BUILD_OUTPUTS)
     with clock("intake"):
         ledger, rows = open_ledger(place, settings, stream=options.stream or None)
@@ -270,8 +284,9 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     # fails at any step leaves the folder as it was
     with replacing_folder(out) as folder:
         with clock("model file"):
+            document = model_document(replace(build, settings=resolved))
             written = [
-                save_model(model_document(replace(build, settings=resolved)), folder / "model.json"),
+                save_model(document, folder / "model.json"),
                 write_settings(resolved, folder / "settings.toml", header=(
                     "The settings this build used, every classing written out: 'scorewright build' on this file\n"
                     "reproduces the same model file."
@@ -279,7 +294,8 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
                 write_text_atomically(folder / "summary.txt", summary + "\n"),
             ]
         if options.reports:
-            written += _write_build_reports(replace(build, settings=resolved), folder, clock, options, out)
+            written += _write_build_reports(replace(build, settings=resolved), folder, clock, options, out,
+                                            document_checksum(document))
     if options.timings:
         print(json.dumps({stage: round(seconds, 4) for stage, seconds in timings.items()}), file=streams.err)
     streams.say(summary)
@@ -298,7 +314,7 @@ def _say_read(streams: Streams, ledger, place, rows, settings: Settings) -> None
         streams.note(f"{ledger.source}: {ledger.n_rows:,} rows, read in batches of about {settings.ledger.batch_rows:,} rows")
 
 
-def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out: Path) -> list[Path]:
+def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out: Path, model_checksum: str) -> list[Path]:
     """Run every validation check and write the HTML report and the workbook into ``folder``."""
     from .report.build_page import write_report
     from .report.build_sheets import write_workbook
@@ -308,9 +324,9 @@ def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out:
         validation = validate_build(build)
     command = "scorewright build " + " ".join(shlex.quote(str(a)) for a in (options.source, "--out", out))
     with clock("report"):
-        report = write_report(build, validation, folder / "report.html", generated_by=command)
+        report = write_report(build, validation, folder / "report.html", generated_by=command, model_checksum=model_checksum)
     with clock("workbook"):
-        book = write_workbook(build, validation, folder / "workbook.xlsx")
+        book = write_workbook(build, validation, folder / "workbook.xlsx", model_checksum=model_checksum)
     return [report, book]
 
 
@@ -383,6 +399,14 @@ def _temporary(name: str) -> bool:
 def run_score(options: ScoreOptions, streams: Streams) -> int:
     """Score a ledger with a saved model and write the scored file (batch by batch for a large ledger), or, through
     an engine, write the scores where the engine writes (a Parquet or CSV file, or a table)."""
+    if options.out is None:  # a table an engine writes
+        return _score(options, streams)
+    check_not_an_input(options.out, {**({"the ledger": options.ledger} if options.ledger else {}), "the model file": options.model})
+    with claiming(options.out):
+        return _score(options, streams)
+
+
+def _score(options: ScoreOptions, streams: Streams) -> int:
     saved = load_model(options.model)
     place = command_place(options, saved.settings)
     if bool(options.out) == bool(options.out_table):
@@ -415,7 +439,7 @@ def run_score(options: ScoreOptions, streams: Streams) -> int:
 
     def scored_batches():
         for first_row, frame in batches:
-            scored = scorecard.score(frame, reason_count=count, source=source)
+            scored = scorecard.score(frame, reason_count=count, source=source, first_row=first_row)
             tally_unseen(unseen, scorecard.unseen(frame))
             if scorecard.id_column and scorecard.id_column in frame.columns:
                 scored.insert(0, scorecard.id_column, frame[scorecard.id_column].to_numpy())
@@ -496,7 +520,8 @@ def write_tables_atomically(frames, path: Path) -> Path:
     """Write a sequence of tables (same columns) as one CSV or Parquet file, under a temporary name, then rename.
 
     Both are written with pyarrow (its CSV writer is about ten times faster than pandas'); text
-    values are quoted in the CSV.
+    values are quoted in the CSV, and a text that a spreadsheet would take for a formula gets a
+    quote in front (``neutralised``).
     """
     import pyarrow as pa
     import pyarrow.csv as pacsv
@@ -506,6 +531,8 @@ def write_tables_atomically(frames, path: Path) -> Path:
         writer, schema = None, None
         try:
             for frame in frames:
+                if path.suffix.lower() == ".csv":
+                    frame = neutralised(frame)
                 table = pa.Table.from_pandas(frame, preserve_index=False)
                 if writer is None:
                     schema = table.schema
@@ -518,19 +545,50 @@ def write_tables_atomically(frames, path: Path) -> Path:
     return path
 
 
+# A text a spreadsheet opens as a formula starts with one of these (OWASP, "CSV Injection", from memory);
+# a plain signed number ('-5', '+1.5e3') stays as it is
+FORMULA_START = re.compile(r"[=+\-@\t\r]")
+PLAIN_NUMBER = re.compile(r"[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?")
+
+
+def neutralised(frame: pd.DataFrame) -> pd.DataFrame:
+    """Return ``frame`` with a quote (') put before every text a spreadsheet would run as a formula.
+
+    Only text columns change; numbers stay numbers. The usual guard of a CSV file that people open
+    in a spreadsheet (the README says so): ``=HYPERLINK(...)`` is written ``'=HYPERLINK(...)``.
+    """
+    changed = {}
+    for name in frame.columns:
+        column = frame[name]
+        if pd.api.types.is_numeric_dtype(column) or pd.api.types.is_bool_dtype(column):
+            continue
+        text = column.astype("string")
+        risky = text.str.match(FORMULA_START.pattern, na=False) & ~text.str.fullmatch(PLAIN_NUMBER.pattern, na=False)
+        if risky.any():
+            changed[name] = column.astype(object).where(~risky.to_numpy(), "'" + text.astype(object))
+    return frame.assign(**changed) if changed else frame
+
+
 # --------------------------------------------------------------------------------------------
 # monitor
 
 
 def run_monitor(options: MonitorOptions, streams: Streams) -> int:
     """Check a new ledger against a saved model's baseline; write the monitoring reports."""
+    if options.out is None and options.ledger is None:
+        raise SettingsError("give the output folder with --out when the ledger is a table or a query.")
+    out = options.out or options.ledger.parent / f"{options.ledger.stem}-monitor"
+    inputs = {**({"the ledger": options.ledger} if options.ledger else {}), "the model file": options.model}
+    check_not_an_input(out, inputs, replaces_folder=True)
+    with claiming(out):
+        return _monitor(options, streams, out)
+
+
+def _monitor(options: MonitorOptions, streams: Streams, out: Path) -> int:
     from .monitor import monitor_rows
     from .report.monitor_page import write_monitor
     from .report.monitor_sheets import write_monitor_workbook
 
-    if options.out is None and options.ledger is None:
-        raise SettingsError("give the output folder with --out when the ledger is a table or a query.")
-    out = options.out or options.ledger.parent / f"{options.ledger.stem}-monitor"
     check_output_folder(out, options.force, outputs=MONITOR_OUTPUTS)
     saved = load_model(options.model)
     place = command_place(options, saved.settings)
@@ -589,8 +647,6 @@ EXPORT_FORMS = {".pmml": "pmml", ".xml": "pmml", ".sql": "sql", ".py": "python"}
 
 def run_export(options: ExportOptions, streams: Streams) -> int:
     """Write a saved scorecard as PMML, one SQL query or a standard-library Python file."""
-    from .exports import export_model, pmml_text, python_text, sql_text
-
     out = options.out
     form = options.form or EXPORT_FORMS.get(out.suffix.lower())
     if form is None:
@@ -598,8 +654,15 @@ def run_export(options: ExportOptions, streams: Streams) -> int:
                             ".pmml, .sql or .py.")
     if out.is_dir():
         raise SettingsError(f"{out}: is a folder. Give --out the name of the file to write, e.g. {out / ('scorecard.' + form.replace('python', 'py'))}.")
-    if out.exists() and options.model.exists() and out.samefile(options.model):
-        raise SettingsError(f"{out}: this is the model file itself; choose another name with --out.")
+    check_not_an_input(out, {"the model file": options.model})
+    with claiming(out):
+        return _export(options, streams, form)
+
+
+def _export(options: ExportOptions, streams: Streams, form: str) -> int:
+    from .exports import export_model, pmml_text, python_text, sql_text
+
+    out = options.out
     if out.exists() and not options.force:
         raise SettingsError(f"{out}: the file exists. Pass --force to overwrite it, or choose another --out.")
     saved = load_model(options.model)

@@ -34,6 +34,10 @@ class ModelFileError(ScorecardError):
     """A model file is missing, corrupt, edited or of a newer format."""
 
 
+class OutputError(ScorecardError):
+    """An output cannot be written where asked: it is an input of the run, or another run is writing it."""
+
+
 class ScorecardWarning(UserWarning):
     """Something was repaired or left out; the message says what and how to avoid it."""
 

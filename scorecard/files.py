@@ -16,11 +16,15 @@ import contextlib
 import ctypes
 import errno
 import os
+import re
 import shutil
 import sys
 import tempfile
-from collections.abc import Iterator
+import time
+from collections.abc import Iterator, Mapping
 from pathlib import Path
+
+from .errors import OutputError
 
 
 @contextlib.contextmanager
@@ -151,3 +155,112 @@ def _umask() -> int:
 
 def _mode_for_new_files() -> int:
     return 0o666 & ~_umask()
+
+
+# --------------------------------------------------------------------------------------------
+# Claiming an output: never over an input, one run at a time, no temporaries left by killed runs
+
+
+def check_not_an_input(output: str | os.PathLike[str], inputs: Mapping[str, str | os.PathLike[str]], *,
+                       replaces_folder: bool = False) -> None:
+    """Refuse an output that is an input of the same run, or (a folder replaced whole) holds one.
+
+    Paths are compared after following symbolic links, and existing files also by identity (a
+    hard link is the same file). ``inputs`` maps what each input is ('the ledger') to its path.
+    ``--force`` changes nothing here: an input is never overwritten.
+
+    Raises
+    ------
+    OutputError
+    """
+    output = Path(output)
+    target = Path(os.path.realpath(output))
+    for what, path in inputs.items():
+        source = Path(os.path.realpath(path))
+        same = source == target or (output.exists() and Path(path).exists() and os.path.samefile(output, path))
+        if same or (replaces_folder and target in source.parents):
+            raise OutputError(
+                f"{output}: the output {'is' if same else 'holds'} {what} of this run ({path}). Inputs are never "
+                "overwritten, --force or not: choose another --out."
+            )
+
+
+@contextlib.contextmanager
+def claiming(path: str | os.PathLike[str]) -> Iterator[Path]:
+    """Hold an output (a file or a folder) for the length of a run; yield its path.
+
+    A lock file ``.NAME.lock`` beside the output is locked (``flock``) and says which process holds
+    it; a second run that wants the same output is refused with that, instead of both writing and
+    the last one winning. While the lock is held, the temporaries that killed runs left beside the
+    output (``.NAME.*.part``, ``.NAME.*.old``) are removed: no run can still be writing them. The
+    lock file goes when the run ends, and so do folders made only to hold it if the run left them
+    empty.
+
+    Raises
+    ------
+    OutputError
+        Another run holds the output.
+    """
+    path = Path(path)
+    made = _make_folders(path.parent)
+    try:
+        handle = _lock(path.parent / f".{path.name}.lock", path)
+        try:
+            os.ftruncate(handle, 0)
+            os.write(handle, f"process {os.getpid()}, since {time.strftime('%Y-%m-%d %H:%M:%S')}".encode())
+            remove_stale_temporaries(path)
+            yield path
+        finally:
+            # removed while still locked: a run that opened the old file finds it gone and opens a new one
+            (path.parent / f".{path.name}.lock").unlink(missing_ok=True)
+            os.close(handle)
+    finally:
+        for folder in made:  # the innermost first; only an empty folder can be removed
+            with contextlib.suppress(OSError):
+                folder.rmdir()
+
+
+def remove_stale_temporaries(path: str | os.PathLike[str]) -> list[Path]:
+    """Remove the temporaries killed runs left beside ``path`` and return them (call it holding ``path``)."""
+    path = Path(path)
+    # tempfile's names: the prefix, eight letters, digits or underscores, the suffix
+    own = re.compile(rf"\.{re.escape(path.name)}\.[a-z0-9_]{{8}}\.(part|old)")
+    removed = []
+    for entry in sorted(path.parent.iterdir()) if path.parent.is_dir() else ():
+        if own.fullmatch(entry.name):
+            if entry.is_dir() and not entry.is_symlink():
+                shutil.rmtree(entry, ignore_errors=True)
+            else:
+                entry.unlink(missing_ok=True)
+            removed.append(entry)
+    return removed
+
+
+def _lock(lock: Path, path: Path) -> int:
+    import fcntl  # POSIX; the tool's outputs are switched in with POSIX renames too
+
+    while True:
+        handle = os.open(lock, os.O_RDWR | os.O_CREAT, 0o644)
+        try:
+            fcntl.flock(handle, fcntl.LOCK_EX | fcntl.LOCK_NB)
+        except BlockingIOError:
+            holder = os.read(handle, 200).decode("utf-8", "replace").strip() or "a process"
+            os.close(handle)
+            raise OutputError(
+                f"{path}: another scorewright run is writing it ({holder}). Wait for it to finish, or choose another --out."
+            ) from None
+        with contextlib.suppress(FileNotFoundError):
+            if os.path.samestat(os.fstat(handle), os.stat(lock)):
+                return handle
+        os.close(handle)  # the run that held it removed the file just before we locked it: lock the new one
+
+
+def _make_folders(folder: Path) -> list[Path]:
+    """Make ``folder`` and any missing parent; return those made, the innermost first."""
+    missing = []
+    while not folder.exists():
+        missing.append(folder)
+        folder = folder.parent
+    for made in reversed(missing):
+        made.mkdir(exist_ok=True)
+    return missing

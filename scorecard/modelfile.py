@@ -150,6 +150,11 @@ def save_model(document: Mapping[str, Any], path: str | os.PathLike[str]) -> Pat
     return write_text_atomically(path, text)
 
 
+def document_checksum(document: Mapping[str, Any]) -> str:
+    """Return the checksum ``save_model`` records for a model document."""
+    return checksum(_plain(dict(document)))
+
+
 def checksum(body: Mapping[str, Any]) -> str:
     """Return the SHA-256 of a document's canonical JSON (sorted keys, no spaces), without its checksum."""
     content = {key: value for key, value in body.items() if key != "checksum"}

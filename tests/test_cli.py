@@ -146,7 +146,7 @@ def test_init_refuses_to_write_over_the_ledger(ledger_csv):
     before = ledger_csv.read_bytes()
     code, _, stderr = run("init", ledger_csv, "--target", "outcome", "--bad", "bad", "--out", ledger_csv, "--force")
     assert code == 2
-    assert "this is the ledger itself" in stderr
+    assert "the output is the ledger of this run" in stderr and "Inputs are never overwritten, --force or not" in stderr
     assert ledger_csv.read_bytes() == before
 
 

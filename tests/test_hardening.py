@@ -21,6 +21,7 @@ import json
 import math
 import os
 import re
+import zipfile
 from pathlib import Path
 
 import numpy as np
@@ -210,3 +211,163 @@ def test_model_files_json_cannot_carry_are_refused(text, message, built, tmp_pat
     path.write_text(text, encoding="utf-8")
     code, _, stderr = run("score", path, ledger, "--out", tmp_path / "scored.csv")
     assert code == 2 and message in stderr and "Traceback" not in stderr
+
+
+# --------------------------------------------------------------------------------------------
+# 1. Inputs are never modified
+
+
+def _inputs_cases(folder: Path, ledger: Path, model: Path):
+    """(name, argv, the input that must stay as it was, message) for outputs that are inputs."""
+    inside = folder / "holds-the-ledger"
+    inside.mkdir(exist_ok=True)
+    (inside / "summary.txt").write_text("not a ledger", encoding="utf-8")
+    ledger_inside = inside / "ledger.csv"
+    ledger_inside.write_bytes(ledger.read_bytes())
+    settings_inside = folder / "settings-run"
+    settings_inside.mkdir(exist_ok=True)
+    settings_file = settings_inside / "settings.toml"
+    if not settings_file.exists():
+        assert run("init", ledger, "--target", "outcome", "--bad", "bad", "--out", settings_file, "--quiet")[0] == 0
+    model_inside = folder / "holds-the-model"
+    model_inside.mkdir(exist_ok=True)
+    (model_inside / "model.json").write_bytes(model.read_bytes())
+    link = folder / "link.csv"
+    if not link.is_symlink():
+        link.symlink_to(ledger)
+    return [
+        ("score over its ledger", ("score", model, ledger, "--out", ledger, "--force"), ledger, "is the ledger"),
+        ("score over its model file", ("score", model, ledger, "--out", model, "--force"), model, "is the model file"),
+        ("score through a link to its ledger", ("score", model, ledger, "--out", link, "--force"), ledger, "is the ledger"),
+        ("build into the ledger's folder", ("build", ledger_inside, "--target", "outcome", "--bad", "bad", "--out", inside,
+                                            "--force"), ledger_inside, "holds the ledger"),
+        ("build into its settings file's folder", ("build", settings_file, "--out", settings_inside, "--force"),
+         settings_file, "holds the settings file"),
+        ("monitor into the ledger's folder", ("monitor", model, ledger_inside, "--out", inside, "--force"), ledger_inside,
+         "holds the ledger"),
+        ("monitor into the model's folder", ("monitor", model_inside / "model.json", ledger, "--out", model_inside,
+                                             "--force"), model_inside / "model.json", "holds the model file"),
+        ("init over its ledger", ("init", ledger, "--target", "outcome", "--bad", "bad", "--out", ledger, "--force"),
+         ledger, "is the ledger"),
+        ("export over its model file", ("export", model, "--out", model, "--form", "sql", "--force"), model,
+         "is the model file"),
+    ]
+
+
+def test_an_output_that_is_or_holds_an_input_is_refused_whatever_force_says(built, tmp_path):
+    folder, ledger, model = built
+    work = tmp_path / "work"
+    work.mkdir()
+    (work / "ledger.csv").write_bytes(ledger.read_bytes())
+    (work / "model.json").write_bytes(model.read_bytes())
+    cases = _inputs_cases(work, work / "ledger.csv", work / "model.json")
+    for name, argv, kept, message in cases:
+        before = {p: p.read_bytes() for p in work.rglob("*") if p.is_file() and not p.is_symlink()}
+        code, stdout, stderr = run(*argv, "--quiet")
+        assert code == 2 and stdout == "", name
+        assert f"the output {message} of this run" in stderr and "--force or not" in stderr, (name, stderr)
+        after = {p: p.read_bytes() for p in work.rglob("*") if p.is_file() and not p.is_symlink()}
+        assert after == before, name  # nothing changed, nothing added (no lock file, no temporary)
+    TALLY["outputs that are inputs"] = (len(cases), len(cases))
+
+
+# --------------------------------------------------------------------------------------------
+# 2. Nothing half-written: one run at a time, temporaries of killed runs removed, the set checked together
+
+
+def test_a_second_run_into_a_held_folder_is_refused_and_says_who_holds_it(built, tmp_path):
+    from scorecard.files import claiming
+
+    _, ledger, model = built
+    out = tmp_path / "run"
+    with claiming(out):
+        code, _, stderr = run("build", ledger, "--target", "outcome", "--bad", "bad", "--out", out)
+        assert code == 2 and f"another scorewright run is writing it (process {os.getpid()}, since " in stderr
+        code, _, stderr = run("monitor", model, ledger, "--out", out)
+        assert code == 2 and "another scorewright run is writing it" in stderr
+    assert sorted(p.name for p in tmp_path.iterdir()) == []  # the lock went with its holder
+    code, _, stderr = run("build", ledger, "--target", "outcome", "--bad", "bad", "--out", out, "--quiet")
+    assert code == 0, stderr
+
+
+def test_the_next_run_removes_the_temporaries_killed_runs_left(built, tmp_path):
+    _, ledger, model = built
+    stale = [tmp_path / ".run.k1ll3d_1.part", tmp_path / ".run.k1ll3d_2.old", tmp_path / ".scored.csv.k1ll3d_3.part"]
+    stale[0].mkdir()
+    (stale[0] / "model.json").write_text("half", encoding="utf-8")
+    (stale[1] / "run").mkdir(parents=True)
+    stale[2].write_text("half a scored file", encoding="utf-8")
+    kept = [tmp_path / ".run.notes", tmp_path / ".run.k1ll3d_4.partial", tmp_path / ".other.k1ll3d_5.part"]
+    for path in kept:
+        path.write_text("not ours", encoding="utf-8")
+    assert run("build", ledger, "--target", "outcome", "--bad", "bad", "--out", tmp_path / "run", "--quiet")[0] == 0
+    assert run("score", model, ledger, "--out", tmp_path / "scored.csv", "--quiet")[0] == 0
+    assert not any(path.exists() for path in stale) and all(path.exists() for path in kept)
+    assert sorted(p.name for p in tmp_path.iterdir() if not p.name.startswith(".")) == ["run", "scored.csv"]
+
+
+def _set_checksum(folder: Path) -> str:
+    """The model checksum the build set in ``folder`` carries, after checking its files agree on it."""
+    import openpyxl
+
+    document = json.loads((folder / "model.json").read_text(encoding="utf-8"))
+    assert document["checksum"] == checksum(document)
+    value = document["checksum"]
+    assert f'<code class="hash">{value}</code>' in (folder / "report.html").read_text(encoding="utf-8")
+    book = openpyxl.load_workbook(folder / "workbook.xlsx", read_only=True)
+    cells = [cell for row in book.worksheets[0].iter_rows(values_only=True) for cell in row]
+    assert value in cells
+    assert (folder / "settings.toml").is_file() and (folder / "summary.txt").read_text(encoding="utf-8").strip()
+    return value
+
+
+def test_report_and_workbook_carry_the_model_files_checksum(built):
+    folder, _, _ = built
+    assert len(_set_checksum(folder / "run")) == 64
+
+
+# --------------------------------------------------------------------------------------------
+# 5. No formula injection through a scored CSV
+
+
+def test_a_scored_csv_carries_no_formula_and_keeps_numbers_numbers(tmp_path):
+    frame = _ledger(1200, seed=8)
+    frame["app_id"] = [("=HYPERLINK(\"http://x\")" if i % 3 == 0 else "+1 CALL" if i % 3 == 1 else f"-{i}") for i in range(len(frame))]
+    frame = frame.rename(columns={"region": "@region"})
+    ledger = tmp_path / "ledger.csv"
+    frame.to_csv(ledger, index=False)
+    code, _, err = run("build", ledger, "--target", "outcome", "--bad", "bad", "--id", "app_id", "--out", tmp_path / "run",
+                       "--no-reports", "--quiet")
+    assert code == 0, err
+    out = tmp_path / "scored.csv"
+    assert run("score", tmp_path / "run" / "model.json", ledger, "--out", out, "--quiet")[0] == 0
+    scored = pd.read_csv(out, dtype=str, keep_default_na=False)
+    cells = scored.to_numpy().ravel()
+    risky = [c for c in cells if re.match(r"[=+\-@\t\r]", c) and not re.fullmatch(r"[+-]?[\d.]+(e[+-]?\d+)?", c)]
+    assert risky == []
+    assert scored["app_id"].iloc[0] == "'=HYPERLINK(\"http://x\")" and scored["app_id"].iloc[2] == "-2"
+    assert "'@region" in set(cells) or not any(c.startswith("@") for c in cells)
+    numbers = pd.read_csv(out)
+    assert numbers["score"].dtype.kind == "i" and numbers["pd"].dtype.kind == "f"
+    TALLY["formula-leading cells in a scored CSV"] = (int(sum(1 for c in cells if c.startswith("'"))), 0)
+
+
+# --------------------------------------------------------------------------------------------
+# 7. The same bytes for the same input
+
+
+def test_the_same_input_gives_the_same_bytes(built, tmp_path):
+    _, ledger, model = built
+    first, second = {}, {}
+    for store in (first, second):
+        assert run("build", ledger, "--target", "outcome", "--bad", "bad", "--id", "app_id", "--date", "date",
+                   "--out", tmp_path / "run", "--force", "--quiet")[0] == 0
+        assert run("monitor", model, ledger, "--out", tmp_path / "monitor", "--force", "--quiet")[0] in (0, 1)
+        store.update({path.relative_to(tmp_path): path.read_bytes() for path in tmp_path.rglob("*") if path.is_file()})
+    assert set(first) == set(second) and len(first) == 8
+    assert [name for name in first if first[name] != second[name]] == []
+    # and not by luck within a zip clock tick (2 s): no entry of either workbook carries a time of its own
+    for name in ("run/workbook.xlsx", "monitor/monitor.xlsx"):
+        with zipfile.ZipFile(tmp_path / name) as book:
+            assert {entry.date_time for entry in book.infolist()} == {(2000, 1, 1, 0, 0, 0)}
+    TALLY["same bytes for the same input"] = (len(first), len(first))

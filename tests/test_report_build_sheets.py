@@ -15,6 +15,7 @@ import warnings
 
 import numpy as np
 import openpyxl
+import openpyxl.writer.excel
 import pandas as pd
 import pytest
 
@@ -251,12 +252,11 @@ def test_a_failed_write_leaves_the_old_file_and_no_temporary(invented, tmp_path,
     path = tmp_path / "workbook.xlsx"
     path.write_bytes(b"the previous book")
 
-    def broken_save(self, filename):
-        with open(filename, "wb") as stream:
-            stream.write(b"half a book")
+    def broken_write(self):
+        self._archive.writestr("half/a/book.xml", b"<half/>")
         raise OSError("disk full")
 
-    monkeypatch.setattr(openpyxl.Workbook, "save", broken_save)
+    monkeypatch.setattr(openpyxl.writer.excel.ExcelWriter, "write_data", broken_write)
     with pytest.raises(OSError, match="disk full"):
         write_workbook(*invented, path)
     assert path.read_bytes() == b"the previous book"

@@ -57,7 +57,7 @@ CUTOFF_SPAN = (0.02, 0.98)  # approval rates the shown rows cover: the cut-offs 
 SCORE_MEANING_ROWS = 10  # most rows of the table of odds and PD per score
 
 
-def render_report(build, validation, *, generated_by: str = "") -> str:
+def render_report(build, validation, *, generated_by: str = "", model_checksum: str = "") -> str:
     """Return the build report as one self-contained HTML page.
 
     Parameters
@@ -68,6 +68,9 @@ def render_report(build, validation, *, generated_by: str = "") -> str:
         The checks of ``build`` per sample (``validate_build(build)``).
     generated_by : str
         Who or what made the report (e.g. the command line); shown under Reproducibility.
+    model_checksum : str
+        The checksum of the model file written with the report, shown under Reproducibility so
+        that the report and the model file can be checked to belong together.
 
     Returns
     -------
@@ -98,12 +101,12 @@ def render_report(build, validation, *, generated_by: str = "") -> str:
                         "the ledger holds no rejected application made in time",
         "fairness": _fairness(build, validation),
         "cautions": _cautions(build),
-        "reproducibility": _reproducibility(build, generated_by),
+        "reproducibility": _reproducibility(build, generated_by, model_checksum),
     }
     return environment().get_template("report.html").render(**context)
 
 
-def write_report(build, validation, path, *, generated_by: str = "") -> Path:
+def write_report(build, validation, path, *, generated_by: str = "", model_checksum: str = "") -> Path:
     """Write the build report to ``path`` atomically and return the path.
 
     The page is written under a temporary name in the same folder and then renamed into place
@@ -117,6 +120,8 @@ def write_report(build, validation, path, *, generated_by: str = "") -> Path:
         Where the report goes, e.g. ``run1/report.html``; its folder is made if missing.
     generated_by : str
         The command that made the report, shown under reproducibility.
+    model_checksum : str
+        The checksum of the model file of the same build, shown under reproducibility.
 
     Returns
     -------
@@ -127,7 +132,8 @@ def write_report(build, validation, path, *, generated_by: str = "") -> Path:
     OSError
         The folder cannot be made or written to; any earlier report at ``path`` is left as it was.
     """
-    return write_text_atomically(Path(path), render_report(build, validation, generated_by=generated_by))
+    return write_text_atomically(Path(path), render_report(build, validation, generated_by=generated_by,
+                                                           model_checksum=model_checksum))
 
 
 # --------------------------------------------------------------------------------------------
@@ -921,7 +927,7 @@ def _cautions(build) -> list[str]:
 # 12. Reproducibility
 
 
-def _reproducibility(build, generated_by: str) -> dict:
+def _reproducibility(build, generated_by: str, model_checksum: str = "") -> dict:
     versions = library_versions()
     command = "scorewright build settings.toml --out REBUILD_FOLDER"
     return {
@@ -930,4 +936,5 @@ def _reproducibility(build, generated_by: str) -> dict:
         "settings": settings_to_toml(build.settings),
         "command": command,
         "generated_by": generated_by,
+        "model_checksum": model_checksum,
     }

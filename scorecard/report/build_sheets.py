@@ -83,7 +83,7 @@ FLAG_SHEETS = {"characteristics": CLASSING, "fit": FIT, "discrimination": DISCRI
                "stability": STABILITY, "data": CAUTIONS, "selection": SELECTION, "fairness": FAIRNESS}
 
 
-def write_workbook(build, validation, path: str | os.PathLike[str]) -> Path:
+def write_workbook(build, validation, path: str | os.PathLike[str], *, model_checksum: str = "") -> Path:
     """Write the reviewer's workbook of a build to ``path``.
 
     The book is saved under a temporary name in the same folder and then renamed into place, so
@@ -96,16 +96,18 @@ def write_workbook(build, validation, path: str | os.PathLike[str]) -> Path:
         The checks of the same build (``validate_build(build)``).
     path : path-like
         The ``.xlsx`` file to write; its folder is made if needed.
+    model_checksum : str
+        The checksum of the model file of the same build, shown on the overview sheet.
 
     Returns
     -------
     pathlib.Path
         ``path``.
     """
-    return save_workbook(workbook(build, validation), path)
+    return save_workbook(workbook(build, validation, model_checksum=model_checksum), path)
 
 
-def workbook(build, validation) -> Workbook:
+def workbook(build, validation, *, model_checksum: str = "") -> Workbook:
     """Return the reviewer's workbook of a build, in memory.
 
     Parameters
@@ -125,7 +127,7 @@ def workbook(build, validation) -> Workbook:
     woe_cells, names = _classing_sheet(sheets[CLASSING], build, counts_format)
     points_ranges, scaling_names = _points_sheet(sheets[POINTS], build, woe_cells)
     names.update(scaling_names)
-    _overview_sheet(sheets[OVERVIEW], build, validation, counts_format)
+    _overview_sheet(sheets[OVERVIEW], build, validation, counts_format, model_checksum)
     _fit_sheet(sheets[FIT], build)
     _selection_sheet(sheets[SELECTION], build)
     _discrimination_sheet(sheets[DISCRIMINATION], validation, counts_format)
@@ -365,15 +367,17 @@ def _applicant_sheet(sheet: Worksheet, build, points_ranges) -> None:
 # Overview
 
 
-def _overview_sheet(sheet: Worksheet, build, validation, counts_format: str) -> None:
+def _overview_sheet(sheet: Worksheet, build, validation, counts_format: str, model_checksum: str = "") -> None:
     settings = build.settings
     title = settings.report.title + (f" — {settings.report.lender}" if settings.report.lender else "")
     sheet_heading(sheet, title, f"The reviewer's workbook of the scorecard built from {build.source}. "
                                 "Every figure says which sample it is on.")
     fingerprint = build.fingerprint
-    row = write_pairs(sheet, [("Ledger", build.source), ("Rows", fingerprint.n_rows),
-                              ("SHA-256", fingerprint.sha256), ("Fingerprint of", fingerprint.of)],
-                      row=CAPTION_ROW + 1, caption="Ledger", formats={"Rows": COUNT})
+    pairs = [("Ledger", build.source), ("Rows", fingerprint.n_rows), ("SHA-256", fingerprint.sha256),
+             ("Fingerprint of", fingerprint.of)]
+    if model_checksum:  # the set's proof of belonging together: model.json records the same checksum
+        pairs.append(("Model file checksum", model_checksum))
+    row = write_pairs(sheet, pairs, row=CAPTION_ROW + 1, caption="Ledger", formats={"Rows": COUNT})
     samples = build.samples.reset_index(names="sample")
     samples.columns = [str(name).capitalize() for name in samples.columns]
     placed = write_frame(sheet, samples, row=row + 2, caption="Samples",

@@ -7,8 +7,10 @@ caption, then the header row), and every book is saved under a temporary name, t
 
 from __future__ import annotations
 
+import datetime
 import math
 import os
+import zipfile
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -22,6 +24,7 @@ from openpyxl.chart.shapes import GraphicalProperties
 from openpyxl.styles import Alignment, Font, PatternFill
 from openpyxl.utils import get_column_letter, quote_sheetname
 from openpyxl.worksheet.worksheet import Worksheet
+from openpyxl.writer.excel import ExcelWriter
 
 from ..files import replacing
 
@@ -74,8 +77,12 @@ def save_workbook(book: Workbook, path: str | os.PathLike[str]) -> Path:
     """
     for sheet in book.worksheets:
         printable(sheet)
+    # no clock in the file: the document's dates and every zip entry's time are fixed, so the same
+    # input gives the same bytes (openpyxl's own save stamps both with the time of saving)
+    book.properties.created = book.properties.modified = FIXED_TIME
     with replacing(path) as temporary:
-        book.save(temporary)
+        with _SteadyZip(temporary, "w", zipfile.ZIP_DEFLATED, allowZip64=True) as archive:
+            ExcelWriter(book, archive).write_data()
     return Path(path)
 
 
@@ -118,6 +125,24 @@ def sheet_width_points(sheet: Worksheet) -> float:
 
 
 DEFAULT_COLUMN_WIDTH = 8.43  # characters: a column the sheet sets no width for
+
+
+FIXED_TIME = datetime.datetime(2000, 1, 1)  # the date every workbook says it was made and changed
+
+
+class _SteadyZip(zipfile.ZipFile):
+    """A zip file whose entries all carry ``FIXED_TIME`` instead of the time they were written."""
+
+    def writestr(self, name, data, compress_type=None, compresslevel=None):
+        if not isinstance(name, zipfile.ZipInfo):
+            name = zipfile.ZipInfo(name, date_time=FIXED_TIME.timetuple()[:6])
+            name.compress_type = self.compression
+        super().writestr(name, data, compress_type, compresslevel)
+
+    def write(self, filename, arcname=None, compress_type=None, compresslevel=None):
+        # openpyxl writes each sheet to a file first; a file's entry would carry its time of writing
+        with open(filename, "rb") as stream:
+            self.writestr(arcname or os.path.basename(filename), stream.read(), compress_type, compresslevel)
 
 
 class Formula(str):
