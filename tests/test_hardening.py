@@ -371,3 +371,52 @@ def test_the_same_input_gives_the_same_bytes(built, tmp_path):
         with zipfile.ZipFile(tmp_path / name) as book:
             assert {entry.date_time for entry in book.infolist()} == {(2000, 1, 1, 0, 0, 0)}
     TALLY["same bytes for the same input"] = (len(first), len(first))
+
+
+KILLS = 60 if SOAK else 6  # builds killed at random moments (make test; make soak runs ten times as many)
+STARTUP_SECONDS = 1.5  # a new process's imports, about (common practice on this machine, no source)
+
+
+def test_a_build_killed_at_any_moment_leaves_the_old_set_or_the_new_one(built, tmp_path):
+    import random
+    import subprocess
+    import sys
+    import time
+
+    _, ledger, _ = built
+    work = tmp_path / "work"
+    work.mkdir()
+    (work / "ledger.csv").write_bytes(ledger.read_bytes())
+    out = work / "run"
+
+    def command(holdout: str) -> list[str]:
+        return [sys.executable, "-m", "scorecard", "build", str(work / "ledger.csv"), "--target", "outcome", "--bad", "bad",
+                "--holdout", holdout, "--out", str(out), "--force", "--quiet"]
+
+    environment = {**os.environ, "PYTHONPATH": str(ROOT)}
+    sets = {}
+    for holdout in ("0.3", "0.4"):  # two builds, two sets: the one in the folder and the one a killed run writes
+        start = time.perf_counter()
+        assert run(*command(holdout)[3:])[0] == 0  # in this process: the same bytes, without a start-up
+        seconds = time.perf_counter() - start + STARTUP_SECONDS
+        sets[holdout] = _set_checksum(out)
+    assert sets["0.3"] != sets["0.4"]
+    rng = random.Random(17)
+    current, seen = "0.4", {"old": 0, "new": 0}
+    for _ in range(KILLS):
+        other = "0.3" if current == "0.4" else "0.4"
+        process = subprocess.Popen(command(other), env=environment, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        time.sleep(rng.uniform(0.0, seconds * 1.1))
+        process.kill()
+        process.wait()
+        found = _set_checksum(out)  # a whole set, its files agreeing on one model checksum
+        assert found in (sets[current], sets[other])
+        if found == sets[other]:
+            seen["new"] += 1
+            current = other
+        else:
+            seen["old"] += 1
+    # the next run removes what the killed ones left beside the folder
+    assert run(*command("0.3")[3:])[0] == 0
+    assert sorted(p.name for p in work.iterdir()) == ["ledger.csv", "run"]
+    TALLY["killed builds"] = (KILLS, KILLS, seen["old"], seen["new"])
