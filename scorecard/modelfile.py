@@ -335,10 +335,16 @@ def check_meaning(document: Mapping[str, Any], path: Path, *, older: bool = Fals
         _check_histogram(data, f"{where}baseline.score_histograms.{sample}")
     performance = _entry(document, "performance", dict, where)
     for sample, figures in performance.items():
+        here = f"{where}performance.{sample}"
         if not isinstance(figures, dict) or not all(
                 value is None or (not isinstance(value, bool) and isinstance(value, (int, float)) and math.isfinite(value))
-                for value in figures.values()) or not isinstance(figures.get("auc", 0.5), (int, float)):
-            _refuse(f"{where}performance.{sample}: not figures (numbers) of a sample")
+                for value in figures.values()):
+            _refuse(f"{here}: not figures (numbers) of a sample")
+        if "auc" in figures:  # monitoring compares a new quarter with these
+            for key in ("auc", "gini", "ks"):
+                _number(figures, key, f"{here}.")
+            if sample not in histograms:
+                _refuse(f"{here}: no score histogram of the sample in the baseline")
 
 
 def _check_characteristic(char: Mapping[str, Any], here: str, decimals: int, *, older: bool) -> None:
