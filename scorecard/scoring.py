@@ -14,9 +14,11 @@ import pandas as pd
 
 from .classing import Binning
 from .errors import LedgerError
+from .intake import check_numbers
 from .points import PointsTable
 from .rows import code_rows, score_codes, unseen_levels
 from .rows.inprocess import THREADS
+from .terms import NUMERIC
 
 
 def reasons(codes: np.ndarray, table: PointsTable, *, count: int = 4) -> np.ndarray:
@@ -60,7 +62,7 @@ class Scorecard:
     binnings: tuple[Binning, ...]  # aligned with table.characteristics
     id_column: str = ""
 
-    def codes(self, frame: pd.DataFrame, *, source: str = "ledger") -> np.ndarray:
+    def codes(self, frame: pd.DataFrame, *, source: str = "ledger", first_row: int = 0) -> np.ndarray:
         """Return the bin codes of the model's characteristics for every row.
 
         Raises
@@ -75,6 +77,9 @@ class Scorecard:
                 f"of the scorecard {'are' if len(missing) > 1 else 'is'} not in the ledger. "
                 "Every characteristic in the model is needed to score; add the column(s) with the same names."
             )
+        for binning in self.binnings:
+            if binning.kind == NUMERIC:
+                check_numbers(frame[binning.characteristic], name=binning.characteristic, source=source, first_row=first_row)
         codes = np.empty((len(frame), len(self.binnings)), dtype=np.uint16, order="F")
         if len(self.binnings):
             # one column per characteristic, stored column after column; coded on two threads, since
@@ -89,7 +94,7 @@ class Scorecard:
         found = {b.characteristic: unseen_levels(frame[b.characteristic], b) for b in self.binnings}
         return {name: levels for name, levels in found.items() if levels}
 
-    def score(self, frame: pd.DataFrame, *, reason_count: int = 0, source: str = "DataFrame") -> pd.DataFrame:
+    def score(self, frame: pd.DataFrame, *, reason_count: int = 0, source: str = "DataFrame", first_row: int = 0) -> pd.DataFrame:
         """Score every row of ``frame``.
 
         Parameters
@@ -100,6 +105,8 @@ class Scorecard:
             Reasons per row (0: none).
         source : str
             Name of the data, for messages.
+        first_row : int
+            Position of the frame's first row in its file, for messages (0 for a whole read).
 
         Returns
         -------
@@ -107,7 +114,7 @@ class Scorecard:
             ``score`` and ``pd`` per row, then ``reason_1`` … with codes and ``reason_1_text`` …
             with their text, aligned with ``frame``'s index.
         """
-        codes = self.codes(frame, source=source)
+        codes = self.codes(frame, source=source, first_row=first_row)
         scores = score_codes(codes, self.table)
         result = pd.DataFrame({"score": scores, "pd": self.table.scaling.pd_of_score(scores)}, index=frame.index)
         if reason_count:

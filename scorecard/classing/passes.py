@@ -15,12 +15,12 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from ..errors import ScorecardWarning
+from ..errors import LedgerError, ScorecardWarning
 from ..evidence import EvidenceTable, evidence_table
 from ..intake import Characteristic, Ledger, rows_in_memory
 from ..rows import BinCounts, InProcessRows, KeptCodes
 from ..settings import CharacteristicSettings, ProposalSettings, Settings
-from ..terms import LEAKAGE_IV, SAMPLE_NAMES
+from ..terms import BAD, DEVELOPMENT, GOOD, LEAKAGE_IV, SAMPLE_NAMES
 from .best import Merging, coarse_classing
 from .bins import Binning
 from .fine import fine_classing
@@ -98,6 +98,18 @@ class ClassedLedger:
         return tuple(c.name for c in self.characteristics)
 
 
+def _check_both_outcomes(rows: InProcessRows, source: str) -> None:
+    """Refuse a development sample without weighted goods or without weighted bads (WoE needs both)."""
+    development = rows.sample == DEVELOPMENT
+    for code, name in ((GOOD, "good"), (BAD, "bad")):
+        if not (rows.weight[development & (rows.outcome == code)] > 0).any():
+            raise LedgerError(
+                f"{source}: the development sample holds no {name} outcome with a positive weight, and a scorecard "
+                f"learns from goods and bads. Check the outcome mapping under [outcome] (which values are {name})"
+                " and the weights."
+            )
+
+
 def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | None = None,
                  progress: Callable[[Iterable], Iterable] = lambda items: items) -> ClassedLedger:
     """Class every characteristic in passes over the rows: the settings' fixed classing where given, else the best one.
@@ -128,6 +140,7 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
     alone: empty missing and special-value bins go, and unseen values join the unseen bin.
     """
     rows = rows_in_memory(ledger) if rows is None else rows
+    _check_both_outcomes(rows, ledger.source)
     characteristics = ledger.characteristics
     proposed = [c for c in characteristics if not _is_fixed(settings, c.name)]
     fine_rows, fine_weights = rows.gather("classing", [c.name for c in proposed])

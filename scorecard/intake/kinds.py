@@ -89,11 +89,8 @@ def choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[s
         if spec.use == "" and (why := looks_like_identifier_or_date(series, kind)):
             left_out[name] = f"{why}; set use = \"auto\" under [characteristics.{name}] to keep it"
             continue
-        if kind == NUMERIC and not _numeric_or_empty(series):
-            raise LedgerError(
-                f"{source}, column {name!r}: kind is numeric in the settings but the column holds text "
-                f"(e.g. {plain(series.dropna().iloc[0])!r}). Set kind = \"categorical\" or clean the column."
-            )
+        if kind == NUMERIC:
+            check_numbers(series, name=name, source=source)
         chosen.append(_characteristic(name, kind, series, spec) if kind == NUMERIC else Characteristic(name, kind))
     return chosen, left_out
 
@@ -239,6 +236,31 @@ def _looks_like_dates(present: pd.Series) -> bool:
     if not head.str.contains(r"^\d{4}-\d{2}-\d{2}|^\d{1,2}/\d{1,2}/\d{2,4}", regex=True).all():
         return False
     return bool(pd.to_datetime(head, errors="coerce", format="mixed").notna().all())
+
+
+def check_numbers(series: pd.Series, *, name: str, source: str, first_row: int = 0) -> None:
+    """Refuse text in a column read as numbers, naming the cells as a spreadsheet numbers them.
+
+    Every command says the same of the same column (build, score and monitor). ``first_row`` is
+    the position of the series' first row in the file (0 for a whole read).
+
+    Raises
+    ------
+    LedgerError
+    """
+    if _numeric_or_empty(series):
+        return
+    present = series.notna().to_numpy()
+    if pd.api.types.is_bool_dtype(series):
+        wrong = np.flatnonzero(present)
+    else:
+        wrong = np.flatnonzero(present & pd.to_numeric(series.astype(object), errors="coerce").isna().to_numpy())
+    if len(wrong):
+        raise LedgerError(
+            f"{source}, column {name!r}, {describe_rows(wrong + first_row + 2)}: {plain(series.iloc[wrong[0]])!r} is not a "
+            "number, and the column is numeric (its kind in the settings or the model). Correct those cells or leave "
+            "them empty; if the column holds text, set kind = \"categorical\" and build again."
+        )
 
 
 def _numeric_or_empty(series: pd.Series) -> bool:

@@ -135,6 +135,8 @@ def _read_header(path: Path, suffix: str) -> list[str]:
 
 def _read_frame(path: Path, suffix: str, columns: Sequence[str] | None) -> pd.DataFrame:
     usecols = list(columns) if columns is not None else None
+    if suffix in (".parquet", ".pq"):
+        _refuse_nested(path, usecols)
     try:
         if suffix in (".csv", ".txt"):
             return pd.read_csv(path, usecols=usecols, encoding="utf-8-sig", low_memory=False, sep=csv_delimiter(path))
@@ -163,12 +165,39 @@ def check_column_names(names: list[str], source: str) -> None:
 
 
 def read_head(path: Path, suffix: str) -> pd.DataFrame:
-    if suffix in (".parquet", ".pq"):
-        import pyarrow.parquet as pq
+    try:
+        if suffix in (".parquet", ".pq"):
+            import pyarrow.parquet as pq
 
-        batch = next(pq.ParquetFile(path).iter_batches(batch_size=HEAD_ROWS), None)
-        return batch.to_pandas() if batch is not None else pd.read_parquet(path)
-    return pd.read_csv(path, nrows=HEAD_ROWS, encoding="utf-8-sig", low_memory=False, sep=csv_delimiter(path))
+            _refuse_nested(path, None)
+            batch = next(pq.ParquetFile(path).iter_batches(batch_size=HEAD_ROWS), None)
+            return batch.to_pandas() if batch is not None else pd.read_parquet(path)
+        return pd.read_csv(path, nrows=HEAD_ROWS, encoding="utf-8-sig", low_memory=False, sep=csv_delimiter(path))
+    except LedgerError:
+        raise
+    except UnicodeDecodeError as error:
+        raise LedgerError(f"{path.name}: not UTF-8 text (byte {error.start}). Save the ledger as UTF-8 CSV.") from None
+    except Exception as error:  # a reader failure is the file's fault here
+        raise LedgerError(f"{path.name}: cannot read the file ({type(error).__name__}: {error}). Check it opens and is not damaged.") from None
+
+
+def _refuse_nested(path: Path, columns: Sequence[str] | None) -> None:
+    """Refuse Parquet columns of lists, records or maps: a ledger holds one value per cell."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    try:
+        schema = pq.read_schema(path)
+    except Exception as error:  # a reader failure is the file's fault here
+        raise LedgerError(f"{path.name}: cannot read the file as parquet ({type(error).__name__}: {error}). Check it opens and is not damaged.") from None
+    nested = [field.name for field in schema if pa.types.is_nested(field.type) and (columns is None or field.name in columns)]
+    if nested:
+        shown = ", ".join(repr(name) for name in nested[:5]) + (f" and {len(nested) - 5} more" if len(nested) > 5 else "")
+        raise LedgerError(
+            f"{path.name}: column{'s' if len(nested) > 1 else ''} {shown} hold{'' if len(nested) > 1 else 's'} lists or "
+            "records in each cell, and a ledger holds one value per cell. Flatten them into columns of their own, "
+            "or write the file without them."
+        )
 
 
 def arrow_types(head: pd.DataFrame, *, exact: Sequence[str] = ()) -> dict[str, object]:
