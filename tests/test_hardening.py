@@ -420,3 +420,140 @@ def test_a_build_killed_at_any_moment_leaves_the_old_set_or_the_new_one(built, t
     assert run(*command("0.3")[3:])[0] == 0
     assert sorted(p.name for p in work.iterdir()) == ["ledger.csv", "run"]
     TALLY["killed builds"] = (KILLS, KILLS, seen["old"], seen["new"])
+
+
+# --------------------------------------------------------------------------------------------
+# 3. The catalogue of bad input: each with its exit code and the message that says what, where, what to do
+
+
+def _write(name: str, make):
+    def made(folder: Path) -> Path:
+        path = folder / name
+        make(path)
+        return path
+    return made
+
+
+def _frame_with(change):
+    def make(path: Path) -> None:
+        frame = _ledger(1500)
+        change(frame)
+        if path.suffix == ".parquet":
+            frame.to_parquet(path)
+        else:
+            frame.to_csv(path, index=False)
+    return make
+
+
+def _nested(path: Path) -> None:
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    table = pa.Table.from_pandas(_ledger(1500), preserve_index=False)
+    pq.write_table(table.append_column("nested", pa.array([[1, 2]] * table.num_rows)), path)
+
+
+def _edited_lines(edit):
+    def make(path: Path) -> None:
+        lines = _ledger(1500).to_csv(index=False).splitlines()
+        edit(lines)
+        path.write_bytes("\n".join(lines).encode("utf-8", "surrogateescape") + b"\n")
+    return make
+
+
+def _with_bad_byte(path: Path) -> None:
+    raw = _ledger(1500).to_csv(index=False).encode()
+    at = raw.rfind(b"north")
+    path.write_bytes(raw[:at] + b"n\xffrth" + raw[at + 5:])
+
+
+def _set(frame, column, rows, value):
+    frame[column] = frame[column].astype(object)
+    frame.loc[rows, column] = value
+
+
+QUICK = ("--target", "outcome", "--bad", "bad")
+# name: (file maker, command and options (LEDGER, MODEL and OUT stand for the paths), exit code, message)
+CATALOGUE = {
+    "values of ±1e308": (_write("l.csv", _frame_with(lambda f: f.__setitem__("income", f["income"].where(f.index % 97 != 5, 1e308)))),
+                         ("build", "LEDGER", *QUICK, "--out", "OUT"), 0, ""),
+    "no weighted bads": (_write("l.csv", _frame_with(lambda f: f.__setitem__("w", np.where(f["outcome"] == "bad", 0.0, 1.0)))),
+                         ("build", "LEDGER", *QUICK, "--weight", "w", "--out", "OUT"), 2,
+                         r"l\.csv: the development sample holds no bad outcome with a positive weight.*Check the outcome mapping"),
+    "no bads at all": (_write("l.csv", _frame_with(lambda f: f.__setitem__("outcome", "good"))),
+                       ("build", "LEDGER", "--target", "outcome", "--good", "good", "--out", "OUT"), 2, r"'outcome'.*(bad|good)"),
+    "a list column in Parquet": (_write("l.parquet", _nested), ("build", "LEDGER", *QUICK, "--out", "OUT"), 2,
+                                 r"l\.parquet: column 'nested' holds lists or records in each cell.*Flatten"),
+    "a list column, streamed": (_write("l.parquet", _nested), ("build", "LEDGER", *QUICK, "--stream", "--out", "OUT"), 2,
+                                r"column 'nested' holds lists or records"),
+    "text in a numeric column, score": (_write("l.csv", _frame_with(lambda f: _set(f, "income", 7, "lots"))),
+                                        ("score", "MODEL", "LEDGER", "--out", "OUT.csv"), 2,
+                                        r"l\.csv, column 'income', row 9: 'lots' is not a number"),
+    "text in a numeric column, streamed score": (_write("l.csv", _frame_with(lambda f: _set(f, "income", 7, "lots"))),
+                                                 ("score", "MODEL", "LEDGER", "--stream", "--out", "OUT.csv"), 2,
+                                                 r"column 'income', row 9: 'lots' is not a number"),
+    "text in a numeric column, monitor": (_write("l.csv", _frame_with(lambda f: _set(f, "income", 7, "lots"))),
+                                          ("monitor", "MODEL", "LEDGER", "--out", "OUT"), 2,
+                                          r"column 'income', row 9: 'lots' is not a number"),
+    "a ragged row deep in a streamed read": (_write("l.csv", _edited_lines(lambda lines: lines.__setitem__(1400, lines[1400] + ",extra"))),
+                                             ("build", "LEDGER", *QUICK, "--stream", "--out", "OUT"), 2,
+                                             r"l\.csv, row 1401: 8 fields where the header names 7\. A value may hold the separator"),
+    "a ragged row, streamed score": (_write("l.csv", _edited_lines(lambda lines: lines.__setitem__(1400, lines[1400] + ",extra"))),
+                                     ("score", "MODEL", "LEDGER", "--stream", "--out", "OUT.csv"), 2,
+                                     r"l\.csv, row 1401: 8 fields where the header names 7"),
+    "a byte not UTF-8 deep in a streamed read": (_write("l.csv", _with_bad_byte), ("build", "LEDGER", *QUICK, "--stream", "--out", "OUT"),
+                                                 2, r"l\.csv: not UTF-8 text \(byte \d+\)\. Save the ledger as UTF-8 CSV"),
+    "a byte not UTF-8, streamed score": (_write("l.csv", _with_bad_byte), ("score", "MODEL", "LEDGER", "--stream", "--out", "OUT.csv"),
+                                         2, r"not UTF-8 text"),
+    "no such ledger": (lambda folder: folder / "absent.csv", ("score", "MODEL", "LEDGER", "--out", "OUT.csv"), 2,
+                       r"absent\.csv: ledger file not found"),
+    "a ledger of an unknown kind": (_write("l.json", lambda p: p.write_text("{}")), ("score", "MODEL", "LEDGER", "--out", "OUT.csv"), 2,
+                                    r"unknown ledger file type '\.json'"),
+    "a ledger without a model column": (_write("l.csv", _frame_with(lambda f: f.pop("income"))),
+                                        ("score", "MODEL", "LEDGER", "--out", "OUT.csv"), 2,
+                                        r"column 'income' of the scorecard is not in the ledger"),
+    "an empty ledger": (_write("l.csv", lambda p: p.write_text("")), ("build", "LEDGER", *QUICK, "--out", "OUT"), 2, r"the file is empty"),
+    "a header and no rows": (_write("l.csv", lambda p: p.write_text("income,outcome\n")), ("build", "LEDGER", *QUICK, "--out", "OUT"),
+                             2, r"header but no data rows"),
+    "negative reasons": (_write("l.csv", _frame_with(lambda f: None)), ("score", "MODEL", "LEDGER", "--reasons", "-2", "--out", "OUT.csv"),
+                         2, r"--reasons -2: give 0 or more reasons"),
+    "a scored file of an unknown kind": (_write("l.csv", _frame_with(lambda f: None)), ("score", "MODEL", "LEDGER", "--out", "OUT.txt"),
+                                         2, r"write the scored file as \.csv or \.parquet"),
+    "a model file that is a folder": (_write("l.csv", _frame_with(lambda f: None)), ("score", "FOLDER", "LEDGER", "--out", "OUT.csv"),
+                                      2, r"is a folder\. Give the model\.json"),
+    "a model file that is not JSON": (_write("l.csv", _frame_with(lambda f: None)), ("score", "TEXT", "LEDGER", "--out", "OUT.csv"),
+                                      2, r"not a valid model file \(JSON error at line 1\)"),
+    "a settings file that is not TOML": (_write("s.toml", lambda p: p.write_text("[ledger\npath = 'x'")),
+                                         ("build", "LEDGER", "--out", "OUT"), 2, r"s\.toml"),
+    "an unknown settings key": (_write("s.toml", lambda p: p.write_text("[ledger]\npath = 'l.csv'\nspeed = 3\n")),
+                                ("build", "LEDGER", "--out", "OUT"), 2, r"speed"),
+    "a hold-out share of 1.5": (_write("l.csv", _frame_with(lambda f: None)), ("build", "LEDGER", *QUICK, "--holdout", "1.5", "--out", "OUT"),
+                                2, r"holdout"),
+    "an export of an unknown form": (_write("l.csv", _frame_with(lambda f: None)), ("export", "MODEL", "--out", "OUT.txt"), 2,
+                                     r"say the form with --form pmml, sql or python"),
+}
+
+
+@pytest.mark.parametrize("case", CATALOGUE, ids=list(CATALOGUE))
+def test_the_catalogue_of_bad_input(case, built, tmp_path):
+    make, argv, expected, message = CATALOGUE[case]
+    _, _, model = built
+    work = tmp_path / "work"
+    work.mkdir()
+    ledger = make(work)
+    (work / "folder").mkdir()
+    (work / "text.json").write_text("not json", encoding="utf-8")
+    before = {p: p.read_bytes() for p in work.rglob("*") if p.is_file()}
+    names = {"LEDGER": ledger, "MODEL": model, "OUT": work / "out", "OUT.csv": work / "out.csv", "OUT.txt": work / "out.txt",
+             "FOLDER": work / "folder", "TEXT": work / "text.json"}
+    code, stdout, stderr = run(*(names.get(a, a) for a in argv), "--quiet")
+    assert code == expected, stderr
+    after = {p: p.read_bytes() for p in work.rglob("*") if p.is_file()}
+    if expected == 2:
+        errors = stderr.splitlines()
+        assert len(errors) == 1 and errors[0].startswith("scorewright: error: ") and stdout == ""
+        assert re.search(message, errors[0]), errors[0]
+        assert after == before  # the input untouched, nothing of the failed run left behind
+    else:
+        assert {p for p in after if p not in before}  # the outputs were written
+        assert all(after[p] == before[p] for p in before)

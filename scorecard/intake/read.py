@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import csv
 import os
+import re
 from collections.abc import Sequence
 from pathlib import Path
 
@@ -148,7 +149,18 @@ def _read_frame(path: Path, suffix: str, columns: Sequence[str] | None) -> pd.Da
     except UnicodeDecodeError as error:
         raise LedgerError(f"{path.name}: not UTF-8 text (byte {error.start}). Save the ledger as UTF-8 CSV.") from None
     except Exception as error:  # a reader failure is the file's fault here
-        raise LedgerError(f"{path.name}: cannot read the file ({type(error).__name__}: {error}). Check it opens and is not damaged.") from None
+        raise _unreadable(path, error) from None
+
+
+def _unreadable(path: Path, error: Exception) -> LedgerError:
+    """Say why a reader failed, on one line; a row with too many fields by its row number."""
+    text = " ".join(str(error).split())
+    fields = re.search(r"Expected (\d+) fields in line (\d+), saw (\d+)", text)
+    if fields:
+        expected, line, saw = fields.groups()
+        return LedgerError(f"{path.name}, row {line}: {saw} fields where the header names {expected}. A value may hold "
+                           "the separator without quotes: quote it, or remove the extra field.")
+    return LedgerError(f"{path.name}: cannot read the file ({type(error).__name__}: {text}). Check it opens and is not damaged.")
 
 
 def check_column_names(names: list[str], source: str) -> None:
@@ -178,7 +190,7 @@ def read_head(path: Path, suffix: str) -> pd.DataFrame:
     except UnicodeDecodeError as error:
         raise LedgerError(f"{path.name}: not UTF-8 text (byte {error.start}). Save the ledger as UTF-8 CSV.") from None
     except Exception as error:  # a reader failure is the file's fault here
-        raise LedgerError(f"{path.name}: cannot read the file ({type(error).__name__}: {error}). Check it opens and is not damaged.") from None
+        raise _unreadable(path, error) from None
 
 
 def _refuse_nested(path: Path, columns: Sequence[str] | None) -> None:
