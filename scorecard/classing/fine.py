@@ -153,6 +153,8 @@ def roundest_between(low: float, high: float) -> float:
     span = high - low
     for digits in range(int(math.floor(math.log10(abs(high)))) if high != 0 else 0, -13, -1):
         step = 10.0**digits
+        if not math.isfinite(low / step) or not math.isfinite(high / step):
+            continue  # values near the largest double: steps this small overflow (the next, coarser, do not)
         candidate = math.ceil(low / step + 1e-9) * step
         if candidate <= low:
             candidate += step
