@@ -7,6 +7,7 @@ messages and exit codes. Heavy libraries are imported here, not in ``cli.py``, s
 
 from __future__ import annotations
 
+import collections
 import json
 import os
 import re
@@ -126,7 +127,7 @@ def _outcome_lists(column, options: InitOptions, source: str) -> tuple[tuple[str
             raise LedgerError(f"{source}, column {options.target!r}: say which outcome values mean bad with --bad (the column holds {shown}).")
         return default
     named = [*options.bad, *options.good, *options.indeterminate]
-    repeated = [v for v in dict.fromkeys(named) if named.count(v) > 1]
+    repeated = [v for v, n in collections.Counter(named).items() if n > 1]
     if repeated:
         raise SettingsError(
             f"outcome value {repeated[0]!r} is given more than once among --bad, --good and --indeterminate. Give each value once."

@@ -652,3 +652,47 @@ def test_generated_ledgers_go_through_every_command(generated):
         assert _whole_set(folder / "monitor", {"monitor.txt", "monitor.html", "monitor.xlsx"})
         assert len(pd.read_csv(folder / "scored.csv")) == len(frame)
         assert sorted(p.name for p in folder.iterdir()) == ["ledger.csv", "monitor", "quick", "run", "scorecard.toml", "scored.csv"]
+
+
+# --------------------------------------------------------------------------------------------
+# 6. Cost linear in the number of levels
+
+LINEAR_SLACK = 3  # a linear step costs 8 times as much on 8 times the levels; a quadratic one 64 times
+
+
+def _model_with_levels(document: dict, name: str, n_levels: int, path: Path) -> Path:
+    document = copy.deepcopy(document)
+    char = _char(document, name)
+    k = len(char["binning"]["classes"])
+    classes = [[f"L{i}" for i in range(j, n_levels, k)] for j in range(k)]
+    char["binning"]["classes"] = classes
+    for index, levels in enumerate(classes):
+        char["bins"][index]["levels"] = levels
+    document["settings"]["characteristics"].setdefault(name, {})["classes"] = classes
+    return _sealed(document, path)
+
+
+def test_reading_validating_scoring_and_exporting_cost_no_more_than_linear_in_the_levels(built, tmp_path):
+    # a growth test, not a speed target (those are in benchmarks/): the CPU time of the same work on
+    # 20,000 and on 160,000 levels of one characteristic, the best of three, may grow 8-fold, not 64-fold
+    import time
+
+    _, ledger, model = built
+    document = json.loads(model.read_text(encoding="utf-8"))
+    frame = pd.read_csv(ledger).head(2000)
+
+    def work(n_levels: int) -> float:
+        path = _model_with_levels(document, "region", n_levels, tmp_path / f"levels-{n_levels}.json")
+        best = math.inf
+        for _ in range(3):
+            start = time.process_time()
+            saved = load_model(path)
+            saved.scorecard.score(frame, reason_count=3)
+            rules = export_model(saved)
+            sql_text(rules, id_column="app_id"), python_text(rules)
+            best = min(best, time.process_time() - start)
+        return best
+
+    small, large = work(20_000), work(160_000)
+    assert large / small < 8 * LINEAR_SLACK, (small, large)
+    TALLY["cost against levels (20k → 160k)"] = (round(small, 3), round(large, 3))

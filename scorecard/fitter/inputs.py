@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import collections
+
 import numpy as np
 import pandas as pd
 
@@ -50,7 +52,7 @@ def checked_start(start, names: tuple[str, ...]) -> np.ndarray:
 def check_names(names: tuple[str, ...], n_columns: int) -> None:
     if len(names) != n_columns:
         raise FitError(f"names has {len(names)} entries but features has {n_columns} columns; give one name per column.")
-    repeated = sorted({name for name in names if names.count(name) > 1})
+    repeated = sorted(name for name, n in collections.Counter(names).items() if n > 1)
     if repeated:
         raise FitError(f"names {', '.join(map(repr, repeated))} appear more than once; give each characteristic its own name.")
     if INTERCEPT_NAME in names:

@@ -246,7 +246,7 @@ def _check_consistency(settings: Settings, source: str) -> None:
             if not char.classes or not all(char.classes):
                 raise SettingsError(f"{source}: {where}.classes needs at least 1 class, and every class at least 1 level.")
             levels = [level for class_levels in char.classes for level in class_levels]
-            repeated = sorted({level for level in levels if levels.count(level) > 1})
+            repeated = _repeated(levels)
             if repeated:
                 raise SettingsError(f"{source}: {where}.classes lists level {repeated[0]!r} in more than one class. Keep it in one.")
         if char.cuts is not None and char.classes is not None:
@@ -268,3 +268,11 @@ def _unknown(source: str, key: str, allowed: list[str], *, where: str) -> str:
 
 def _type_name(value: Any) -> str:
     return type(value).__name__
+
+
+def _repeated(levels: list[str]) -> list[str]:
+    """The levels listed more than once, sorted (one pass: a classing may list a million levels)."""
+    seen, repeated = set(), set()
+    for level in levels:
+        (repeated if level in seen else seen).add(level)
+    return sorted(repeated)
