@@ -371,7 +371,7 @@ def _check_characteristic(char: Mapping[str, Any], here: str, decimals: int, *, 
         classes = _entry(binning, "classes", list, f"{here}, binning.")
         if not all(isinstance(levels, list) and levels and all(isinstance(v, str) for v in levels) for levels in classes):
             _refuse(f"{here}, binning.classes: every class must be a non-empty list of levels (text)")
-        levels = [level for group in classes for level in group]
+        levels = [level for levels_of_class in classes for level in levels_of_class]
         if len(set(levels)) != len(levels):
             _refuse(f"{here}, binning.classes: a level is in two classes")
         n_chain = len(classes)

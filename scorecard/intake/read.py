@@ -157,7 +157,7 @@ def _unreadable(path: Path, error: Exception) -> LedgerError:
     text = " ".join(str(error).split())
     fields = re.search(r"Expected (\d+) fields in line (\d+), saw (\d+)", text)
     if fields:
-        expected, line, saw = fields.groups()
+        expected, line, saw = fields[1], fields[2], fields[3]
         return LedgerError(f"{path.name}, row {line}: {saw} fields where the header names {expected}. A value may hold "
                            "the separator without quotes: quote it, or remove the extra field.")
     return LedgerError(f"{path.name}: cannot read the file ({type(error).__name__}: {text}). Check it opens and is not damaged.")
