@@ -20,7 +20,7 @@ from ..evidence import EvidenceTable, evidence_table
 from ..intake import Characteristic, Ledger, rows_in_memory
 from ..rows import BinCounts, InProcessRows, KeptCodes
 from ..settings import CharacteristicSettings, ProposalSettings, Settings
-from ..terms import BAD, DEVELOPMENT, GOOD, LEAKAGE_IV, SAMPLE_NAMES
+from ..terms import BAD, DEVELOPMENT, GOOD, LEAKAGE_IV, OUTCOME_NAMES, SAMPLE_NAMES
 from .best import Merging, coarse_classing
 from .bins import Binning
 from .fine import fine_classing
@@ -98,15 +98,15 @@ class ClassedLedger:
         return tuple(c.name for c in self.characteristics)
 
 
-def _check_both_outcomes(rows: InProcessRows, source: str) -> None:
+def _check_both_outcomes(ledger: Ledger) -> None:
     """Refuse a development sample without weighted goods or without weighted bads (WoE needs both)."""
-    development = rows.sample == DEVELOPMENT
-    for code, name in ((GOOD, "good"), (BAD, "bad")):
-        if not (rows.weight[development & (rows.outcome == code)] > 0).any():
+    development = ledger.sample_summary().loc[SAMPLE_NAMES[DEVELOPMENT]]
+    for name in (OUTCOME_NAMES[GOOD], OUTCOME_NAMES[BAD]):
+        if not development[name] > 0:
             raise LedgerError(
-                f"{source}: the development sample holds no {name} outcome with a positive weight, and a scorecard "
-                f"learns from goods and bads. Check the outcome mapping under [outcome] (which values are {name})"
-                " and the weights."
+                f"{ledger.source}: the development sample holds no {name} outcome with a positive weight, and a "
+                f"scorecard learns from goods and bads. Check the outcome mapping under [outcome] (which values are "
+                f"{name}) and the weights."
             )
 
 
@@ -140,7 +140,7 @@ def class_ledger(ledger: Ledger, settings: Settings, *, rows: InProcessRows | No
     alone: empty missing and special-value bins go, and unseen values join the unseen bin.
     """
     rows = rows_in_memory(ledger) if rows is None else rows
-    _check_both_outcomes(rows, ledger.source)
+    _check_both_outcomes(ledger)
     characteristics = ledger.characteristics
     proposed = [c for c in characteristics if not _is_fixed(settings, c.name)]
     fine_rows, fine_weights = rows.gather("classing", [c.name for c in proposed])
