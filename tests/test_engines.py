@@ -89,6 +89,16 @@ def test_duckdb_gives_the_model_file_of_the_in_process_engine(demo, in_process):
     _same(_document(query, _settings(engine="duckdb")), in_process, apart_from_the_source=True)
 
 
+def test_keys_found_by_their_buckets_give_the_same_samples(demo, monkeypatch):
+    # above DIRECT_KEYS rows, the edge of each class's hold-out (and of each sub-sample) is found by
+    # counting the keys per bucket of their top bits and reading one bucket: lowered here to reach it
+    import scorecard.intake.sql
+
+    monkeypatch.setattr(scorecard.intake.sql, "DIRECT_KEYS", 100)
+    settings = _settings(engine="duckdb").replace(selection={"sample_rows": 2_000})
+    _same(_document(demo["parquet"], settings), _document(demo["parquet"], settings.replace(ledger={"engine": "in-process"})))
+
+
 def test_spark_gives_the_model_file_of_the_in_process_engine(demo, in_process):
     _same(_document(demo["parquet"], _settings(engine="spark")), in_process)
 

@@ -408,8 +408,10 @@ def smallest_keys_conditions(engine, table: str, key: str, condition: str, strat
         stratum_of, keys = found.column("g").to_numpy(), found.column("k").to_numpy()
         read = {code: (np.sort(keys[stratum_of == code]), 0) for code in wanted}
     else:
+        # a number in GROUP BY would name a column by its place: with no stratum, the buckets alone are grouped
+        by = f"{stratum}, {shift}" if stratum else shift
         buckets = engine.arrow(f"SELECT {label} AS g, {shift} AS bucket, count(*) AS n FROM {table} WHERE {condition} "
-                               f"GROUP BY {label}, {shift}")
+                               f"GROUP BY {by}")
         stratum_of, bucket, n = (buckets.column(c).to_numpy() for c in ("g", "bucket", "n"))
         for code, (count, _) in wanted.items():
             mine = stratum_of == code
