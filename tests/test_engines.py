@@ -89,6 +89,14 @@ def test_duckdb_gives_the_model_file_of_the_in_process_engine(demo, in_process):
     _same(_document(query, _settings(engine="duckdb")), in_process, apart_from_the_source=True)
 
 
+def test_how_numbers_read_is_judged_on_every_row_through_an_engine(demo, in_process, monkeypatch):
+    # the engine judges kinds on its first rows (here 500), the lowest value and whole numbers on every row
+    import scorecard.intake.sql
+
+    monkeypatch.setattr(scorecard.intake.sql, "HEAD_ROWS", 500)
+    _same(_document(demo["parquet"], _settings(engine="duckdb")), in_process)
+
+
 def test_keys_found_by_their_buckets_give_the_same_samples(demo, monkeypatch):
     # above DIRECT_KEYS rows, the edge of each class's hold-out (and of each sub-sample) is found by
     # counting the keys per bucket of their top bits and reading one bucket: lowered here to reach it

@@ -53,6 +53,21 @@ def test_streamed_build_equals_the_build_in_memory(ledgers, kind, id_column):
     assert json.dumps(streamed, sort_keys=True) == json.dumps(whole, sort_keys=True)
 
 
+def test_how_numbers_read_is_judged_on_every_row_not_on_the_first(ledgers, monkeypatch):
+    # kinds and left-out columns are judged on the first rows of a streamed ledger (here 500 of
+    # them), but the lowest value and whole-numberness that the bin labels show come from every row
+    import scorecard.intake.prepare
+    import scorecard.intake.read
+
+    for module in (scorecard.intake.prepare, scorecard.intake.read):
+        monkeypatch.setattr(module, "HEAD_ROWS", 500)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        whole = model_document(build_scorecard(ledgers[1], _settings(), stream=False))
+        streamed = model_document(build_scorecard(ledgers[1], _settings(), stream=True))
+    assert json.dumps(streamed, sort_keys=True) == json.dumps(whole, sort_keys=True)
+
+
 def test_rows_of_equal_key_are_split_alike_in_memory_and_in_batches(ledgers, monkeypatch):
     # keys cut to 4 bits: every class's hold-out edge falls among hundreds of rows of equal key,
     # which are then ordered by their texts (the id's, then the whole row's)

@@ -6,6 +6,7 @@ reason; a text column that is numbers but for a few typed-in values is refused, 
 
 from __future__ import annotations
 
+import dataclasses
 import difflib
 import re
 from collections.abc import Sequence
@@ -98,11 +99,30 @@ def choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[s
 def _characteristic(name: str, kind: str, series: pd.Series, spec) -> Characteristic:
     """A numeric characteristic with its special values and how its ordinary values read (whole numbers, the lowest)."""
     codes = spec.special_codes
-    values = series.to_numpy(dtype=float, na_value=np.nan)
-    ordinary = values[~np.isnan(values) & ~np.isin(values, codes)]
-    whole = bool(ordinary.size) and bool(np.all(ordinary == np.floor(ordinary)))
-    lowest = float(ordinary.min()) if ordinary.size else None
-    return Characteristic(name, kind, codes, spec.special_meanings, whole, lowest)
+    reading = value_reading(series.to_numpy(dtype=float, na_value=np.nan), codes)
+    return with_reading(Characteristic(name, kind, codes, spec.special_meanings), reading)
+
+
+# how a numeric column's ordinary values (neither missing nor special) read: (how many, the lowest, how many not whole)
+Reading = tuple[int, float, int]
+
+
+def value_reading(values: np.ndarray, special_codes) -> Reading:
+    """Count the ordinary values of some rows, their lowest, and those that are not whole numbers (a part of a ledger will do)."""
+    ordinary = values[~np.isnan(values) & ~np.isin(values, special_codes)]
+    lowest = float(ordinary.min()) if ordinary.size else np.inf
+    return int(ordinary.size), lowest, int(np.count_nonzero(ordinary != np.floor(ordinary)))
+
+
+def added_readings(first: Reading, second: Reading) -> Reading:
+    """The reading of two parts of a ledger together."""
+    return first[0] + second[0], min(first[1], second[1]), first[2] + second[2]
+
+
+def with_reading(char: Characteristic, reading: Reading) -> Characteristic:
+    """The characteristic with ``whole_numbers`` and ``lowest`` from the reading of every row."""
+    count, lowest, fractional = reading
+    return dataclasses.replace(char, whole_numbers=count > 0 and fractional == 0, lowest=lowest if count else None)
 
 
 PROTECTED_REASON = "use = protected in the settings: never in the model, kept for the fairness checks"

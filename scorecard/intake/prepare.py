@@ -20,8 +20,8 @@ from ..errors import LedgerError, ScorecardWarning
 from ..rows import BATCH_READABLE, InProcessRows, RowPlace, reads_in_batches
 from ..rows.keys import split_keys
 from ..settings import Settings
-from ..terms import BAD, DEVELOPMENT, DUCKDB, GOOD, IN_PROCESS, OUT_OF_TIME, REJECTED, SPARK, UNKNOWN
-from .kinds import check_finite, choose_characteristics, role_columns
+from ..terms import BAD, DEVELOPMENT, DUCKDB, GOOD, IN_PROCESS, NUMERIC, OUT_OF_TIME, REJECTED, SPARK, UNKNOWN
+from .kinds import added_readings, check_finite, choose_characteristics, role_columns, value_reading, with_reading
 from .ledger import Fingerprint, Ledger, RejectedRows, fingerprint_of
 from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, ledger_columns, read_batches, read_head, read_ledger
 from .roles import check_roles, protected_columns, protected_levels, role_values, unit_weights
@@ -230,7 +230,10 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
     drawn = require_outcome and needs_keys(len(head) if len(head) < HEAD_ROWS else None, settings)
     keyed = key_columns(head.columns, settings) if drawn else []
     protected_names = protected_columns(settings, head.columns)
-    first_pass = list(dict.fromkeys([*role_names, *keyed, *protected_names])) or list(head.columns[:1])
+    # how every numeric characteristic's values read (whole numbers, the lowest) is judged on every row, as in memory
+    numeric = [c for c in characteristics if c.kind == NUMERIC] if require_outcome else []
+    first_pass = list(dict.fromkeys([*role_names, *keyed, *protected_names, *(c.name for c in numeric)])) \
+        or list(head.columns[:1])
 
     def batches(columns: Sequence[str]):
         read = [c for c in characteristics if c.name in columns]
@@ -238,9 +241,14 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
             check_finite(frame, read, source_name, first_row=first_row)
             yield first_row, frame
 
-    parts = [(*role_values(frame, settings, source_name, first_row=first_row),
-              split_keys(frame, keyed, settings.samples.seed) if drawn else None, frame[protected_names])
-             for first_row, frame in file_batches(path, suffix, first_pass, types, batch_rows)]
+    parts, readings = [], {c.name: (0, np.inf, 0) for c in numeric}
+    for first_row, frame in file_batches(path, suffix, first_pass, types, batch_rows):
+        parts.append((*role_values(frame, settings, source_name, first_row=first_row),
+                      split_keys(frame, keyed, settings.samples.seed) if drawn else None, frame[protected_names]))
+        for char in numeric:
+            values = frame[char.name].to_numpy(dtype=float, na_value=np.nan)
+            readings[char.name] = added_readings(readings[char.name], value_reading(values, char.special_values))
+    characteristics = [with_reading(c, readings[c.name]) if c.name in readings else c for c in characteristics]
     protected_values = pd.concat([p[4] for p in parts], ignore_index=True) if protected_names else None
     protected = {name: protected_levels(protected_values[name]) for name in protected_names}
     outcome = np.concatenate([p[0] for p in parts])

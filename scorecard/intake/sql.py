@@ -32,7 +32,7 @@ from ..settings import Settings
 from ..terms import (
     BAD, DEVELOPMENT, DUCKDB, GOOD, HOLDOUT, NUMERIC, OUT_OF_TIME, OUTCOME_NAMES, REJECTED, SAMPLE_NAMES, UNKNOWN,
 )
-from .kinds import choose_characteristics, role_columns
+from .kinds import choose_characteristics, role_columns, with_reading
 from .ledger import Fingerprint, Ledger, fingerprint_of, summary_frame
 from .read import EMPTY_WORDS, FALSE_WORDS, HEAD_ROWS, TRUE_WORDS, arrow_types, check_column_names
 from .roles import check_both_classes, no_outcome_note, outcome_key, outcome_mapping, unmapped_outcome_message
@@ -126,7 +126,11 @@ def _checked(engine, place: RowPlace, settings: Settings, require_outcome: bool)
     weight = f"try_cast({dialect.identifier(weight_column)} AS DOUBLE)" if weight_column else "CAST(1.0 AS DOUBLE)"
     day = _day(dialect, date_column, types) if date_column and date_column in types else "CAST(NULL AS DATE)"
     numeric = [c.name for c in characteristics if c.kind == NUMERIC]
-    found = _check_counts(engine, numeric, weight, day, date_column if date_column in types else "")
+    found = _check_counts(engine, [c for c in characteristics if c.kind == NUMERIC], weight, day,
+                          date_column if date_column in types else "")
+    characteristics = [with_reading(c, (found[f"count{numeric.index(c.name)}"], found[f"low{numeric.index(c.name)}"],
+                                        found[f"fraction{numeric.index(c.name)}"])) if c.name in numeric else c
+                       for c in characteristics]
     ids = _ids_of(engine, settings.ledger.id_column if settings.ledger.id_column in types else "")
     for position, char_name in enumerate(numeric):
         if found[f"inf{position}"]:
@@ -203,8 +207,9 @@ def _outcome_code(engine, settings: Settings, column: str, types, name: str, req
     return f"CAST(CASE WHEN {missing} THEN {UNKNOWN} {cases} ELSE {UNKNOWN} END AS TINYINT)"
 
 
-def _check_counts(engine, numeric: list[str], weight: str, day: str, date_column: str) -> dict[str, int]:
-    """One pass counting every row that breaks a check: infinite values, weights that are not numbers, dates that are not dates."""
+def _check_counts(engine, numeric, weight: str, day: str, date_column: str) -> dict[str, int]:
+    """One pass counting every row that breaks a check (infinite values, weights that are not numbers, dates that are
+    not dates), and how each numeric characteristic's ordinary values read (how many, the lowest, how many not whole)."""
     dialect = engine.dialect
     raw = dialect.identifier(date_column) if date_column else "NULL"
     parts = ["count(*) AS n", f"sum(CASE WHEN {weight} IS NULL OR isnan({weight}) THEN 1 ELSE 0 END) AS weight_missing",
@@ -212,10 +217,17 @@ def _check_counts(engine, numeric: list[str], weight: str, day: str, date_column
              f"sum(CASE WHEN {weight} < 0 THEN 1 ELSE 0 END) AS weight_negative",
              f"sum(CASE WHEN {day} IS NULL AND {raw} IS NOT NULL THEN 1 ELSE 0 END) AS unreadable_dates",
              f"sum(CASE WHEN {day} IS NULL THEN 1 ELSE 0 END) AS undated"]
-    parts += [f"sum(CASE WHEN {dialect.is_infinite(f'CAST({dialect.identifier(c)} AS DOUBLE)')} THEN 1 ELSE 0 END) AS inf{j}"
-              for j, c in enumerate(numeric)]
+    for j, char in enumerate(numeric):
+        x = f"CAST({dialect.identifier(char.name)} AS DOUBLE)"
+        specials = "".join(f" AND {x} <> {dialect.double(v)}" for v in char.special_values)
+        ordinary = f"{x} IS NOT NULL AND NOT isnan({x}){specials}"
+        parts += [f"sum(CASE WHEN {dialect.is_infinite(x)} THEN 1 ELSE 0 END) AS inf{j}",
+                  f"sum(CASE WHEN {ordinary} THEN 1 ELSE 0 END) AS count{j}",
+                  f"min(CASE WHEN {ordinary} THEN {x} END) AS low{j}",
+                  f"sum(CASE WHEN {ordinary} AND round({x}) <> {x} THEN 1 ELSE 0 END) AS fraction{j}"]
     row = engine.arrow(f"SELECT {', '.join(parts)} FROM {TYPED}").to_pylist()[0]
-    return {key: int(value or 0) for key, value in row.items()}
+    return {key: (float(value) if value is not None else float("inf")) if key.startswith("low") else int(value or 0)
+            for key, value in row.items()}
 
 
 def _ids_of(engine, id_column: str):
