@@ -12,7 +12,7 @@ import numpy as np
 from scipy import special
 
 from ..errors import FitError
-from .problem import Parts, Problem, SingularInformation, blocks, solve_symmetric, weighted_gram
+from .problem import Parts, Problem, SingularInformation, blocks, gram, solve_symmetric, weighted_gram
 
 
 # A separating direction puts rows at least 1 onto their side (in max-abs-scaled units); it may
@@ -89,8 +89,11 @@ def _distinct_rows(design: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 def raise_if_dependent(problem: Problem, names: tuple[str, ...]) -> None:
     """Raise FitError naming the columns that take part in an exact linear dependence."""
     carries_weight = problem.weights > 0
+    products = weighted_gram(problem, carries_weight.astype(float))
+    if _clearly_full_rank_gram(products):
+        return  # the common case, from one pass over the rows and a p×p eigen-decomposition
     if isinstance(problem.design, Parts):
-        norms, null_space = _null_space_of_gram(weighted_gram(problem, carries_weight.astype(float)), problem.design.shape)
+        norms, null_space = _null_space_of_gram(products, problem.design.shape)
         first = next(design[carries_weight[rows]][0] for rows, design in blocks(problem.design) if carries_weight[rows].any())
     else:
         design = problem.design[carries_weight]
@@ -134,15 +137,24 @@ def _null_space_of_gram(gram: np.ndarray, shape: tuple[int, int]) -> tuple[np.nd
 
 
 def _clearly_full_rank(unit: np.ndarray) -> bool:
-    """Whether the unit-norm columns are far from any dependence, judged from their small Gram matrix.
-
-    The Gram matrix costs one pass over the rows and a p×p eigen-decomposition, against an SVD of
-    the whole design; its smallest eigenvalue is the squared smallest singular value. Only when
-    that is not clearly away from zero does the exact SVD decide.
-    """
+    """Whether the unit-norm columns are far from any dependence, judged from their small Gram matrix."""
     if unit.shape[0] < unit.shape[1] or unit.shape[1] == 0:
         return False
-    eigenvalues = np.linalg.eigvalsh(unit.T @ unit)
+    return _clearly_full_rank_gram(unit.T @ unit)
+
+
+def _clearly_full_rank_gram(gram: np.ndarray) -> bool:
+    """Whether the columns whose Gram matrix X'X this is are far from any dependence.
+
+    The Gram matrix costs one pass over the rows and a p×p eigen-decomposition, against an SVD of
+    the whole design; scaled to unit diagonal (unit-norm columns), its smallest eigenvalue is the
+    squared smallest singular value. Only when that is not clearly away from zero does the exact
+    SVD decide.
+    """
+    norms = np.sqrt(np.clip(np.diag(gram), 0.0, None))
+    if gram.shape[0] == 0 or not np.all(norms > 0):
+        return False
+    eigenvalues = np.linalg.eigvalsh(gram / np.outer(norms, norms))
     # a singular value ratio above 1e-5 (eigenvalue ratio 1e-10) is far above the SVD's rank tolerance
     return bool(eigenvalues[0] > CLEARLY_FULL_RANK * eigenvalues[-1])
 
@@ -217,13 +229,13 @@ def overlap_proved(problem: Problem, beta: np.ndarray) -> bool:
         if np.any(np.abs(residual[one_sided]) < _FIRM_PROBABILITY * (goods + bads)[one_sided]):
             return False
         spread = np.where(one_sided, np.abs(residual), (goods + bads) * special.expit(eta) * special.expit(-eta))
-        matrix += (design * spread[:, None]).T @ design
+        matrix += gram(design, spread)
         right += design.T @ residual
     try:
         direction = solve_symmetric(matrix, right, problem, beta)
     except SingularInformation:
         return False
-    return all(np.max(np.abs(design[(goods == 0) | (bads == 0)] @ direction), initial=0.0) < 0.5
+    return all(np.max(np.abs((design @ direction)[(goods == 0) | (bads == 0)]), initial=0.0) < 0.5
                for design, goods, bads in _carried(problem))
 
 
@@ -231,7 +243,10 @@ def _carried(problem: Problem):
     """Yield the design, goods and bads of the rows that carry weight, block by block."""
     for rows, design in blocks(problem.design):
         carries_weight = problem.weights[rows] > 0
-        yield design[carries_weight], problem.goods[rows][carries_weight], problem.bads[rows][carries_weight]
+        if carries_weight.all():  # a pattern table's rows always do: no copy
+            yield design, problem.goods[rows], problem.bads[rows]
+        else:
+            yield design[carries_weight], problem.goods[rows][carries_weight], problem.bads[rows][carries_weight]
 
 
 def raise_if_separated(patterns: Patterns, names: tuple[str, ...], *, intercept: bool) -> None:

@@ -17,7 +17,7 @@ def checked_features(features, names) -> tuple[np.ndarray, tuple[str, ...]]:
     if names is None and isinstance(features, pd.DataFrame):
         names = [str(column) for column in features.columns]
     try:
-        array = np.array(features, dtype=float)
+        array = np.asarray(features, dtype=float)  # read only: the design is made from it, never written into it
     except (TypeError, ValueError) as error:
         raise FitError(f"features cannot be read as numbers ({error}). Code every characteristic as numbers first.") from None
     if array.ndim != 2:

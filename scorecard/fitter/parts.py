@@ -16,7 +16,7 @@ import numpy as np
 from ..errors import FitError, ScorecardWarning
 from .guards import raise_if_dependent
 from .inputs import check_names, checked_counts, checked_start
-from .problem import Parts, make_problem, no_standardisation
+from .problem import Parts, design_matrix, make_problem, no_standardisation
 from .result import INTERCEPT_NAME, FitResult
 from .solvers import DEFAULT_MAX_ITERATIONS, StoppingRule, fit_problem, not_converged_message
 
@@ -70,7 +70,7 @@ def fit_logistic_by_parts(design_part, goods, bads, *, names, start=None, part_r
         raise FitError(f"part_rows = {part_rows!r}: give a whole number >= 1.")
 
     def make(rows: slice) -> np.ndarray:
-        return np.column_stack([np.ones(rows.stop - rows.start), design_part(rows)])
+        return design_matrix(np.asarray(design_part(rows), dtype=float), True)
 
     problem = make_problem(Parts(make, len(goods), len(all_names), part_rows), goods, bads, l2=0.0, intercept=True)
     start = None if start is None else checked_start(start, all_names)

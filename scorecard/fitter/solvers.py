@@ -17,8 +17,8 @@ from scipy import linalg, special
 from ..errors import FitError
 from .guards import numerically_singular_message, overlap_proved, patterns, raise_if_separated
 from .problem import (
-    Problem, SingularInformation, Standardisation, cost, cost_change, cost_gradient, cost_hessian, solve_symmetric,
-    standardisation_of, standardised, weighted_gram,
+    Problem, SingularInformation, Standardisation, cost, cost_change, cost_gradient, cost_gradient_and_hessian,
+    cost_hessian, solve_symmetric, standardisation_of, standardised, weighted_gram,
 )
 from .result import FitResult
 
@@ -77,24 +77,27 @@ class Path:
     iterations: int
     converged: bool
     cost_trace: tuple[float, ...]
+    curvature: np.ndarray | None = None  # the cost's curvature at the coefficients, when the solver has it
 
 
 def _newton(problem: Problem, rule: StoppingRule, start: np.ndarray) -> Path:
     """Newton–Raphson with step-halving."""
     beta = start
     trace, decrease = [cost(problem, beta)], np.inf
-    current_gradient = cost_gradient(problem, beta)
+    # the gradient and the curvature come from one evaluation at each point; the curvature at the
+    # last point is the result's covariance, so it is never computed twice
+    current_gradient, curvature = cost_gradient_and_hessian(problem, beta)
     while not rule.met(decrease, current_gradient) and len(trace) <= rule.max_iterations:
-        step = -solve_symmetric(cost_hessian(problem, beta), current_gradient, problem, beta)
+        step = -solve_symmetric(curvature, current_gradient, problem, beta)
         accepted = _halved_step(problem, beta, step)
         if accepted is None:
             # No fraction of the step lowers the cost: only the gradient can still tell.
             decrease = 0.0
             break
         beta, decrease = accepted[0], -accepted[1]
-        current_gradient = cost_gradient(problem, beta)
+        current_gradient, curvature = cost_gradient_and_hessian(problem, beta)
         trace.append(trace[-1] - decrease)
-    return Path(beta, len(trace) - 1, rule.met(decrease, current_gradient), tuple(trace))
+    return Path(beta, len(trace) - 1, rule.met(decrease, current_gradient), tuple(trace), curvature)
 
 
 def _halved_step(problem: Problem, beta: np.ndarray, step: np.ndarray):
@@ -173,7 +176,8 @@ def fit_result(standard: Problem, standardisation: Standardisation, theta: np.nd
             *, solver: str, l2: float) -> FitResult:
     """Estimates and covariance carried from the standardised coordinates θ to the original b = T·θ."""
     transform = standardisation.matrix()
-    information = cost_hessian(standard, theta) * standard.total_weight
+    curvature = cost_hessian(standard, theta) if path.curvature is None else path.curvature
+    information = curvature * standard.total_weight
     covariance = transform @ solve_symmetric(information, np.eye(theta.size), standard, theta) @ transform.T
     covariance = (covariance + covariance.T) / 2
     beta = standardisation.to_original(theta)
