@@ -22,7 +22,7 @@ import pandas as pd
 from scipy import special
 
 from .errors import FitError, ScorecardWarning
-from .fitter import INTERCEPT_NAME, FitResult, fit_logistic, fit_logistic_by_parts, fit_logistic_by_sums
+from .fitter import FitResult, NestedFits, fit_logistic, fit_logistic_by_parts, fit_logistic_by_sums
 from .rows import MERGE_LIMIT, PatternTable
 from .settings import FitSettings, SelectionSettings
 
@@ -148,7 +148,8 @@ def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[fl
     for name in forced:
         log.append(Decision("forced", name, "forced in", "use = always in the settings"))
     screened = _screen(candidates, iv, forced, selection, log)
-    candidates = _decorrelate(screened, iv, forced, design, selection, log)
+    correlations = design.correlation(screened)  # before decorrelation, so the pairs left out show
+    candidates = _decorrelate(screened, iv, forced, correlations, selection, log)
     chosen = _stepwise(candidates, forced, design, selection, log)
     if callable(final_patterns):
         final_patterns = final_patterns(chosen) if chosen else patterns
@@ -156,17 +157,21 @@ def select_characteristics(patterns: PatternTable, woe: Mapping[str, Sequence[fl
     final = _WoeDesign(patterns if final_patterns is None else final_patterns, woe, fit, guard=True)
     chosen, result = _remove_reversals(chosen, forced, final, log)
     tests = _screen_tests(design, chosen, [name for name in patterns.characteristics if name not in forced], iv, selection, log)
-    correlations = design.correlation(screened)  # before decorrelation, so the pairs left out show
-    return SelectionResult(tuple(chosen), result, tuple(log), correlations, variance_inflation(design.correlation(chosen)),
-                           tests)
+    # every characteristic chosen passed the screen, so its correlations are among the screened ones'
+    return SelectionResult(tuple(chosen), result, tuple(log), correlations,
+                           variance_inflation(correlations.loc[list(chosen), list(chosen)]), tests)
 
 
 class _WoeDesign:
     """WoE-coded columns of the pattern table, and fits on subsets of them.
 
-    A fit on a few characteristics runs on the pattern table of just those (their distinct bin
-    combinations, counts added), which has the same likelihood and is far smaller; each fit
-    starts from the coefficients of the last fit that shares characteristics with it.
+    The search's trial fits (``guard=False``) run on ``fitter.NestedFits`` over the WoE columns
+    of every pattern, held in memory once: each fit starts from the last one's estimate, and the
+    one cross-product made at each point serves its Newton step, its covariance and the score
+    tests of the characteristics outside. A final fit (``guard=True``) is ``fit_logistic``, from
+    the intercept alone (so that its cost trace shows the whole descent), to full tolerance and
+    with its guards, on the pattern table of just its characteristics (their distinct bin
+    combinations, counts added: the same likelihood, and far smaller when they are few).
     """
 
     def __init__(self, patterns: PatternTable, woe: Mapping[str, Sequence[float]], fit: FitSettings, *,
@@ -174,11 +179,11 @@ class _WoeDesign:
         self.patterns = patterns
         self.woe = {name: np.asarray(woe[name], float) for name in patterns.characteristics}
         self.fit_settings = fit
-        self.last: dict[str, float] = {}
         self.fits: dict[tuple[str, ...], FitResult] = {}
         self.position = {name: j for j, name in enumerate(patterns.characteristics)}
         self.guard = guard  # trial fits skip the separation and dependence checks; the final fit runs them
         self._full: np.ndarray | None = None
+        self._search: NestedFits | None = None
 
     @property
     def weights(self) -> np.ndarray:
@@ -191,6 +196,14 @@ class _WoeDesign:
         if self._full is None:
             self._full = self.matrix(self.patterns.characteristics, self.patterns)
         return self._full
+
+    @property
+    def search(self) -> NestedFits:
+        """The trial fits and score tests of the search, on every characteristic's WoE column."""
+        if self._search is None:
+            self._search = NestedFits(self.full, self.patterns.goods, self.patterns.bads, names=self.patterns.characteristics,
+                                      l2=self.fit_settings.l2, max_iterations=self.fit_settings.max_iterations or None)
+        return self._search
 
     def matrix(self, names: Sequence[str], patterns: PatternTable | None = None, rows: slice = slice(None)) -> np.ndarray:
         """WoE columns of ``names``; columns stored one after another, so each is written and read in one sweep."""
@@ -205,40 +218,27 @@ class _WoeDesign:
     def fit(self, names: Sequence[str]) -> FitResult:
         key = tuple(names)
         if key not in self.fits:
-            settings = self.fit_settings
-            table = self.patterns.subset(names) if len(names) < len(self.patterns.characteristics) else self.patterns
-            warm = self.last and not self.guard  # trial fits start from the last one; final fits from the intercept alone
-            start = [self.last.get(INTERCEPT_NAME, 0.0), *(self.last.get(name, 0.0) for name in names)] if warm else None
             with warnings.catch_warnings():
                 if not self.guard:  # a trial fit that does not converge is only ranked, not reported
                     warnings.simplefilter("ignore", ScorecardWarning)
-                if hasattr(table, "sums"):  # a table kept by the engine: each Newton step is one pass there
-                    result = _fit_in_engine(table, names, self.woe, settings)
-                # a table kept as rows (above MERGE_LIMIT) is fitted a part at a time, so that no design
-                # matrix of all of them is ever held (the Newton steps cost the same either way)
-                elif table.n_patterns > MERGE_LIMIT and settings.solver == "newton" and settings.l2 == 0:
-                    result = fit_logistic_by_parts(lambda rows: self.matrix(names, table, rows), table.goods, table.bads,
-                                                   names=list(names), start=start, max_iterations=settings.max_iterations or None,
-                                                   guard=self.guard)
-                else:
-                    result = fit_logistic(self.matrix(names, table), table.goods, table.bads, names=list(names), start=start,
-                                          solver=settings.solver, l2=settings.l2,
-                                          max_iterations=settings.max_iterations or None, guard=self.guard)
-            self.last = dict(zip(result.names, result.coefficients))
-            self.fits[key] = result
+                self.fits[key] = self._final_fit(names) if self.guard else self.search.fit(names)
         return self.fits[key]
+
+    def _final_fit(self, names: Sequence[str]) -> FitResult:
+        settings = self.fit_settings
+        table = self.patterns.subset(names) if len(names) < len(self.patterns.characteristics) else self.patterns
+        if hasattr(table, "sums"):  # a table kept by the engine: each Newton step is one pass there
+            return _fit_in_engine(table, names, self.woe, settings)
+        # a table kept as rows (above MERGE_LIMIT) is fitted a part at a time, so that no design
+        # matrix of all of them is ever held (the Newton steps cost the same either way)
+        if table.n_patterns > MERGE_LIMIT and settings.solver == "newton" and settings.l2 == 0:
+            return fit_logistic_by_parts(lambda rows: self.matrix(names, table, rows), table.goods, table.bads,
+                                         names=list(names), max_iterations=settings.max_iterations or None)
+        return fit_logistic(self.matrix(names, table), table.goods, table.bads, names=list(names), solver=settings.solver,
+                            l2=settings.l2, max_iterations=settings.max_iterations or None)
 
     def correlation(self, names: Sequence[str]) -> pd.DataFrame:
         return pd.DataFrame(weighted_correlation(self.matrix(names), self.weights), index=list(names), columns=list(names))
-
-    def good_probability(self, fit: FitResult | None) -> np.ndarray:
-        if fit is None:  # intercept only: every pattern at the overall good rate
-            share = self.patterns.goods.sum() / self.weights.sum()
-            return np.full(self.patterns.n_patterns, share)
-        log_odds = np.full(self.patterns.n_patterns, fit.coefficients[0])
-        for name, coefficient in zip(fit.names[1:], fit.coefficients[1:]):
-            log_odds += (coefficient * self.woe[name])[self.patterns.column(name)]  # a look-up per bin, not per row
-        return special.expit(log_odds)
 
 
 def _fit_in_engine(table, names: Sequence[str], woe: Mapping[str, np.ndarray], settings: FitSettings) -> FitResult:
@@ -296,19 +296,9 @@ def score_parts(design: _WoeDesign, fit: FitResult | None, candidates: Sequence[
     """Return the score U and its variance V of adding each candidate to the fitted model (see ``score_statistics``).
 
     The sign of U is the sign the candidate's coefficient would take: a negative U on a WoE column
-    is a reversal.
+    is a reversal. Made from the cross-product at the model's estimate, widened to the candidates.
     """
-    good = design.good_probability(fit)
-    n = design.weights
-    residual = design.patterns.goods - n * good
-    w = n * good * (1 - good)
-    current = np.column_stack([np.ones(len(n)), design.matrix(list(fit.names[1:]) if fit else [])])
-    z = design.matrix(candidates)
-    information = current.T @ (current * w[:, None])
-    cross = current.T @ (z * w[:, None])
-    explained = np.einsum("ij,ij->j", cross, np.linalg.solve(information, cross))
-    variance = np.einsum("ij,ij->j", z * w[:, None], z) - explained
-    return z.T @ residual, variance
+    return design.search.score_parts(fit, candidates)
 
 
 def _chi_square(score: np.ndarray, variance: np.ndarray) -> np.ndarray:
@@ -368,9 +358,8 @@ def _screen_tests(design: _WoeDesign, chosen, candidates, iv, selection: Selecti
     return tuple(tests)
 
 
-def _decorrelate(candidates, iv, forced, design: _WoeDesign, selection: SelectionSettings, log) -> list[str]:
+def _decorrelate(candidates, iv, forced, correlation: pd.DataFrame, selection: SelectionSettings, log) -> list[str]:
     """Walk the candidates by IV, strongest first; leave out any too correlated with one already kept."""
-    correlation = design.correlation(candidates)
     kept: list[str] = []
     for name in sorted(candidates, key=lambda c: (c not in forced, -iv[c])):
         partners = [(other, correlation.loc[name, other]) for other in kept if abs(correlation.loc[name, other]) > selection.max_correlation]

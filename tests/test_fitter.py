@@ -634,3 +634,81 @@ def test_fit_by_sums_names_dependent_columns():
     with pytest.raises(FitError, match="'a', 'twice_a' depend on each other"):
         fit_logistic_by_sums(_sums_of(features, goods, 1 - goods, []), names=["a", "twice_a", "c"], goods=goods.sum(),
                              bads=(1 - goods).sum(), spread=np.ones(3))
+
+
+# ---------------------------------------------------------------------------------------------
+# Nested fits: the trial fits of a stepwise search and the score tests between them
+
+# A trial fit stops when its next Newton step would move no coefficient by more than 1e-6 of its
+# standard error (nested.RANKING_TOLERANCE): the estimate is that close to the full fit's.
+NESTED_SE_ATOL = 1e-6
+NESTED_RTOL = 1e-7  # standard errors and the log-likelihood at estimates that close (measured: 1e-8)
+
+
+def _nested_data(seed=31, n_rows=6_000):
+    rng = np.random.default_rng(seed)
+    features = rng.normal(size=(n_rows, 4)) * [1.0, 0.5, 2.0, 1.0]
+    features[:, 3] = 0.6 * features[:, 0] + rng.normal(size=n_rows)  # correlated with the first
+    eta = 0.9 + features @ np.array([0.8, -0.6, 0.2, 0.0])
+    weight = rng.integers(1, 4, n_rows).astype(float)
+    good = rng.random(n_rows) < special.expit(eta)
+    return np.asfortranarray(features), np.where(good, weight, 0.0), np.where(good, 0.0, weight)
+
+
+@pytest.mark.parametrize("l2", [0.0, 5.0])
+def test_nested_fits_give_the_estimates_of_fit_logistic(l2):
+    # reference: fit_logistic (checked against ISLR and statsmodels above) on the same columns
+    from scorecard.fitter import NestedFits
+
+    features, goods, bads = _nested_data()
+    names = ["a", "b", "c", "d"]
+    nested = NestedFits(features, goods, bads, names=names, l2=l2)
+    for chosen in (["a"], ["a", "c"], ["a", "c", "b"], ["c", "b"], ["a", "b", "c", "d"]):  # in, in, in, out, in
+        ours = nested.fit(chosen)
+        reference = fit_logistic(features[:, [names.index(n) for n in chosen]], goods, bads, names=chosen, l2=l2)
+        assert ours.names == reference.names and ours.converged
+        assert np.max(np.abs(ours.coefficients - reference.coefficients) / reference.std_errors) < NESTED_SE_ATOL
+        np.testing.assert_allclose(ours.std_errors, reference.std_errors, rtol=NESTED_RTOL)
+        assert ours.log_likelihood == pytest.approx(reference.log_likelihood, rel=NESTED_RTOL)
+        assert ours.bic == pytest.approx(reference.bic, rel=NESTED_RTOL)
+
+
+def test_nested_score_tests_equal_statsmodels():
+    # reference: statsmodels GLM (binomial) score_test of adding each column to the fitted model, on rows of weight 1
+    from scorecard.fitter import NestedFits
+
+    features, goods, bads = _nested_data(seed=32, n_rows=3_000)
+    goods, bads = (goods > 0).astype(float), (bads > 0).astype(float)
+    names = ["a", "b", "c", "d"]
+    nested = NestedFits(features, goods, bads, names=names)
+    for fit, inside in ((None, []), (nested.fit(["a"]), [0]), (nested.fit(["a", "c"]), [0, 2])):
+        outside = [j for j in range(4) if j not in inside]
+        score, variance = nested.score_parts(fit, [names[j] for j in outside])
+        exog = sm.add_constant(features[:, inside]) if inside else np.ones((len(goods), 1))
+        reference = sm.GLM(goods, exog, family=sm.families.Binomial()).fit(tol=1e-12)
+        for position, column in enumerate(outside):
+            expected = float(np.squeeze(reference.score_test(exog_extra=features[:, [column]])[0]))
+            assert score[position] ** 2 / variance[position] == pytest.approx(expected, rel=NESTED_RTOL)
+
+
+def test_a_nested_fit_after_score_tests_is_the_fit_without_them():
+    # the score tests' cross-product is the next fit's first step: it must change nothing but the work
+    from scorecard.fitter import NestedFits
+
+    features, goods, bads = _nested_data(seed=33)
+    names = ["a", "b", "c", "d"]
+    plain, tested = NestedFits(features, goods, bads, names=names), NestedFits(features, goods, bads, names=names)
+    plain.fit(["a"])
+    tested.score_parts(tested.fit(["a"]), ["b", "c", "d"])
+    after_tests, without = tested.fit(["a", "c"]), plain.fit(["a", "c"])
+    assert np.max(np.abs(after_tests.coefficients - without.coefficients) / without.std_errors) < NESTED_SE_ATOL
+
+
+def test_nested_fit_of_dependent_columns_names_them():
+    from scorecard.fitter import NestedFits
+
+    features, goods, bads = _nested_data(seed=34)
+    features = np.asfortranarray(np.column_stack([features, 2 * features[:, 1]]))
+    nested = NestedFits(features, goods, bads, names=["a", "b", "c", "d", "twice_b"])
+    with pytest.raises(FitError, match="numerically singular.*'b'.*'twice_b'"):
+        nested.fit(["a", "b", "twice_b"])

@@ -7,17 +7,19 @@
 - ``inputs``: the checks at entry;
 - ``fit``: ``fit_logistic``, the entry;
 - ``parts``: ``fit_logistic_by_parts``, for a table too large to hold as one design matrix;
-- ``sums``: ``fit_logistic_by_sums``, for a table an engine keeps: each Newton step one pass of sums there.
+- ``sums``: ``fit_logistic_by_sums``, for a table an engine keeps: each Newton step one pass of sums there;
+- ``nested``: ``NestedFits``, the trial fits of a stepwise search and the score tests between them.
 """
 
 from .fit import fit_logistic
 from .parts import PART_ROWS, fit_logistic_by_parts
 from .problem import gradient, information_matrix, log_likelihood
 from .inputs import SOLVERS
+from .nested import NestedFits
 from .result import INTERCEPT_NAME, FitResult
 from .sums import Sums, fit_logistic_by_sums
 
 __all__ = [
-    "INTERCEPT_NAME", "PART_ROWS", "SOLVERS", "FitResult", "Sums", "fit_logistic", "fit_logistic_by_parts",
-    "fit_logistic_by_sums", "gradient", "information_matrix", "log_likelihood",
+    "INTERCEPT_NAME", "PART_ROWS", "SOLVERS", "FitResult", "NestedFits", "Sums", "fit_logistic",
+    "fit_logistic_by_parts", "fit_logistic_by_sums", "gradient", "information_matrix", "log_likelihood",
 ]
