@@ -43,6 +43,33 @@ def test_numeric_codes_equal_pandas_cut_with_the_same_edges(cuts, values):
     np.testing.assert_array_equal(codes, np.asarray(expected, dtype=int))
 
 
+@given(
+    cuts=st.lists(st.floats(-1e6, 1e6, allow_nan=False), min_size=1, max_size=12, unique=True).map(sorted),
+    values=st.lists(st.integers(-2_000_000, 2_000_000), min_size=1, max_size=60),
+    dtype=st.sampled_from(["int64", "int32"]),
+    special=st.sampled_from([-1.0, 999.0, 2.5]),
+)
+@HYPOTHESIS
+def test_whole_numbers_are_coded_in_their_own_dtype_as_the_same_values_read_as_floats(cuts, values, dtype, special):
+    # a column of whole numbers is compared with the cuts as integers (x >= c exactly when x >= ceil(c));
+    # the reference is the column read as floats, as a ledger read in batches reads it
+    values = [v if v % 7 else int(special) for v in values]
+    binning = numeric_binning("x", cuts, special_values=[special], has_missing=False)
+    whole = code_rows(pd.Series(np.array(values, dtype=dtype)), binning)
+    floats = code_rows(pd.Series(np.array(values, dtype=float)), binning)
+    expected = np.asarray(pd.cut(values, [-np.inf, *cuts, np.inf], right=False, labels=False), dtype=int)
+    expected[np.array(values, dtype=float) == special] = binning.special_bins[0]
+    np.testing.assert_array_equal(whole, expected)
+    np.testing.assert_array_equal(floats, expected)
+    assert whole.dtype == np.uint8
+
+
+def test_whole_numbers_beyond_two_to_the_53_are_coded_as_the_doubles_they_read_as():
+    # 2**54 - 1 reads as the double 2**54: coded as a float column would code it, so streamed and in-memory reads agree
+    binning = numeric_binning("x", [2.0**54], has_missing=False)
+    np.testing.assert_array_equal(code_rows(pd.Series(np.array([2**54 - 1, 5], dtype=np.int64)), binning), [1, 0])
+
+
 def test_missing_and_special_values_go_to_their_own_bins():
     binning = numeric_binning("months", [6, 12], special_values=[-1, 999], special_meanings=["no record"])
     # a special value reads as its meaning, never as a bare code; one without a meaning says so

@@ -42,18 +42,28 @@ def code_rows(values: pd.Series | np.ndarray, binning: Binning, *, unseen_code: 
 
     Notes
     -----
-    Numeric: ``searchsorted(cuts, x, side='right')`` puts x in ``[cuts[i-1], cuts[i])``, the same
-    intervals as ``pandas.cut(x, [-inf, *cuts, inf], right=False)``.
+    Numeric: x goes to ``[cuts[i-1], cuts[i])``, the same intervals as ``searchsorted(cuts, x,
+    side='right')`` and ``pandas.cut(x, [-inf, *cuts, inf], right=False)``: its bin is the number
+    of cuts at or below it, counted with one comparison per cut in the column's own dtype (a few
+    passes over the column, several times faster than a binary search per value).
     """
     unseen = binning.unseen_bin if unseen_code is None else unseen_code
     dtype = np.uint8 if max(binning.n_bins, unseen + 1) <= 255 else np.uint16
     missing = unseen if binning.missing_bin < 0 else binning.missing_bin
     if binning.kind == NUMERIC:
-        x = as_float(values)
-        codes = np.searchsorted(np.asarray(binning.cuts, dtype=float), x, side="right").astype(dtype)
+        x, whole = _numbers(values, binning)
+        cuts = np.asarray(binning.cuts, dtype=float)
+        codes = np.zeros(len(x), dtype=dtype)
+        above = np.empty(len(x), dtype=bool)
+        for cut in (np.ceil(cuts).astype(np.int64) if whole else cuts).tolist():  # whole x: x >= c exactly when x >= ceil(c)
+            np.greater_equal(x, cut, out=above)
+            np.add(codes, above, out=codes, casting="unsafe")
         for value, target in zip(binning.special_values, binning.special_bins):
-            codes[x == value] = unseen if target < 0 else target
-        codes[np.isnan(x)] = missing
+            if whole and not float(value).is_integer():
+                continue  # a whole number never equals it
+            np.putmask(codes, x == (int(value) if whole else value), unseen if target < 0 else target)
+        if not whole:
+            np.putmask(codes, np.isnan(x), missing)
         return codes
     level_codes, uniques = factorize_levels(values)
     known = {level: bin_ for bin_, levels in enumerate(binning.classes) for level in levels}
@@ -88,6 +98,23 @@ def factorize_levels(values: pd.Series | np.ndarray) -> tuple[np.ndarray, list[s
     """Return (codes, levels as text): -1 marks a missing value; 1 and 1.0 are both the level '1'."""
     codes, uniques = pd.factorize(pd.Series(values) if not isinstance(values, pd.Series) else values, use_na_sentinel=True)
     return codes, [value_text(u) for u in uniques]
+
+
+# whole numbers up to 2**53 compare with the cuts as the doubles they read as: the same bins as a column read as floats
+EXACT_WHOLE = 2**53
+
+
+def _numbers(values: pd.Series | np.ndarray, binning: Binning) -> tuple[np.ndarray, bool]:
+    """The column as an array in its own dtype when it holds whole numbers that compare with the cuts exactly
+    (and True), else as float64 (and False)."""
+    array = values.to_numpy() if isinstance(values, pd.Series) and not isinstance(values.dtype, pd.api.extensions.ExtensionDtype) \
+        else values if isinstance(values, np.ndarray) else None
+    if array is not None and array.dtype.kind == "i" and len(array) and all(abs(c) < EXACT_WHOLE for c in binning.cuts) \
+            and -EXACT_WHOLE <= array.min() and array.max() <= EXACT_WHOLE:
+        return array.astype(np.int64, copy=False), True
+    if array is not None and array.dtype == np.float64:
+        return array, False
+    return as_float(values), False
 
 
 def as_float(values: pd.Series | np.ndarray) -> np.ndarray:
