@@ -252,7 +252,7 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     """Build the scorecard and write the model file, the resolved settings and the reports, as one set."""
     timings: dict[str, float] = {}
     clock = Stopwatch(timings)
-    settings, ledger_path = _build_settings(options)
+    settings, ledger_path, frame = _build_settings(options)
     if options.engine:
         if options.engine not in ENGINES:
             raise SettingsError(f"--engine {options.engine}: not an engine; use one of {', '.join(ENGINES)}.")
@@ -263,15 +263,18 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     inputs = {**({"the ledger": ledger_path} if ledger_path else {}),
               **({"the settings file": options.source} if options.source != ledger_path else {})}
     check_not_an_input(out, inputs, replaces_folder=True)
+    read_whole = [frame] if frame is not None else []  # handed over whole, so that intake can let it go
+    del frame
     with claiming(out):
-        return _build(options, streams, settings, ledger_path, place, out, clock, timings)
+        return _build(options, streams, settings, ledger_path, place, out, clock, timings, read_whole)
 
 
 def _build(options: BuildOptions, streams: Streams, settings: Settings, ledger_path: Path | None, place, out: Path, clock,
-           timings: dict[str, float]) -> int:
+           timings: dict[str, float], read_whole: list[pd.DataFrame]) -> int:
     check_output_folder(out, options.force, outputs=BUILD_OUTPUTS)
-    with clock("intake"):
-        ledger, rows = open_ledger(place, settings, stream=options.stream or None)
+    with clock("intake"):  # a ledger read whole to propose the settings is not read again (and not held after intake)
+        ledger, rows = open_ledger(place, settings, stream=options.stream or None,
+                                   already_read=read_whole.pop() if read_whole else None)
     try:
         _say_read(streams, ledger, place, rows, settings)
         build = build_scorecard(ledger, settings, rows=rows, progress=lambda items: streams.progress(items, "classing"),
@@ -331,7 +334,8 @@ def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out:
     return [report, book]
 
 
-def _build_settings(options: BuildOptions) -> tuple[Settings, Path | None]:
+def _build_settings(options: BuildOptions) -> tuple[Settings, Path | None, pd.DataFrame | None]:
+    """The build's settings, the ledger file they name, and the ledger when it was read whole to propose them."""
     source = options.source
     if source.is_dir():
         raise SettingsError(f"{source}: is a folder. Give a settings file (.toml) or a ledger file.")
@@ -345,7 +349,7 @@ def _build_settings(options: BuildOptions) -> tuple[Settings, Path | None]:
         if not ledger.path and not (ledger.table or ledger.query):
             raise SettingsError(f"{source}: no ledger named. Set path under [ledger] to the ledger file "
                                 "(or, with an engine, table or query).")
-        return settings, settings.ledger_path() if ledger.path else None
+        return settings, settings.ledger_path() if ledger.path else None, None
     if not options.target:
         raise SettingsError(f"{source}: building straight from a ledger needs --target COLUMN (or give a settings file written by 'scorewright init').")
     frame = read_ledger(source)
@@ -356,7 +360,7 @@ def _build_settings(options: BuildOptions) -> tuple[Settings, Path | None]:
         leave_out=options.leave_out, out_of_time_from=options.out_of_time_from, holdout=options.holdout,
         rejected=options.rejected,
     )
-    return settings, source
+    return settings, source, frame
 
 
 def _ledger_flags(options: BuildOptions) -> dict[str, object]:

@@ -397,6 +397,23 @@ def test_set_refuses_what_the_file_would_refuse(ledger_csv, tmp_path, assignment
     assert settings.read_bytes() == before
 
 
+def test_a_build_straight_from_a_ledger_reads_the_file_once_and_gives_the_settings_files_model(ledger_csv, tmp_path,
+                                                                                               monkeypatch):
+    from scorecard.intake import read as reading
+
+    reads = []
+    whole = reading._read_frame
+    monkeypatch.setattr(reading, "_read_frame", lambda *args: reads.append(args[0].name) or whole(*args))
+    code, _, stderr = run("build", ledger_csv, "--target", "outcome", "--bad", "bad", "--out", tmp_path / "quick",
+                          "--no-reports", "--quiet")
+    assert code == 0, stderr
+    assert reads == ["ledger.csv"]  # read whole once: to propose the settings and to build
+    code, _, stderr = run("build", tmp_path / "quick" / "settings.toml", "--out", tmp_path / "again", "--no-reports",
+                          "--quiet")
+    assert code == 0, stderr
+    assert (tmp_path / "quick" / "model.json").read_bytes() == (tmp_path / "again" / "model.json").read_bytes()
+
+
 # --------------------------------------------------------------------------------------------
 # the outputs of a build are one set
 

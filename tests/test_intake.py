@@ -597,3 +597,34 @@ def test_a_semicolon_separated_csv_is_read_as_such(tmp_path):
     frame = read_ledger(path)
     assert list(frame.columns) == ["months", "home", "outcome"]
     assert frame["months"].sum() == sum(range(30))
+
+
+def test_protected_levels_read_each_value_as_text_and_missing_as_minus_one():
+    from scorecard.intake.roles import protected_levels
+
+    found = protected_levels(pd.Series([1, "b", None, 1.0, "1", np.nan, "a", 2.5], dtype=object))
+    assert found.levels == ("1", "2.5", "a", "b")  # 1, 1.0 and "1" are one level, as value_text reads them
+    np.testing.assert_array_equal(found.codes, [0, 3, -1, 0, 0, -1, 2, 1])
+    assert protected_levels(pd.Series([True, False, None])).levels == ("false", "true")
+    # read in two batches, the levels join into the same codes
+    from scorecard.intake.roles import joined_levels
+    from scorecard.rows import factorize_levels
+
+    values = pd.Series([1, "b", None, 1.0, "1", np.nan, "a", 2.5], dtype=object)
+    parts = [factorize_levels(values.iloc[:3].reset_index(drop=True)), factorize_levels(values.iloc[3:].reset_index(drop=True))]
+    assert joined_levels(parts).levels == found.levels
+    np.testing.assert_array_equal(joined_levels(parts).codes, found.codes)
+    assert found.codes.dtype == np.int32
+
+
+def test_an_identifier_is_judged_on_the_first_rows_with_a_value():
+    from scorecard.intake.kinds import ROLE_SAMPLE_ROWS, looks_like_identifier_or_date
+    from scorecard.terms import NUMERIC
+
+    n = ROLE_SAMPLE_ROWS + 10_000
+    distinct_first = pd.Series(np.concatenate([np.arange(ROLE_SAMPLE_ROWS), np.zeros(10_000, dtype=np.int64)]))
+    assert looks_like_identifier_or_date(distinct_first, NUMERIC) == (
+        f"it looks like an identifier ({ROLE_SAMPLE_ROWS} distinct values in the first {ROLE_SAMPLE_ROWS:,} rows with a value)")
+    # repeats among the first rows: not an identifier, whatever the rest holds
+    repeated_first = pd.Series(np.concatenate([np.arange(ROLE_SAMPLE_ROWS) // 2, np.arange(n - ROLE_SAMPLE_ROWS)]))
+    assert looks_like_identifier_or_date(repeated_first, NUMERIC) == ""

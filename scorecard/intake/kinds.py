@@ -27,6 +27,7 @@ IDENTIFIER_SHARE = 0.95
 
 
 IDENTIFIER_MIN_ROWS = 20
+ROLE_SAMPLE_ROWS = 20_000  # identifiers are judged on this many first rows (a streamed ledger's kinds on as many)
 NUMBERS_SHARE = 0.95  # a text column whose values are nearly all numbers is numbers with a few values typed as text
 
 
@@ -203,11 +204,15 @@ def looks_like_identifier_or_date(series: pd.Series, kind: str) -> str:
         return ""
     if kind == CATEGORICAL and _looks_like_dates(present):
         return "it holds dates"
-    n_distinct = present.nunique()
-    if len(present) >= IDENTIFIER_MIN_ROWS and n_distinct >= IDENTIFIER_SHARE * len(present):
-        integer_valued = kind == NUMERIC and bool(np.all(np.mod(present.to_numpy(dtype=float), 1) == 0))
+    # judged on the first rows with a value, as a ledger read in batches is judged on its first rows: the same
+    # answer both ways, and no hash of every value of every column
+    sample = present.iloc[:ROLE_SAMPLE_ROWS]
+    n_distinct = sample.nunique()
+    if len(sample) >= IDENTIFIER_MIN_ROWS and n_distinct >= IDENTIFIER_SHARE * len(sample):
+        integer_valued = kind == NUMERIC and bool(np.all(np.mod(sample.to_numpy(dtype=float), 1) == 0))
         if kind == CATEGORICAL or integer_valued:
-            return f"it looks like an identifier ({n_distinct} distinct values in {len(present)} rows)"
+            rows = f"{len(sample)} rows" if len(sample) == len(present) else f"the first {len(sample):,} rows with a value"
+            return f"it looks like an identifier ({n_distinct} distinct values in {rows})"
     return ""
 
 

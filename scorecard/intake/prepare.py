@@ -18,20 +18,21 @@ import pandas as pd
 
 from ..errors import LedgerError, ScorecardWarning
 from ..rows import BATCH_READABLE, InProcessRows, RowPlace, reads_in_batches
+from ..rows.coding import factorize_levels
 from ..rows.keys import split_keys
 from ..settings import Settings
 from ..terms import BAD, DEVELOPMENT, DUCKDB, GOOD, IN_PROCESS, NUMERIC, OUT_OF_TIME, REJECTED, SPARK, UNKNOWN
 from .kinds import added_readings, check_finite, choose_characteristics, role_columns, value_reading, with_reading
 from .ledger import Fingerprint, Ledger, RejectedRows, fingerprint_of
 from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, ledger_columns, read_batches, read_head, read_ledger
-from .roles import check_roles, protected_columns, protected_levels, role_values, unit_weights
+from .roles import check_roles, joined_levels, protected_columns, protected_levels, role_values, unit_weights
 from .samples import (
     draw_subsamples, frame_tie_texts, key_columns, needs_keys, out_of_time, sample_keys, split_samples,
 )
 
 
 def open_ledger(data: pd.DataFrame | str | os.PathLike[str] | RowPlace, settings: Settings, *, stream: bool | None = None,
-                require_outcome: bool = True):
+                require_outcome: bool = True, already_read: pd.DataFrame | None = None):
     """Read (or begin to read) and check a ledger; return it with the source of its rows.
 
     This is where every command decides how a ledger is read: by the engine the settings name
@@ -48,6 +49,9 @@ def open_ledger(data: pd.DataFrame | str | os.PathLike[str] | RowPlace, settings
         DataFrame is always in memory.
     require_outcome : bool
         As for ``prepare_ledger``.
+    already_read : pandas.DataFrame, optional
+        The file read whole already (by ``read_ledger``, as a build straight from a ledger reads it to
+        propose its settings): used instead of reading the file again when it is to be read whole.
 
     Returns
     -------
@@ -68,7 +72,7 @@ def open_ledger(data: pd.DataFrame | str | os.PathLike[str] | RowPlace, settings
         ledger, batches = stream_ledger(data, settings, require_outcome=require_outcome)
         return ledger, InProcessRows(ledger.outcome, ledger.weight, ledger.sample, batches, subsamples=ledger.subsamples,
                                      dates=ledger.dates)
-    frame = read_ledger(data)
+    frame = already_read if already_read is not None and not isinstance(data, pd.DataFrame) else read_ledger(data)
     if isinstance(data, pd.DataFrame):
         ledger = prepare_ledger(frame, settings, require_outcome=require_outcome)
     else:
@@ -244,13 +248,13 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
     parts, readings = [], {c.name: (0, np.inf, 0) for c in numeric}
     for first_row, frame in file_batches(path, suffix, first_pass, types, batch_rows):
         parts.append((*role_values(frame, settings, source_name, first_row=first_row),
-                      split_keys(frame, keyed, settings.samples.seed) if drawn else None, frame[protected_names]))
+                      split_keys(frame, keyed, settings.samples.seed) if drawn else None,
+                      [factorize_levels(frame[name]) for name in protected_names]))
         for char in numeric:
             values = frame[char.name].to_numpy(dtype=float, na_value=np.nan)
             readings[char.name] = added_readings(readings[char.name], value_reading(values, char.special_values))
     characteristics = [with_reading(c, readings[c.name]) if c.name in readings else c for c in characteristics]
-    protected_values = pd.concat([p[4] for p in parts], ignore_index=True) if protected_names else None
-    protected = {name: protected_levels(protected_values[name]) for name in protected_names}
+    protected = {name: joined_levels([p[4][i] for p in parts]) for i, name in enumerate(protected_names)}
     outcome = np.concatenate([p[0] for p in parts])
     if (outcome == REJECTED).any():
         if require_outcome:

@@ -18,10 +18,10 @@ import pandas as pd
 from ..errors import LedgerError
 from ..rows import BATCH_READABLE, csv_delimiter
 from ..terms import NUMERIC
-from .kinds import closest_names, detect_kind
+from .kinds import ROLE_SAMPLE_ROWS, closest_names, detect_kind
 
 SUFFIXES = (".csv", ".txt", ".parquet", ".pq", ".xlsx", ".xlsm")
-HEAD_ROWS = 20_000  # kinds and left-out columns are judged on the first rows of a streamed ledger
+HEAD_ROWS = ROLE_SAMPLE_ROWS  # kinds and left-out columns are judged on the first rows of a streamed ledger
 
 
 # the words a whole read with pandas takes for an empty cell, so that batches read with pyarrow

@@ -13,6 +13,7 @@ import pandas as pd
 from ..errors import LedgerError, describe_rows
 from ..settings import Settings
 from ..terms import BAD, GOOD, INDETERMINATE, REJECTED, UNKNOWN, value_text
+from ..rows.coding import factorize_levels
 from .ledger import AttributeLevels
 
 
@@ -212,7 +213,14 @@ def protected_columns(settings: Settings, columns) -> list[str]:
 
 def protected_levels(values: pd.Series) -> AttributeLevels:
     """Return each row's level of a protected attribute (-1 where it is not recorded) and the levels, sorted."""
-    texts = values.map(value_text, na_action="ignore")
-    levels = tuple(sorted(texts.dropna().unique()))
-    codes = pd.Index(levels).get_indexer(texts.to_numpy(dtype=object, na_value=None))
-    return AttributeLevels(codes.astype(np.int32), levels)
+    return joined_levels([factorize_levels(values)])
+
+
+def joined_levels(parts: Sequence[tuple[np.ndarray, list[str]]]) -> AttributeLevels:
+    """The levels of a protected attribute read in parts (batches): each part's codes into its own levels as
+    ``factorize_levels`` gives them, joined into one set of sorted levels. Each distinct value is read as text
+    once per part, and a part keeps 4 bytes a row, not its values."""
+    levels = tuple(sorted({text for _, texts in parts for text in texts}))
+    index = pd.Index(levels)
+    joined = [np.append(index.get_indexer(texts), -1).astype(np.int32)[codes] for codes, texts in parts]  # -1 picks the last
+    return AttributeLevels(np.concatenate(joined) if len(joined) != 1 else joined[0], levels)
