@@ -539,8 +539,9 @@ def write_tables_atomically(frames, path: Path) -> Path:
                 if path.suffix.lower() == ".csv":
                     frame = neutralised(frame)
                 table = pa.Table.from_pandas(frame, preserve_index=False)
-                if writer is None:
-                    schema = table.schema
+                if writer is None:  # a categorical column (reason texts) is written as the plain text it holds
+                    schema = pa.schema([pa.field(f.name, f.type.value_type if pa.types.is_dictionary(f.type) else f.type)
+                                        for f in table.schema], metadata=table.schema.metadata)
                     writer = (pq.ParquetWriter(temporary, schema) if path.suffix.lower() == ".parquet"
                               else pacsv.CSVWriter(temporary, schema))
                 writer.write_table(table.cast(schema))
@@ -566,6 +567,12 @@ def neutralised(frame: pd.DataFrame) -> pd.DataFrame:
     for name in frame.columns:
         column = frame[name]
         if pd.api.types.is_numeric_dtype(column) or pd.api.types.is_bool_dtype(column):
+            continue
+        if isinstance(column.dtype, pd.CategoricalDtype):  # a few texts, each judged once
+            categories = pd.Series(column.cat.categories)
+            fixed = neutralised(pd.DataFrame({name: categories}))[name]
+            if not fixed.equals(categories):
+                changed[name] = column.cat.rename_categories(fixed.tolist())
             continue
         text = column.astype("string")
         risky = text.str.match(FORMULA_START.pattern, na=False) & ~text.str.fullmatch(PLAIN_NUMBER.pattern, na=False)

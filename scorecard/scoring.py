@@ -40,13 +40,22 @@ def reasons(codes: np.ndarray, table: PointsTable, *, count: int = 4) -> np.ndar
     # points lost in whole units of the table's last decimal, so that one integer key per cell
     # sorts by loss (largest first) and, within a loss, by position: ties stay in table order
     unit = 10.0**table.decimals
-    key = np.empty((n_rows, k), dtype=np.int64)
-    for column, char in enumerate(table.characteristics):
-        lost = np.rint((char.best - char.points) * unit).astype(np.int64)
-        key[:, column] = -lost[codes[:, column]] * k + column
-    top = np.argpartition(key, count - 1, axis=1)[:, :count] if count < k else np.arange(k)[None, :].repeat(n_rows, 0)
-    order = np.take_along_axis(top, np.argsort(np.take_along_axis(key, top, axis=1), axis=1), axis=1)
-    lost_most = -(np.take_along_axis(key, order, axis=1) - order) // k
+    losses = [np.rint((char.best - char.points) * unit).astype(np.int64) for char in table.characteristics]
+    largest = max((int(lost.max()) for lost in losses if lost.size), default=0)
+    dtype = np.int32 if (largest + 1) * k < 2**31 - 1 else np.int64  # half the memory to scan when it fits
+    key = np.empty((n_rows, k), dtype=dtype)
+    for column, lost in enumerate(losses):
+        key[:, column] = (-lost * k + column).astype(dtype)[codes[:, column]]
+    # the count smallest keys of each row, smallest first: one scan of the rows per reason (keys are distinct in a row)
+    order = np.empty((n_rows, count), dtype=np.int64)
+    lost_most = np.empty((n_rows, count), dtype=np.int64)
+    rows, taken = np.arange(n_rows), np.iinfo(dtype).max
+    for rank in range(count):
+        position = key.argmin(axis=1)
+        order[:, rank] = position
+        lost_most[:, rank] = (position - key[rows, position]) // k
+        if rank + 1 < count:
+            key[rows, position] = taken
     return np.where(lost_most > 0, order, -1)
 
 
@@ -80,7 +89,8 @@ class Scorecard:
         for binning in self.binnings:
             if binning.kind == NUMERIC:
                 check_numbers(frame[binning.characteristic], name=binning.characteristic, source=source, first_row=first_row)
-        codes = np.empty((len(frame), len(self.binnings)), dtype=np.uint16, order="F")
+        wide = any(max(b.n_bins, b.unseen_bin + 1) > 255 for b in self.binnings)
+        codes = np.empty((len(frame), len(self.binnings)), dtype=np.uint16 if wide else np.uint8, order="F")
         if len(self.binnings):
             # one column per characteristic, stored column after column; coded on two threads, since
             # numpy and pyarrow release the interpreter lock while they search
@@ -119,9 +129,19 @@ class Scorecard:
         result = pd.DataFrame({"score": scores, "pd": self.table.scaling.pd_of_score(scores)}, index=frame.index)
         if reason_count:
             positions = reasons(codes, self.table, count=reason_count)
-            codes_text = np.array([c.reason_code for c in self.table.characteristics] + [""], dtype=object)
-            labels_text = np.array([c.reason_label for c in self.table.characteristics] + [""], dtype=object)
+            texts = {"": [c.reason_code for c in self.table.characteristics],
+                     "_text": [c.reason_label for c in self.table.characteristics]}
+            columns = {}
             for rank in range(positions.shape[1]):
-                result[f"reason_{rank + 1}"] = codes_text[positions[:, rank]]  # -1 picks the blank
-                result[f"reason_{rank + 1}_text"] = labels_text[positions[:, rank]]
+                for suffix, words in texts.items():
+                    columns[f"reason_{rank + 1}{suffix}"] = _texts_of(positions[:, rank], words)  # -1: the blank
+            result = result.assign(**columns)
         return result
+
+
+def _texts_of(positions: np.ndarray, words: list[str]):
+    """The text of each row's position (-1: blank) as a categorical column: a code per row into a few texts."""
+    categories = [*words, ""]
+    if len(set(categories)) < len(categories):  # texts given twice: plain text per row
+        return np.array(categories, dtype=object)[positions]
+    return pd.Categorical.from_codes(np.where(positions < 0, len(words), positions), categories=categories)

@@ -34,6 +34,24 @@ def test_reasons_rank_the_points_lost_against_the_best_bin():
     assert ranked[1].tolist() == [-1, -1, -1]
 
 
+@pytest.mark.parametrize("count", [1, 2, 3, 5])
+def test_reasons_equal_a_sort_of_every_row_by_points_lost_then_position(count):
+    # reference: each row's characteristics sorted by points lost (largest first, ties in table order), a loop over rows
+    from scorecard.points import points_table
+
+    from tables import scaling  # tests/tables.py
+
+    rng = np.random.default_rng(7)
+    woe = {f"c{i}": list(rng.choice([-0.5, 0.0, 0.5], size=4)) for i in range(5)}  # repeated values: many ties
+    table = points_table({name: 1.0 for name in woe}, 0.2, woe, {n: [f"{n}{j}" for j in range(4)] for n in woe}, scaling())
+    codes = rng.integers(0, 4, size=(400, 5))
+    ranked = reasons(codes, table, count=count)
+    for row, found in zip(codes, ranked):
+        lost = [round(float(c.best - c.points[code])) for c, code in zip(table.characteristics, row)]
+        expected = [j for j in sorted(range(5), key=lambda j: (-lost[j], j)) if lost[j] > 0][:count]
+        assert found.tolist() == expected + [-1] * (min(count, 5) - len(expected))
+
+
 def test_scorecard_scores_a_frame_and_names_a_missing_column():
     binnings = (numeric_binning("age", [30, 50], has_missing=False),
                 categorical_binning("housing", [("rent",), ("own",)], has_missing=False),
