@@ -50,7 +50,7 @@ def engine_builds(seed: int, settings: Path, log: Log, plan: Sequence = PLAN) ->
             log(describe(run) + f", process tree {run.session_peak_mb:,.0f} MB")
             found.append({"engine": engine, "options": " ".join(extra), "rows": size, "run": run, "model": out / "model.json"})
     for build in found:
-        build["same"] = _same_model(build["model"], _reference(found, build["rows"]))
+        build["same"], build["same_detail"] = _same_model(build["model"], _reference(found, build["rows"]))
     return found
 
 
@@ -60,17 +60,62 @@ def _reference(found: list[dict], rows: int) -> Path | None:
     return min(mine, key=lambda b: b["options"])["model"] if mine else None
 
 
-def _same_model(model: Path, reference: Path | None) -> bool | None:
-    """Whether two model files hold the same content but for the engine named in the settings."""
+# what an engine's model file may differ in: the fit's solver is named for where it ran, and the fairness checks are
+# computed in process only (an engine's build says they were not computed); every other figure equals in-process's,
+# floats to this relative difference (the issue's 1e-9: sums added in another order)
+SOLVER_NAMED = ("fit", "solver")
+IN_PROCESS_ONLY = ("fairness",)
+RELATIVE = 1e-9
+
+
+def _same_model(model: Path, reference: Path | None) -> tuple[bool | None, str]:
+    """Whether an engine's model file holds what the in-process one holds, and how close: 'identical', or the largest
+    relative difference of a float; differences beyond ``RELATIVE`` (or in anything but floats) name the first place."""
     if reference is None or not model.exists() or not reference.exists():
-        return None
+        return None, ""
     documents = []
     for path in (model, reference):
         document = json.loads(path.read_text(encoding="utf-8"))
         document.pop("checksum", None)
         document["settings"]["ledger"].pop("engine", None)
-        documents.append(json.dumps(document, sort_keys=True))
-    return documents[0] == documents[1]
+        document.get(SOLVER_NAMED[0], {}).pop(SOLVER_NAMED[1], None)
+        documents.append(document)
+    for section in IN_PROCESS_ONLY:  # set aside where the engine's model says it was not computed (empty)
+        if any(not document.get(section) for document in documents):
+            for document in documents:
+                document.pop(section, None)
+    found: list[tuple[float, str]] = []
+    _differences(documents[0], documents[1], "", found)
+    if not found:
+        return True, "identical"
+    worst = max(found)
+    if worst[0] > RELATIVE:
+        return False, f"differs at {worst[1]}" + (f" (relative {worst[0]:.1e})" if worst[0] != float("inf") else "")
+    return True, f"floats within {worst[0]:.0e} relative"
+
+
+def _differences(a, b, path: str, found: list[tuple[float, str]]) -> None:
+    """Collect (relative difference, path) of every place two JSON documents differ (inf: not a float difference)."""
+    if isinstance(a, float) or isinstance(b, float):
+        if isinstance(a, (int, float)) and isinstance(b, (int, float)):
+            if a != b:
+                found.append((abs(a - b) / max(abs(a), abs(b)), path))
+            return
+    if type(a) is not type(b):
+        found.append((float("inf"), path))
+    elif isinstance(a, dict):
+        for key in sorted(set(a) | set(b)):
+            if key in a and key in b:
+                _differences(a[key], b[key], f"{path}/{key}", found)
+            else:
+                found.append((float("inf"), f"{path}/{key}"))
+    elif isinstance(a, list):
+        if len(a) != len(b):
+            found.append((float("inf"), path))
+        for index, (x, y) in enumerate(zip(a, b)):
+            _differences(x, y, f"{path}[{index}]", found)
+    elif a != b:
+        found.append((float("inf"), path))
 
 
 def summary_rows(builds: list[dict]) -> list[tuple]:
@@ -81,7 +126,7 @@ def summary_rows(builds: list[dict]) -> list[tuple]:
         mine = [b for b in builds if b["engine"] == "in-process" and b["rows"] == build["rows"] and b["run"].ok]
         reference = min(mine, key=lambda b: b["options"])["run"] if mine else None  # read whole when it was
         ratio = f"{run.wall / reference.wall:.2f}" if run.ok and reference is not None else "—"
-        same = {True: "yes", False: "NO", None: "—"}[build["same"]]
+        same = {True: "yes", False: "NO", None: "—"}[build["same"]] + (f": {build['same_detail']}" if build.get("same_detail") else "")
         label = f"{build['engine']}{' ' + build['options'] if build['options'] else ''}"
         if not run.ok:
             rows.append((label, f"{build['rows']:,}", run.failure(), "", "", "", ""))

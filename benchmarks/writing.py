@@ -201,7 +201,9 @@ def _row_engines(results: r.Results) -> str:
              "on the Parquet ledger of that size; in process the 1M ledger is read whole and the 10M one in batches "
              "(`--stream`). Peak RSS of the process is GNU time's; of the process tree, sampled every 0.25 s (Spark's "
              "JVM is a process of its own). Time against in-process: the in-process build of the same size (read whole "
-             "at 1M, streamed at 10M). Same model: the model file equals the in-process one but for `ledger.engine`. "
+             "at 1M, streamed at 10M). Same model: the model file equals the in-process one but for `ledger.engine`, the "
+             "fit's solver name and the fairness checks (computed in process only; an engine's build says they were not "
+             "computed), every float to 1e-9 relative (the issue's tolerance; sums added in another order). "
              "On this 2-core machine Spark is not expected to win: the point is the same answer where the data lives.\n\n")
     return text + table(["engine", "rows", "wall s", "peak RSS MB (process)", "peak RSS MB (process tree)",
                          "time vs in-process", "same model"], summary_rows(results.row_engines), numeric=(1, 2, 3, 4, 5))

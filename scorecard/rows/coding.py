@@ -144,7 +144,11 @@ def score_codes(codes: np.ndarray, table: PointsTable) -> np.ndarray:
     floats can give) and equals what the exported SQL and Python forms compute.
     """
     unit = 10**table.decimals
-    units = np.zeros(codes.shape[0], dtype=np.int64)
-    for column, char in enumerate(table.characteristics):
-        units += np.take(np.rint(char.points * unit).astype(np.int64), codes[:, column])
+    points = [np.rint(char.points * unit).astype(np.int64) for char in table.characteristics]
+    # added in 32-bit integers when no sum can overflow them (half the memory to move), else in 64-bit
+    narrow = sum(int(np.abs(p).max()) for p in points if p.size) < 2**31 - 1
+    units = np.zeros(codes.shape[0], dtype=np.int32 if narrow else np.int64)
+    for column, lookup in enumerate(points):
+        units += np.take(lookup.astype(units.dtype), codes[:, column])
+    units = units.astype(np.int64, copy=False)
     return units if table.decimals == 0 else units / unit
