@@ -5,7 +5,7 @@ BIN    := $(VENV)/bin
 STAMP  := $(VENV)/.installed
 DEMO_OUT ?= demo-run
 
-.PHONY: test demo bench soak system-deps wheel clean
+.PHONY: test demo bench bench-large soak system-deps wheel clean
 
 $(STAMP): pyproject.toml
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
@@ -23,6 +23,11 @@ demo: $(STAMP)
 # and the same build through each engine (in process, DuckDB, Spark) on 1M and 10M rows
 bench: $(STAMP)
 	$(BIN)/python -m benchmarks --streaming --engines
+
+# the same run with the streamed build of 100M rows (its Parquet ledger, about 3.5 GB, is generated
+# once in bounded memory; the build alone takes about an hour on 2 cores)
+bench-large: $(STAMP)
+	$(BIN)/python -m benchmarks --streaming --sizes 1000000,10000000,100000000 --engines
 
 # Long property runs, kept out of `make test`: the exports' round trip on 1,000,000 generated
 # applications (make test runs 100,000)
