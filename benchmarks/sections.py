@@ -23,7 +23,7 @@ PYTHON = sys.executable
 BASELINE = "parse-only"
 BUILD, BUILD_NO_REPORTS, HANDWRITTEN, SCORE = "build", "build --no-reports", "hand-written", "score"
 HELP_REPEATS = 10
-REPORT_MODULES = ("scorecard/report/html.py", "scorecard/report/workbook.py")
+REPORT_MODULES = ("scorecard/report/build_page.py", "scorecard/report/build_sheets.py")  # render_report, workbook
 
 Log = Callable[[str], None]
 
