@@ -147,8 +147,10 @@ def fit_logistic(
         # Descent methods would crawl along a separating direction until max_iterations.
         raise_if_separated(patterns(problem), all_names, intercept=intercept)
     rule = StoppingRule(max_iterations, tolerance, gradient_tolerance, no_standardisation(problem))
+    # the design is this fit's own (made from the features just above), so it is standardised in place
     result = fit_problem(problem, all_names, rule, solver=solver, l2=float(l2), start=start, standardise=standardise,
-                  checks=checks)
+                         checks=checks, remake=lambda: make_problem(design_matrix(features, intercept), goods, bads,
+                                                                    l2=l2, intercept=intercept))
     if not result.converged:
         warnings.warn(not_converged_message(result), ScorecardWarning, stacklevel=2)
     return result

@@ -329,15 +329,20 @@ def no_standardisation(problem: Problem) -> Standardisation:
     return Standardisation(np.zeros(columns), np.ones(columns), problem.intercept)
 
 
-def standardised(problem: Problem, standardisation: Standardisation) -> Problem:
-    """The same cost as a function of the standardised coefficients θ, with b = T·θ."""
+def standardised(problem: Problem, standardisation: Standardisation, *, in_place: bool = False) -> Problem:
+    """The same cost as a function of the standardised coefficients θ, with b = T·θ.
+
+    ``in_place``: the design in memory is overwritten (the same arithmetic, no copy); the problem
+    passed in then has the standardised design too, and must not be used as it was.
+    """
     centre, scale = standardisation.centre, standardisation.scale
     if isinstance(problem.design, Parts):
         inner = problem.design
         design = Parts(lambda rows: (inner.make(rows) - centre) / scale, inner.n_rows, inner.n_columns, inner.part_rows)
     else:
-        design = np.subtract(problem.design, centre, order="F")
-        design /= scale  # in place: one copy of the design, not two
+        design = problem.design if in_place else np.empty_like(problem.design, order="F")
+        np.subtract(problem.design, centre, out=design)
+        design /= scale  # in place: one copy of the design at most, not two
     # The penalty stays on the original coefficients: b_j = θ_j / scale_j.
     ridge = problem.ridge / standardisation.scale**2
     return Problem(design, problem.goods, problem.bads, ridge, problem.intercept)

@@ -17,7 +17,7 @@ from scipy import linalg, special
 from ..errors import FitError
 from .guards import numerically_singular_message, overlap_proved, patterns, raise_if_separated
 from .problem import (
-    Problem, SingularInformation, Standardisation, cost, cost_change, cost_gradient, cost_gradient_and_hessian,
+    Parts, Problem, SingularInformation, Standardisation, cost, cost_change, cost_gradient, cost_gradient_and_hessian,
     cost_hessian, solve_symmetric, standardisation_of, standardised, weighted_gram,
 )
 from .result import FitResult
@@ -33,14 +33,21 @@ MAX_HALVINGS = 52
 
 
 def fit_problem(problem: Problem, names: tuple[str, ...], rule: StoppingRule, *, solver: str, l2: float, start,
-         standardise: bool, checks: bool) -> FitResult:
-    """Run the solver in standardised (or, for descents without standardise, raw) coordinates."""
+         standardise: bool, checks: bool, remake=None) -> FitResult:
+    """Run the solver in standardised (or, for descents without standardise, raw) coordinates.
+
+    ``remake``, when given, says the problem's design in memory belongs to this fit: it is then
+    standardised in place (one design's worth of memory fewer, and the time of writing it), and
+    ``remake()`` makes the problem as it was, for the separation check when that has to run.
+    """
     standardisation = standardisation_of(problem)
-    standard = standardised(problem, standardisation)
     # Newton's steps do not depend on the scale, but centred columns keep its linear algebra well
     # conditioned, so it always works on the standardised problem.
     on_standard = standardise or solver == "newton"
+    in_place = remake is not None and on_standard and not isinstance(problem.design, Parts)
     start = problem.intercept_only if start is None else start
+    standard = standardised(problem, standardisation, in_place=in_place)
+    original = remake if in_place else (lambda: problem)
     if on_standard:
         working, working_start = standard, standardisation.to_standard(start)
     else:
@@ -51,10 +58,10 @@ def fit_problem(problem: Problem, names: tuple[str, ...], rule: StoppingRule, *,
         result = fit_result(standard, standardisation, theta, path, names, solver=solver, l2=l2)
     except SingularInformation as singular:
         if checks:
-            raise_if_separated(patterns(problem), names, intercept=problem.intercept)
+            raise_if_separated(patterns(original()), names, intercept=problem.intercept)
         raise FitError(numerically_singular_message(singular, names, intercept=problem.intercept)) from None
     if checks and solver == "newton" and not (path.converged and overlap_proved(standard, theta)):
-        raise_if_separated(patterns(problem), names, intercept=problem.intercept)
+        raise_if_separated(patterns(original()), names, intercept=problem.intercept)
     return result
 
 
