@@ -17,8 +17,9 @@ from dataclasses import dataclass, replace
 import numpy as np
 import pandas as pd
 
+from .challenger import DESIGN_CELLS_LIMIT, Challenger, bin_effects, challenger_log_odds, compare, fit_challenger
 from .checks.discrimination import auc, ks_statistic
-from .classing import ClassedCharacteristic, ClassedLedger, class_ledger, classing_settings_values
+from .classing import ClassedCharacteristic, ClassedLedger, class_ledger, classing_settings_values, fine_binnings
 from .errors import ScorecardWarning
 from .intake import Fingerprint, Ledger, open_ledger, rows_in_memory, with_inferred_rejects
 from .points import PointsTable, points_table, scaling
@@ -27,7 +28,7 @@ from .rows import InProcessRows, PatternTable, RowSource, ScoreHistogram, score_
 from .scoring import Scorecard
 from .selection import Decision, SelectionResult, select_characteristics
 from .settings import Settings
-from .terms import DEVELOPMENT, DEVELOPMENT_NAME, NO_INFERENCE, SAMPLE_NAMES
+from .terms import BAD, DEVELOPMENT, DEVELOPMENT_NAME, GOOD, NO_INFERENCE, SAMPLE_NAMES
 
 
 @dataclass(frozen=True)
@@ -124,6 +125,7 @@ class Build:
     notes: tuple[str, ...]
     rejects: RejectInference | None = None
     protected: tuple[ProtectedAttribute, ...] = ()
+    challenger: Challenger | None = None
 
     def characteristic(self, name: str) -> ClassedCharacteristic:
         """Return one classed characteristic by name."""
@@ -215,10 +217,50 @@ def build_scorecard(data: Ledger | pd.DataFrame | str | os.PathLike[str], settin
             )
     with clock("fairness"):
         protected, fairness_notes = _protected_attributes(ledger, rows, model, kept=None if rejects else model.classed.kept)
+    with clock("challenger"):
+        challenger, challenger_notes = _challenger(ledger, rows, model, settings)
     resolved = _resolved_settings(settings, model.classed)
-    notes = (*ledger.notes, *model.classed.notes, *notes, *fairness_notes)
+    notes = (*ledger.notes, *model.classed.notes, *notes, *fairness_notes, *challenger_notes)
     return Build(resolved, ledger.source, ledger.fingerprint, ledger.sample_summary(), model.classed.characteristics,
-                 model.selection, model.scorecard, histograms, notes, rejects, protected)
+                 model.selection, model.scorecard, histograms, notes, rejects, protected, challenger)
+
+
+def _challenger(ledger: Ledger, rows, model: _Model, settings: Settings) -> tuple[Challenger | None, tuple[str, ...]]:
+    """Fit the challenger on the fine bins of every candidate and compare it with the scorecard on the same rows."""
+    names = model.classed.names
+    if not hasattr(rows, "coded_batches"):
+        return None, ("The challenger was not fitted: it scores the rows in this process, and this ledger's rows are "
+                      "kept by an engine (build it in process to have it).",)
+    fine = fine_binnings(ledger, rows, settings, names)
+    n_bins = [fine[name].n_bins for name in names]
+    # every development row, as the scorecard's final fit; its seeded selection sub-sample when that is too many
+    too_many = len(rows.fitting_rows()) * sum(n_bins) > DESIGN_CELLS_LIMIT
+    table = rows.pattern_table("selection" if too_many else "", [fine[name] for name in names])
+    if table.n_patterns * sum(n_bins) > DESIGN_CELLS_LIMIT:
+        return None, (f"The challenger was not fitted: its design would hold {table.n_patterns:,} patterns × "
+                      f"{sum(n_bins):,} indicators, more than this build keeps in memory.",)
+    fit = fit_challenger([table.column(name) for name in names], n_bins, table.goods, table.bads, names=names,
+                         l2=settings.challenger.l2)
+    effects = bin_effects(fit, n_bins)
+    challenger_scores = _row_scores(rows, [fine[name] for name in names],
+                                    lambda codes: challenger_log_odds(codes, fit, effects))
+    scorecard_scores = _row_scores(rows, model.binnings, lambda codes: score_codes(codes, model.table))
+    comparisons = {}
+    for index, name in enumerate(SAMPLE_NAMES):
+        inside = rows.sample == index
+        goods = np.where(inside & (rows.outcome == GOOD), rows.weight, 0.0)[inside]
+        bads = np.where(inside & (rows.outcome == BAD), rows.weight, 0.0)[inside]
+        if goods.sum() > 1 and bads.sum() > 1:
+            comparisons[name] = compare(name, scorecard_scores[inside], challenger_scores[inside], goods, bads)
+    return Challenger(tuple(names), sum(n_bins), settings.challenger.l2, fit, comparisons), ()
+
+
+def _row_scores(rows, binnings: Sequence, score: Callable[[np.ndarray], np.ndarray]) -> np.ndarray:
+    """Every row's score from its codes (one pass; a characteristic coded twice in one pass would share a column)."""
+    scores = np.empty(len(rows.outcome))
+    for first_row, codes in rows.coded_batches(binnings):
+        scores[first_row:first_row + len(codes)] = score(codes)
+    return scores
 
 
 def _protected_attributes(ledger: Ledger, rows, model: _Model, *, kept) -> tuple[tuple, tuple[str, ...]]:

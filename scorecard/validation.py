@@ -413,7 +413,7 @@ class Flag:
     ----------
     kind : str
         'leakage', 'special value', 'over-fitting', 'coefficient', 'reversal', 'fit', 'stability',
-        'calibration', 'not computed' or 'notes'.
+        'calibration', 'not computed', 'fair lending', 'screen', 'challenger' or 'notes'.
     text : str
         What was found, in a sentence with its figure and threshold.
     section : str
@@ -470,10 +470,27 @@ def review_flags(build, validation: Validation) -> tuple[Flag, ...]:
     flags += [Flag("screen", f"{test.characteristic!r} was screened out at IV {test.iv:.3f} but adds to the model: score "
                              f"test p-value {test.p_value:.3g} against the final model.", "selection")
               for test in getattr(build.selection, "screen_tests", ()) if test.significant]
+    flags += challenger_flags(build)
     if build.notes:
         flags.append(Flag("notes", f"The build made {len(build.notes)} note{'s' if len(build.notes) != 1 else ''} of what "
                                    "was left out, repaired or merged; read them.", "data"))
     return tuple(flags)
+
+
+def challenger_flags(build) -> list[Flag]:
+    """The challenger above the scorecard on an honest sample by more than ``challenger.auc_gap`` and significantly
+    (DeLong's paired test, p below ``checks.p_watch``)."""
+    challenger = getattr(build, "challenger", None)
+    if challenger is None:
+        return []
+    gap, p_watch = build.settings.challenger.auc_gap, build.settings.checks.p_watch
+    return [Flag("challenger", f"On the {sample} sample the challenger (every candidate on its fine bins) reaches AUC "
+                               f"{c.challenger.auc:.4f} against the scorecard's {c.scorecard.auc:.4f}: {c.paired.difference:+.4f} "
+                               f"for the challenger, more than challenger.auc_gap = {gap:g}, DeLong's paired p-value "
+                               f"{c.paired.p_value:.3g}. The scorecard's format leaves discrimination behind; look at what "
+                               "the challenger uses that the scorecard does not.", "discrimination")
+            for sample, c in challenger.comparisons.items()
+            if sample != DEVELOPMENT_NAME and c.paired.difference > gap and c.paired.p_value < p_watch]
 
 
 def _fairness_flags(build, validation: Validation) -> list[Flag]:

@@ -91,5 +91,6 @@ def test_each_stage_is_timed(frame):
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         build_scorecard(frame, _settings(), timings=timings)
-    assert list(timings) == ["intake", "classing", "pattern table", "selection and fit", "points and scoring", "fairness"]
+    assert list(timings) == ["intake", "classing", "pattern table", "selection and fit", "points and scoring", "fairness",
+                             "challenger"]
     assert all(seconds >= 0 for seconds in timings.values())

@@ -12,6 +12,7 @@ from sklearn.metrics import roc_auc_score
 from scorecard.checks import (
     auc,
     auc_shortfall,
+    paired_auc_test,
     band_of,
     cap_points,
     gains_table,
@@ -379,3 +380,31 @@ def test_bad_options_are_rejected():
         score_bands([1, 2], [1, 1], n_bands=0)
     with pytest.raises(ScorecardError, match=r"edges must be strictly ascending; edge 2 \(counted from 1\)"):
         band_of([1, 2], [5, 5])
+
+
+def test_paired_auc_test_equals_delongs_correlated_components_on_rows():
+    # Source: DeLong, DeLong and Clarke-Pearson (Biometrics 44, 1988), the correlated case: the covariance
+    # of the two AUCs from the structural components, each worked out here by a loop over good–bad pairs
+    rng = np.random.default_rng(12)
+    n = 300
+    is_good = rng.random(n) < 0.7
+    first = np.round(rng.normal(size=n) + 0.8 * is_good, 1)
+    second = np.round(first + rng.normal(scale=0.7, size=n) + 0.3 * is_good, 1)
+    goods, bads = first[is_good], first[~is_good]
+
+    def components(score):
+        good, bad = score[is_good], score[~is_good]
+        kernel = (good[:, None] > bad[None, :]) + 0.5 * (good[:, None] == bad[None, :])
+        return kernel.mean(axis=1), kernel.mean(axis=0), kernel.mean()
+
+    v10_1, v01_1, a1 = components(first)
+    v10_2, v01_2, a2 = components(second)
+    s10 = np.cov(np.vstack([v10_1, v10_2]))
+    s01 = np.cov(np.vstack([v01_1, v01_2]))
+    variance = (s10[0, 0] + s10[1, 1] - 2 * s10[0, 1]) / goods.size + (s01[0, 0] + s01[1, 1] - 2 * s01[0, 1]) / bads.size
+    test = paired_auc_test(first, second, is_good.astype(float), (~is_good).astype(float))
+    assert (test.first, test.second) == pytest.approx((a1, a2), rel=EXACT_RTOL)
+    assert test.std_error ** 2 == pytest.approx(variance, rel=1e-10)
+    assert test.p_value == pytest.approx(2 * stats.norm.sf(abs((a2 - a1) / np.sqrt(variance))), rel=1e-9)
+    # one score against itself: no difference, and the first AUC's own variance is DeLong's of that score
+    assert paired_auc_test(first, first, is_good.astype(float), (~is_good).astype(float)).std_error == 0.0

@@ -17,7 +17,7 @@ PACKAGE = ROOT / "scorecard"
 # from the rooms before it, and from itself, never from a room after it.
 FLOORS = (
     "terms", "errors", "files", "settings", "rows", "intake", "evidence", "classing", "fitter", "selection", "points",
-    "scoring", "checks", "rejects", "validation", "build", "modelfile", "exports", "monitor", "report", "options",
+    "scoring", "checks", "rejects", "challenger", "validation", "build", "modelfile", "exports", "monitor", "report", "options",
     "commands", "cli", "demo",
 )
 # import names of the distributions in pyproject.toml whose import name differs from theirs

@@ -42,6 +42,8 @@ _PUBLIC = {
     "CapCurve": "discrimination",
     "GainsTable": "discrimination",
     "KsResult": "discrimination",
+    "PairedAucTest": "discrimination",
+    "paired_auc_test": "discrimination",
     "RocCurve": "discrimination",
     "auc": "discrimination",
     "auc_shortfall": "discrimination",

@@ -23,6 +23,7 @@ from scorecard.errors import ScorecardError, describe_rows
 __all__ = [
     "AucResult",
     "AucShortfall",
+    "PairedAucTest",
     "CapCurve",
     "GainsTable",
     "KsResult",
@@ -30,6 +31,7 @@ __all__ = [
     "auc",
     "auc_shortfall",
     "band_of",
+    "paired_auc_test",
     "cap_points",
     "gains_table",
     "ks_statistic",
@@ -345,6 +347,92 @@ def auc_shortfall(result: AucResult, *, reference: float, reference_std_error: f
         z = float(np.sign(difference) * np.inf) if difference else 0.0
     return AucShortfall(auc=result.auc, reference=float(reference), std_error=result.std_error,
                         reference_std_error=float(reference_std_error), z=float(z), p_value=float(special.ndtr(z)))
+
+
+@dataclass(frozen=True, eq=False)
+class PairedAucTest:
+    """Two scores' AUCs on the same applications, and the two-sided test that they differ.
+
+    Attributes
+    ----------
+    first, second : float
+        The AUC of each score.
+    difference : float
+        ``second − first``.
+    std_error : float
+        DeLong's standard error of the difference, with the covariance of the two on the same rows.
+    z, p_value : float
+        ``difference / std_error`` and its two-sided p-value.
+    """
+
+    first: float
+    second: float
+    difference: float
+    std_error: float
+    z: float
+    p_value: float
+
+
+def paired_auc_test(first, second, goods, bads) -> PairedAucTest:
+    """Test whether two scores of the same applications differ in AUC (DeLong's paired test).
+
+    Parameters
+    ----------
+    first, second : array_like, shape (n,)
+        Each application's (or each pattern's) two scores; higher means better.
+    goods, bads : array_like, shape (n,)
+        Weight of goods and of bads with those scores (a pattern may hold both).
+
+    Returns
+    -------
+    PairedAucTest
+
+    Raises
+    ------
+    ScorecardError
+        The arrays are misaligned or there are not more than one good and one bad in weight.
+
+    Notes
+    -----
+    With each good's placement ``V10_k`` (the share of bads it outscores on score k, ties half)
+    and each bad's ``V01_k`` (the share of goods that outscore it), ``S10_kl = Σ g (V10_k − A_k)
+    (V10_l − A_l) / (G − 1)`` and ``S01_kl`` alike over the bads; then ``var(A_2 − A_1) =
+    (S10_11 + S10_22 − 2 S10_12) / G + (S01_11 + S01_22 − 2 S01_12) / B`` (E. R. DeLong, D. M.
+    DeLong, D. L. Clarke-Pearson, Biometrics 44, 1988, the correlated case). Weights count as
+    frequencies, so a pattern table gives exactly what its rows give.
+    """
+    first, second = (np.asarray(v, dtype=float) for v in (first, second))
+    goods, bads = (np.asarray(v, dtype=float) for v in (goods, bads))
+    if not (first.shape == second.shape == goods.shape == bads.shape and first.ndim == 1):
+        raise ScorecardError("paired_auc_test: give four aligned 1-D arrays: two scores, goods and bads.")
+    n_goods, n_bads = goods.sum(), bads.sum()
+    if not (n_goods > 1 and n_bads > 1):
+        raise ScorecardError(f"paired_auc_test: {n_goods:g} goods and {n_bads:g} bads in weight; the test needs more "
+                             "than one of each.")
+    placements = [_row_placements(score, goods, bads) for score in (first, second)]
+    areas = [float(goods @ good_place / n_goods) for good_place, _ in placements]
+    good_dev = [good_place - area for (good_place, _), area in zip(placements, areas)]
+    bad_dev = [bad_place - area for (_, bad_place), area in zip(placements, areas)]
+
+    def spread(weights, left, right, n):
+        return float(weights @ (left * right) / (n - 1))
+
+    variance = ((spread(goods, good_dev[0], good_dev[0], n_goods) + spread(goods, good_dev[1], good_dev[1], n_goods)
+                 - 2 * spread(goods, good_dev[0], good_dev[1], n_goods)) / n_goods
+                + (spread(bads, bad_dev[0], bad_dev[0], n_bads) + spread(bads, bad_dev[1], bad_dev[1], n_bads)
+                   - 2 * spread(bads, bad_dev[0], bad_dev[1], n_bads)) / n_bads)
+    difference = areas[1] - areas[0]
+    std_error = float(np.sqrt(max(variance, 0.0)))
+    z = difference / std_error if std_error > 0 else (float(np.sign(difference) * np.inf) if difference else 0.0)
+    return PairedAucTest(areas[0], areas[1], difference, std_error, float(z), float(2 * special.ndtr(-abs(z))))
+
+
+def _row_placements(scores: np.ndarray, goods: np.ndarray, bads: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Each observation's placement as a good (share of bads below, ties half) and as a bad (share of goods above)."""
+    levels, inverse = np.unique(scores, return_inverse=True)
+    good_places, bad_places = _placements(np.bincount(inverse, weights=goods, minlength=len(levels)),
+                                          np.bincount(inverse, weights=bads, minlength=len(levels)))
+    return good_places[inverse], bad_places[inverse]
 
 
 def ks_statistic(scores, goods, bads) -> KsResult:

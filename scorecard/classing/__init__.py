@@ -17,11 +17,11 @@ from .bins import (
 )
 from .fine import fine_classing, quantile_cuts, roundest_between
 from .overrides import binning_from_settings, check_constraints, classing_settings_values, resolve_unseen
-from .passes import ClassedCharacteristic, ClassedLedger, class_ledger
+from .passes import ClassedCharacteristic, ClassedLedger, class_ledger, fine_binnings
 
 __all__ = [
     "MISSING_LABEL", "RARE_LABEL", "Binning", "ClassedCharacteristic", "ClassedLedger", "CoarseClassing", "ClassLimits",
     "binning_from_settings", "categorical_binning", "check_constraints", "class_ledger", "classing_settings_values",
-    "coarse_classing", "fine_classing", "format_number", "class_label", "interval_labels", "numeric_binning",
+    "coarse_classing", "fine_binnings", "fine_classing", "format_number", "class_label", "interval_labels", "numeric_binning",
     "best_classing", "keeps_shape", "merge_alike_neighbours", "Merging", "neighbour_p_values", "quantile_cuts", "resolve_unseen", "roundest_between", "worst_bin",
 ]

@@ -207,6 +207,12 @@ def _is_fixed(settings: Settings, name: str) -> bool:
     return spec.cuts is not None or spec.classes is not None
 
 
+def fine_binnings(ledger: Ledger, rows, settings: Settings, names: Sequence[str]) -> dict[str, Binning]:
+    """The fine binning of each named characteristic, as the tool's proposal starts from (the challenger uses them)."""
+    values, weights = rows.gather("classing", list(names))
+    return {name: _fine_binning(values[name], weights, ledger.characteristic(name), settings) for name in names}
+
+
 def _fine_binning(values, weights, char: Characteristic, settings: Settings) -> Binning:
     classing = settings.classing
     return fine_classing(values, weights, name=char.name, kind=char.kind, special_values=char.special_values,

@@ -660,7 +660,36 @@ def _discrimination(build, validation) -> dict:
                                                                  title=f"Goods and bads by score band, {name} sample"),
                                        f"Share of all goods and of all bads in each score band; {name} sample.")
         per_sample.append({"name": name, "ks": ks, "distribution": distribution, "gains": _gains_table(gains, labels, name)})
-    return {"headline": _headline_table(validation, decimals), "roc": roc, "samples": per_sample}
+    return {"headline": _headline_table(validation, decimals), "roc": roc, "samples": per_sample,
+            "challenger": _challenger(build)}
+
+
+def _challenger(build) -> dict:
+    """The scorecard against the challenger per sample, or why the challenger was not fitted."""
+    challenger = build.challenger
+    if challenger is None:
+        why = next((note for note in build.notes if note.startswith("The challenger was not fitted")), "")
+        return {"table": None, "text": why or "The challenger was not fitted."}
+    gap = build.settings.challenger.auc_gap
+    rows = [[name, interval_cell(c.scorecard), interval_cell(c.challenger), signed_text(c.paired.difference, 4),
+             fixed_text(c.paired.std_error, 4), fixed_text(c.paired.z, 2), p_value_text(c.paired.p_value)]
+            for name, c in challenger.comparisons.items()]
+    table = text_table(["sample", "scorecard AUC (95% interval)", "challenger AUC (95% interval)", "difference",
+                        "std error", "z", "p-value"], rows, numeric=range(3, 7),
+                       caption="Challenger minus scorecard, DeLong's paired test on the same applications (two-sided). "
+                               f"A challenger ahead by more than {gap:g} on the hold-out or out-of-time sample, "
+                               "significantly, is flagged (challenger.auc_gap, common practice, no source).")
+    text = (f"The challenger is a benchmark, never a model to deploy: every one of the {len(challenger.characteristics)} "
+            f"candidate characteristics on its fine bins, one indicator per bin ({challenger.n_indicators} in all), "
+            f"fitted by the same fitter with a ridge penalty (challenger.l2 = {challenger.l2:g}) on the development rows. "
+            "What it gains over the scorecard on honest samples is what the scorecard's format (few classes, a "
+            "monotone bad rate, few characteristics) costs; on development it always looks better.")
+    return {"table": table, "text": text}
+
+
+def interval_cell(result) -> str:
+    """An AUC with its interval: '0.7472 (0.7301 to 0.7636)'."""
+    return f"{fixed_text(result.auc, 4)} ({interval_text(result.lower, result.upper, 4)})"
 
 
 def _gains_table(gains, labels: Sequence[str], sample: str) -> Table:

@@ -130,7 +130,7 @@ def workbook(build, validation, *, model_checksum: str = "") -> Workbook:
     _overview_sheet(sheets[OVERVIEW], build, validation, counts_format, model_checksum)
     _fit_sheet(sheets[FIT], build)
     _selection_sheet(sheets[SELECTION], build)
-    _discrimination_sheet(sheets[DISCRIMINATION], validation, counts_format)
+    _discrimination_sheet(sheets[DISCRIMINATION], validation, counts_format, build.challenger)
     _calibration_sheet(sheets[CALIBRATION], validation, counts_format)
     _stability_sheet(sheets[STABILITY], build, validation, counts_format)
     _cutoffs_sheet(sheets[CUTOFFS], validation, counts_format)
@@ -492,7 +492,11 @@ def _selection_sheet(sheet: Worksheet, build) -> None:
 # Discrimination, calibration, stability, cut-offs
 
 
-def _discrimination_sheet(sheet: Worksheet, validation, counts_format: str) -> None:
+CHALLENGER_COLUMNS = ["Sample", "Scorecard AUC", "Scorecard std error", "Challenger AUC", "Challenger std error",
+                      "Difference", "Std error of the difference", "z", "p-value"]
+
+
+def _discrimination_sheet(sheet: Worksheet, validation, counts_format: str, challenger=None) -> None:
     sheet_heading(sheet, "Discrimination", "AUC (DeLong interval), Gini and KS per sample; score bands fixed on the "
                                            "development sample, riskiest first.")
     summary = pd.DataFrame([{
@@ -513,11 +517,33 @@ def _discrimination_sheet(sheet: Worksheet, validation, counts_format: str) -> N
                       formats={"Goods declined": RATE, "Bads declined": RATE})
     chance = write_frame(sheet, pd.DataFrame({"x": [0.0, 1.0], "y": [0.0, 1.0]}), column=max(roc.columns.values()) + 2,
                          caption="Chance line")
+    if challenger is not None:
+        _challenger_table(sheet, challenger, column=max(chance.columns.values()) + 2)
     anchor_row = placed.last_row + 3
     sheet.add_chart(_roc_chart(roc, chance, roc_frame["Sample"].tolist()), f"A{anchor_row}")
     sheet.add_chart(_distribution_chart(gains, validation), f"A{anchor_row + 20}")
     freeze_header(sheet)
     fit_widths(sheet)
+
+
+def _challenger_table(sheet: Worksheet, challenger, *, column: int) -> None:
+    """The scorecard against the challenger per sample; difference, z and p as live formulas over the AUCs and the
+    paired standard error (DeLong's, with the covariance of the two scores on the same rows)."""
+    letter = {name: get_column_letter(column + i) for i, name in enumerate(CHALLENGER_COLUMNS)}
+    rows = []
+    for offset, (name, c) in enumerate(challenger.comparisons.items()):
+        row = HEADER_ROW + 1 + offset
+        cell = {key: f"{letter[key]}{row}" for key in letter}
+        rows.append({"Sample": name, "Scorecard AUC": c.scorecard.auc, "Scorecard std error": c.scorecard.std_error,
+                     "Challenger AUC": c.challenger.auc, "Challenger std error": c.challenger.std_error,
+                     "Difference": Formula(f"{cell['Challenger AUC']}-{cell['Scorecard AUC']}"),
+                     "Std error of the difference": c.paired.std_error,
+                     "z": Formula(f"{cell['Difference']}/{cell['Std error of the difference']}"),
+                     "p-value": Formula(f"2*(1-NORMSDIST(ABS({cell['z']})))")})
+    frame = pd.DataFrame(rows, columns=CHALLENGER_COLUMNS, dtype=object)
+    write_frame(sheet, frame, column=column, caption="Against the challenger (fine bins, every candidate; DeLong paired)",
+                formats={"z": "0.00", "p-value": SMALL_P_VALUE,
+                         **dict.fromkeys(CHALLENGER_COLUMNS[1:7], AUC)})
 
 
 def _gains_frame(validation) -> pd.DataFrame:

@@ -350,7 +350,11 @@ class FairnessSettings:
 class ChallengerSettings:
     """The benchmark fitted beside the scorecard, to show what the scorecard's format costs."""
 
-    l2: float = _key(1.0, "ridge penalty of the challenger: fine bins, one indicator per bin", lambda v: v > 0, "a positive number")
+    l2: float = _key(
+        10.0, "ridge penalty of the challenger: fine bins, one indicator per bin, each pulled toward its "
+        "characteristic's average (a normal prior of standard deviation 1/sqrt(l2) on each bin's effect)",
+        lambda v: v > 0, "a positive number",
+    )
     auc_gap: float = _key(
         0.02, "a challenger AUC above the scorecard's by more than this, on an honest sample, is flagged (common "
         "practice, no source)", lambda v: v > 0, "a positive number",
