@@ -152,7 +152,7 @@ def _add_build(commands) -> None:
         "build", help="build the scorecard from a settings file (or straight from a ledger)",
         description=(
             "Build the scorecard the settings file describes: classing, selection, fit, points, checks. "
-            "Writes model.json, the resolved settings.toml, summary.txt, report.html and workbook.xlsx into the output folder. "
+            "Writes model.json, the resolved settings.toml, summary.txt, report.html, workbook.xlsx and model-document.html into the output folder. "
             "Given a ledger instead of a settings file, builds with the default settings and the proposed classing."
         ),
         formatter_class=argparse.RawDescriptionHelpFormatter,
@@ -172,10 +172,13 @@ def _add_build(commands) -> None:
                         help="read the ledger in batches, never whole (automatic above ledger.stream_above_mb); same result")
     parser.add_argument("--engine", metavar="NAME", help="read and count the rows with this engine: in-process, duckdb or spark "
                         "(default: ledger.engine)")
+    parser.add_argument("--previous", type=Path, metavar="MODEL", help="the model file this build replaces: the model "
+                        "document's change log sets the two side by side")
     _add_common(parser)
     parser.set_defaults(
         make_options=lambda a: BuildOptions(a.source, a.target, **_ledger_choices(a), out=a.out, force=a.force,
-                                            reports=a.reports, timings=a.timings, stream=a.stream, engine=a.engine),
+                                            reports=a.reports, timings=a.timings, stream=a.stream, engine=a.engine,
+                                            previous=a.previous),
     )
 
 

@@ -244,7 +244,7 @@ def ledger_ground(ledger, name: str, settings: Settings) -> str:
 
 
 # What a build writes, and what a monitoring run writes: each set replaces the one before it whole.
-BUILD_OUTPUTS = ("model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx")
+BUILD_OUTPUTS = ("model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx", "model-document.html")
 MONITOR_OUTPUTS = ("monitor.txt", "monitor.html", "monitor.xlsx")
 
 
@@ -272,6 +272,7 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
 def _build(options: BuildOptions, streams: Streams, settings: Settings, ledger_path: Path | None, place, out: Path, clock,
            timings: dict[str, float], read_whole: list[pd.DataFrame]) -> int:
     check_output_folder(out, options.force, outputs=BUILD_OUTPUTS)
+    previous = load_model(options.previous) if options.previous else None  # refused before the build, not after
     with clock("intake"):  # a ledger read whole to propose the settings is not read again (and not held after intake)
         ledger, rows = open_ledger(place, settings, stream=options.stream or None,
                                    already_read=read_whole.pop() if read_whole else None)
@@ -299,7 +300,7 @@ def _build(options: BuildOptions, streams: Streams, settings: Settings, ledger_p
             ]
         if options.reports:
             written += _write_build_reports(replace(build, settings=resolved), folder, clock, options, out,
-                                            document_checksum(document))
+                                            document_checksum(document), previous)
     if options.timings:
         print(json.dumps({stage: round(seconds, 4) for stage, seconds in timings.items()}), file=streams.err)
     streams.say(summary)
@@ -318,10 +319,12 @@ def _say_read(streams: Streams, ledger, place, rows, settings: Settings) -> None
         streams.note(f"{ledger.source}: {ledger.n_rows:,} rows, read in batches of about {settings.ledger.batch_rows:,} rows")
 
 
-def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out: Path, model_checksum: str) -> list[Path]:
-    """Run every validation check and write the HTML report and the workbook into ``folder``."""
+def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out: Path, model_checksum: str,
+                         previous=None) -> list[Path]:
+    """Run every validation check and write the HTML report, the workbook and the model document into ``folder``."""
     from .report.build_page import write_report
     from .report.build_sheets import write_workbook
+    from .report.model_document import write_model_document
     from .validation import validate_build
 
     with clock("checks"):
@@ -331,7 +334,10 @@ def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out:
         report = write_report(build, validation, folder / "report.html", generated_by=command, model_checksum=model_checksum)
     with clock("workbook"):
         book = write_workbook(build, validation, folder / "workbook.xlsx", model_checksum=model_checksum)
-    return [report, book]
+    with clock("model document"):
+        paper = write_model_document(build, validation, folder / "model-document.html", previous=previous,
+                                        previous_name=str(options.previous) if options.previous else "")
+    return [report, book, paper]
 
 
 def _build_settings(options: BuildOptions) -> tuple[Settings, Path | None, pd.DataFrame | None]:

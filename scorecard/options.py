@@ -108,6 +108,7 @@ class BuildOptions:
     timings: bool = False
     stream: bool = False
     engine: str | None = None
+    previous: Path | None = None
 
 
 @dataclass(frozen=True)

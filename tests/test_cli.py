@@ -570,7 +570,7 @@ def test_a_check_that_cannot_be_computed_is_reported_and_the_build_goes_on(case,
                           *options, "--out", out, "--quiet")
     assert code == 0, stderr
     assert sorted(path.name for path in out.iterdir()) == sorted(
-        ["model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx"])
+        ["model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx", "model-document.html"])
     samples = json.loads((out / "model.json").read_text())["ledger"]["samples"]
     expected = NOT_COMPUTED_CASES[case].format(goods=f"{samples['hold-out']['good']:g}")
     summary = pages.Page((out / "report.html").read_text(encoding="utf-8")).section("summary")
