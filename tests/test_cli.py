@@ -419,19 +419,20 @@ def test_a_build_straight_from_a_ledger_reads_the_file_once_and_gives_the_settin
 
 
 def test_a_build_that_fails_half_way_leaves_the_output_folder_as_it_was(ledger_csv, tmp_path, monkeypatch):
-    from scorecard.report import build_sheets
+    from scorecard.report import model_document
 
     out = tmp_path / "run1"
     code, _, stderr = run("build", ledger_csv, "--target", "outcome", "--bad", "bad", "--out", out, "--quiet")
     assert code == 0, stderr
     before = {path.name: path.read_bytes() for path in out.iterdir()}
-    assert set(before) == {"model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx"}
+    assert set(before) == {"model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx",
+                           "model-document.html"}
 
     def broken(*args, **kwargs):
-        raise OSError(28, "No space left on device", str(out / "workbook.xlsx"))
+        raise OSError(28, "No space left on device", str(out / "model-document.html"))
 
     # the last output of the set fails, after the model file, the settings and both reports were written
-    monkeypatch.setattr(build_sheets, "write_workbook", broken)
+    monkeypatch.setattr(model_document, "write_model_document", broken)
     code, _, stderr = run("build", ledger_csv, "--target", "outcome", "--bad", "bad", "--holdout", "0.5",
                           "--out", out, "--force", "--quiet")
     assert code == 2 and "No space left on device" in stderr
