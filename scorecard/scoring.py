@@ -14,7 +14,7 @@ import pandas as pd
 
 from .classing import Binning
 from .errors import LedgerError
-from .intake import check_numbers
+from .intake import check_finite_values, check_numbers
 from .points import PointsTable
 from .rows import code_rows, score_codes, unseen_levels
 from .rows.inprocess import THREADS
@@ -88,7 +88,9 @@ class Scorecard:
             )
         for binning in self.binnings:
             if binning.kind == NUMERIC:
-                check_numbers(frame[binning.characteristic], name=binning.characteristic, source=source, first_row=first_row)
+                column = frame[binning.characteristic]
+                check_numbers(column, name=binning.characteristic, source=source, first_row=first_row)
+                check_finite_values(column, name=binning.characteristic, source=source, first_row=first_row)
         wide = any(max(b.n_bins, b.unseen_bin + 1) > 255 for b in self.binnings)
         codes = np.empty((len(frame), len(self.binnings)), dtype=np.uint16 if wide else np.uint8, order="F")
         if len(self.binnings):

@@ -331,8 +331,8 @@ def test_kind_override_on_numeric_codes():
 def test_numeric_kind_on_a_text_column_is_an_error():
     frame = with_outcome(["good", "bad"] * 10, home=["own", "rent"] * 10)
     settings = SETTINGS.replace(characteristics={"home": CharacteristicSettings(kind="numeric")})
-    with pytest.raises(LedgerError, match=r"column 'home', rows 2, 3, 4, 5, 6 and 15 more: 'own' is not a number, and the "
-                                          r"column is numeric \(its kind in the settings or the model\)"):
+    with pytest.raises(LedgerError, match=r"column 'home', rows 2, 3, 4, 5, 6 and 15 more: the column is read as numbers, but "
+                                          r"these rows hold text \('own', 'rent'\)"):
         prepare_ledger(frame, settings)
 
 

@@ -14,7 +14,7 @@ user sees them (the header is row 1).
 """
 
 from .kinds import (
-    check_numbers, closest_names, detect_kind, ground_of, looks_like_identifier_or_date, protected_ground, unusable_reason,
+    check_finite_values, check_numbers, closest_names, detect_kind, ground_of, looks_like_identifier_or_date, protected_ground, unusable_reason,
 )
 from .ledger import Characteristic, Fingerprint, Ledger, RejectedRows, fingerprint_of
 from .prepare import (
@@ -25,7 +25,7 @@ from .roles import default_outcome_mapping, outcome_key, unit_weights
 from .samples import split_samples
 
 __all__ = [
-    "Characteristic", "Fingerprint", "Ledger", "check_numbers", "closest_names", "columns_of", "csv_delimiter",
+    "Characteristic", "Fingerprint", "Ledger", "check_finite_values", "check_numbers", "closest_names", "columns_of", "csv_delimiter",
     "default_outcome_mapping", "detect_kind", "fingerprint_of", "ground_of", "ledger_columns", "ledger_place",
     "looks_like_identifier_or_date", "open_batches", "open_ledger", "outcome_key", "prepare_ledger", "protected_ground",
     "read_batches", "read_ledger", "RejectedRows", "rows_in_memory", "split_samples", "stream_ledger", "unit_weights",

@@ -221,16 +221,19 @@ def looks_like_identifier_or_date(series: pd.Series, kind: str) -> str:
 def check_finite(frame: pd.DataFrame, characteristics: Sequence[Characteristic], source: str, *, first_row: int = 0) -> None:
     """Raise LedgerError naming a numeric characteristic with infinite values, its count and first rows."""
     for char in characteristics:
-        if char.kind != NUMERIC:
-            continue
-        values = frame[char.name].to_numpy(dtype=float, na_value=np.nan)
-        infinite = np.isinf(values)
-        if infinite.any():
-            rows = describe_rows((np.flatnonzero(infinite) + 2 + first_row).tolist())
-            raise LedgerError(
-                f"{source}, column {char.name!r}, {rows}: {int(infinite.sum())} infinite values. "
-                "Replace them with a number, leave them empty (missing), or declare a special value."
-            )
+        if char.kind == NUMERIC:
+            check_finite_values(frame[char.name], name=char.name, source=source, first_row=first_row)
+
+
+def check_finite_values(series: pd.Series, *, name: str, source: str, first_row: int = 0) -> None:
+    """Raise LedgerError when a numeric column holds infinite values (every command says the same)."""
+    infinite = np.isinf(series.to_numpy(dtype=float, na_value=np.nan))
+    if infinite.any():
+        rows = describe_rows((np.flatnonzero(infinite) + 2 + first_row).tolist())
+        raise LedgerError(
+            f"{source}, column {name!r}, {rows}: {int(infinite.sum())} infinite values. "
+            "Replace them with a number, leave them empty (missing), or declare a special value."
+        )
 
 
 def _refuse_numbers_with_some_text(series: pd.Series, name: str, source: str) -> None:
@@ -249,13 +252,7 @@ def _refuse_numbers_with_some_text(series: pd.Series, name: str, source: str) ->
     texts = (numbers.isna() & series.notna()).to_numpy()
     if texts.mean() > 1 - NUMBERS_SHARE or not texts.any():
         return
-    rows = np.flatnonzero(texts)
-    shown = ", ".join(repr(plain(v)) for v in pd.unique(series.iloc[rows[:50]])[:3])
-    raise LedgerError(
-        f"{source}, column {name!r}, {describe_rows((rows + 2).tolist())}: the column holds numbers, but these rows "
-        f"hold text ({shown}). Correct them (leave a cell empty for missing), "
-        f"or set kind = \"categorical\" under [characteristics.{name}] if the column is a category."
-    )
+    raise _text_in_numbers(series, np.flatnonzero(texts), name, source)
 
 
 def _looks_like_dates(present: pd.Series) -> bool:
@@ -283,11 +280,17 @@ def check_numbers(series: pd.Series, *, name: str, source: str, first_row: int =
     else:
         wrong = np.flatnonzero(present & pd.to_numeric(series.astype(object), errors="coerce").isna().to_numpy())
     if len(wrong):
-        raise LedgerError(
-            f"{source}, column {name!r}, {describe_rows(wrong + first_row + 2)}: {plain(series.iloc[wrong[0]])!r} is not a "
-            "number, and the column is numeric (its kind in the settings or the model). Correct those cells or leave "
-            "them empty; if the column holds text, set kind = \"categorical\" and build again."
-        )
+        raise _text_in_numbers(series, wrong, name, source, first_row)
+
+
+def _text_in_numbers(series: pd.Series, rows: np.ndarray, name: str, source: str, first_row: int = 0) -> LedgerError:
+    """The one message for text in a column of numbers, whichever command meets it."""
+    shown = ", ".join(repr(plain(v)) for v in pd.unique(series.iloc[rows[:50]])[:3])
+    return LedgerError(
+        f"{source}, column {name!r}, {describe_rows((rows + 2 + first_row).tolist())}: the column is read as numbers, but "
+        f"these rows hold text ({shown}). Correct them (leave a cell empty for missing), or set kind = \"categorical\" "
+        f"under [characteristics.{name}] if the column is a category (and build again)."
+    )
 
 
 def _numeric_or_empty(series: pd.Series) -> bool:

@@ -139,6 +139,10 @@ def _read_frame(path: Path, suffix: str, columns: Sequence[str] | None) -> pd.Da
     if suffix in (".parquet", ".pq"):
         _refuse_nested(path, usecols)
     try:
+        if suffix in (".csv", ".txt") and usecols is not None:
+            # pyarrow's parser checks every row's fields even when it keeps a few columns (pandas' own lets
+            # a row with an extra field pass), so a ledger gets the same verdict read whole or in part
+            return pd.read_csv(path, usecols=usecols, encoding="utf-8-sig", sep=csv_delimiter(path), engine="pyarrow")
         if suffix in (".csv", ".txt"):
             return pd.read_csv(path, usecols=usecols, encoding="utf-8-sig", low_memory=False, sep=csv_delimiter(path))
         if suffix in (".parquet", ".pq"):
@@ -156,6 +160,10 @@ def _unreadable(path: Path, error: Exception) -> LedgerError:
     """Say why a reader failed, on one line; a row with too many fields by its row number."""
     text = " ".join(str(error).split())
     fields = re.search(r"Expected (\d+) fields in line (\d+), saw (\d+)", text)
+    arrow = re.search(r"Expected (\d+) columns, got (\d+): (.*)", str(error))  # pyarrow names the row by its text
+    if arrow:
+        line = next((number for number, row in enumerate(_lines(path), start=1) if row == arrow[3]), "?")
+        fields = {1: arrow[1], 2: str(line), 3: arrow[2]}
     if fields:
         expected, line, saw = fields[1], fields[2], fields[3]
         return LedgerError(f"{path.name}, row {line}: {saw} fields where the header names {expected}. A value may hold "
@@ -163,12 +171,23 @@ def _unreadable(path: Path, error: Exception) -> LedgerError:
     return LedgerError(f"{path.name}: cannot read the file ({type(error).__name__}: {text}). Check it opens and is not damaged.")
 
 
+def _lines(path: Path):
+    with path.open(encoding="utf-8-sig", errors="replace", newline="") as stream:
+        for row in stream:
+            yield row.rstrip("\r\n")
+
+
 def check_column_names(names: list[str], source: str) -> None:
-    """Refuse a ledger without column names, or with a name given twice."""
+    """Refuse a ledger without column names, with a column without a name, or with a name given twice."""
     if not names or all(not n.strip() for n in names):
         raise LedgerError(f"{source}: no header row with column names. The first row must name the columns.")
     seen: dict[str, int] = {}
     for position, column in enumerate(names, start=1):
+        if not column.strip():
+            raise LedgerError(
+                f"{source}: column {position} of the header has no name. Name it, or remove the column (a spreadsheet's "
+                "or pandas' row index is often written so)."
+            )
         if column in seen:
             raise LedgerError(
                 f"{source}: column name {column!r} appears twice (columns {seen[column]} and {position}). Rename one so every column name is unique."
