@@ -54,8 +54,11 @@ def _init(options: InitOptions, streams: Streams) -> int:
         raise SettingsError(f"{out}: the settings file exists already. Pass --force to overwrite it, or choose another name with --out.")
     frame = read_ledger(options.ledger)
     source = options.ledger.name
-    settings = _initial_settings(frame, options, source)
+    chosen: list[str] = []
+    settings = _initial_settings(frame, options, source, chosen)
     streams.note(f"read {len(frame):,} rows and {frame.shape[1]} columns from {source}")
+    for note in (*frame.attrs.get("notes", ()), *chosen):
+        streams.note(note)
     outcome = settings.outcome
     streams.note(f"outcome {outcome.column!r}: bad = {list(outcome.bad)}, good = {list(outcome.good)}"
                  + (f", indeterminate = {list(outcome.indeterminate)}" if outcome.indeterminate else "")
@@ -69,6 +72,7 @@ def _init(options: InitOptions, streams: Streams) -> int:
         "Edit any value, then run: scorewright build " + str(out) + "\n"
         "Every classing below is a proposal (the classing with the largest information value that meets the limits);\n"
         "change cuts or classes to decide yourself. Keys left out take their defaults."
+        + "".join(f"\n{note}" for note in chosen)
     )
     write_settings(settings, out, comments=comments, header=header)
     streams.say(iv_table(classed, ledger.left_out))
@@ -77,31 +81,44 @@ def _init(options: InitOptions, streams: Streams) -> int:
     return EXIT_OK
 
 
-def _initial_settings(frame, options: InitOptions, source: str) -> Settings:
+def _initial_settings(frame, options: InitOptions, source: str, chosen: list[str]) -> Settings:
     """Settings from the command line: outcome mapping, role columns, special values."""
     return command_line_settings(
         frame, ledger=options.ledger, target=options.target, bad=options.bad, good=options.good,
         indeterminate=options.indeterminate, id_column=options.id_column, date_column=options.date_column,
         weight_column=options.weight_column, special=options.special, folder=options.out.resolve().parent, source=source,
         leave_out=options.leave_out, out_of_time_from=options.out_of_time_from, holdout=options.holdout,
-        rejected=options.rejected,
+        rejected=options.rejected, chosen=chosen,
     )
 
 
 def command_line_settings(frame, *, ledger: Path, target: str, bad=(), good=(), indeterminate=(), id_column=None,
                           date_column=None, weight_column=None, special=(), folder: Path, source: str, leave_out=(),
-                          out_of_time_from: str = "", holdout: float | None = None, rejected: str = "") -> Settings:
-    """Return settings for a ledger from command-line choices, detecting the id and date columns."""
+                          out_of_time_from: str = "", holdout: float | None = None, rejected: str = "",
+                          chosen: list[str] | None = None) -> Settings:
+    """Return settings for a ledger from command-line choices, detecting the id and date columns.
+
+    A column the tool takes as the id or the date column is never taken silently: ``chosen``
+    receives a sentence for each, which the commands say on the terminal and in the report.
+    """
     columns = [str(c) for c in frame.columns]
     if target not in columns:
         raise LedgerError(f"{source}: outcome column {target!r} not found.{closest_names(target, columns)}")
     choice = InitOptions(ledger=ledger, target=target, bad=tuple(bad), good=tuple(good), indeterminate=tuple(indeterminate),
                          id_column=id_column, date_column=date_column, weight_column=weight_column)
     bad, good = _outcome_lists(frame[target], choice, source)
+    said = [] if chosen is None else chosen
     if id_column is None:
         id_column = _detect_role(frame, choice, "identifier")
+        if id_column:
+            why = looks_like_identifier_or_date(frame[id_column], detect_kind(frame[id_column]))
+            said.append(f"column {id_column!r} was taken as the id column ({why}): it is never a characteristic. "
+                        "Name another with --id COLUMN if it is not the applications' id.")
     if date_column is None:
         date_column = _detect_role(frame, choice, "dates")
+        if date_column:
+            said.append(f"column {date_column!r} was taken as the date column: it is never a characteristic. "
+                        "Name another with --date COLUMN if it is not the application date.")
     specials = _special_values(special, columns, source)
     samples = {"out_of_time_from": out_of_time_from}
     if holdout is not None:
@@ -252,7 +269,8 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     """Build the scorecard and write the model file, the resolved settings and the reports, as one set."""
     timings: dict[str, float] = {}
     clock = Stopwatch(timings)
-    settings, ledger_path, frame = _build_settings(options)
+    chosen: list[str] = []  # what the quick path took by itself (the id, the date column): said, never silent
+    settings, ledger_path, frame = _build_settings(options, chosen)
     if options.engine:
         if options.engine not in ENGINES:
             raise SettingsError(f"--engine {options.engine}: not an engine; use one of {', '.join(ENGINES)}.")
@@ -266,11 +284,11 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
     read_whole = [frame] if frame is not None else []  # handed over whole, so that intake can let it go
     del frame
     with claiming(out):
-        return _build(options, streams, settings, ledger_path, place, out, clock, timings, read_whole)
+        return _build(options, streams, settings, ledger_path, place, out, clock, timings, read_whole, chosen)
 
 
 def _build(options: BuildOptions, streams: Streams, settings: Settings, ledger_path: Path | None, place, out: Path, clock,
-           timings: dict[str, float], read_whole: list[pd.DataFrame]) -> int:
+           timings: dict[str, float], read_whole: list[pd.DataFrame], chosen: list[str]) -> int:
     check_output_folder(out, options.force, outputs=BUILD_OUTPUTS)
     previous = load_model(options.previous) if options.previous else None  # refused before the build, not after
     with clock("intake"):  # a ledger read whole to propose the settings is not read again (and not held after intake)
@@ -282,6 +300,9 @@ def _build(options: BuildOptions, streams: Streams, settings: Settings, ledger_p
                                 timings=timings)
     finally:
         rows.close()
+    for note in chosen:
+        streams.note(note)
+    build = replace(build, notes=(*chosen, *build.notes))  # the report's notes say it too
     path = os.path.relpath(ledger_path.resolve(), out.resolve()) if ledger_path else ""
     resolved = replace(build.settings, ledger=replace(build.settings.ledger, path=path))
     summary = build_summary(build)
@@ -317,6 +338,9 @@ def _say_read(streams: Streams, ledger, place, rows, settings: Settings) -> None
         streams.note(f"read {ledger.n_rows:,} rows and {len(ledger.frame.columns)} columns from {ledger.source}")
     else:
         streams.note(f"{ledger.source}: {ledger.n_rows:,} rows, read in batches of about {settings.ledger.batch_rows:,} rows")
+    for note in ledger.notes:
+        if note.endswith("were read as numbers."):  # how the file was read is said as it is read
+            streams.note(note)
 
 
 def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out: Path, model_checksum: str,
@@ -340,7 +364,7 @@ def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out:
     return [report, book, paper]
 
 
-def _build_settings(options: BuildOptions) -> tuple[Settings, Path | None, pd.DataFrame | None]:
+def _build_settings(options: BuildOptions, chosen: list[str]) -> tuple[Settings, Path | None, pd.DataFrame | None]:
     """The build's settings, the ledger file they name, and the ledger when it was read whole to propose them."""
     source = options.source
     if source.is_dir():
@@ -364,7 +388,7 @@ def _build_settings(options: BuildOptions) -> tuple[Settings, Path | None, pd.Da
         indeterminate=options.indeterminate, id_column=options.id_column, date_column=options.date_column,
         weight_column=options.weight_column, special=options.special, folder=source.resolve().parent, source=source.name,
         leave_out=options.leave_out, out_of_time_from=options.out_of_time_from, holdout=options.holdout,
-        rejected=options.rejected,
+        rejected=options.rejected, chosen=chosen,
     )
     return settings, source, frame
 

@@ -749,3 +749,85 @@ def test_every_command_gives_a_ledger_the_same_verdict(case, built, tmp_path):
         assert code == 2 and re.search(message, stderr), (argv[0], stderr)
     assert sorted(p.name for p in tmp_path.iterdir()) == ["ledger.csv"]
     TALLY[f"one grammar: {case}"] = (len(verdicts), sum(ok for _, ok in verdicts))
+
+
+# --------------------------------------------------------------------------------------------
+# 4. No silent misread
+
+
+def test_numbers_written_with_separators_are_read_as_numbers_and_the_convention_is_said(tmp_path):
+    frame = _ledger(2000, seed=21)
+    income = frame["income"]
+    for name, thousands, decimal, separator in (("comma.csv", ",", ".", ","), ("dot.csv", ".", ",", ";")):
+        written = frame.assign(income=[f"{v:,.2f}".replace(",", "T").replace(".", decimal).replace("T", thousands)
+                                       if v == v else "" for v in income])
+        written.to_csv(tmp_path / name, index=False, sep=separator)
+        models = []
+        for extra in ((), ("--stream",)):
+            out = tmp_path / f"{name}{len(extra)}"
+            code, stdout, stderr = run("build", tmp_path / name, *QUICK, "--id", "app_id", *extra, "--out", out)
+            assert code == 0, stderr
+            assert f"numbers written with '{thousands}' between thousands and '{decimal}' before decimals" in stderr
+            document = json.loads((out / "model.json").read_text(encoding="utf-8"))
+            assert _char(document, "income")["kind"] == "numeric"
+            assert "were read as numbers" in (out / "report.html").read_text(encoding="utf-8")
+            models.append(json.dumps(document["characteristics"]))
+        assert models[0] == models[1]  # read whole or in batches, the same characteristics
+    TALLY["numbers with separators read, convention said"] = (4, 4)
+
+
+def test_a_convention_that_cannot_be_told_and_numbers_with_a_few_words_are_refused_not_taken_as_ids(tmp_path):
+    frame = _ledger(2000, seed=22).drop(columns=["app_id"])
+    ambiguous = frame.assign(income=[f"{int(v):,}" if v == v and v >= 1000 else "7" for v in frame["income"]])
+    ambiguous.to_csv(tmp_path / "ambiguous.csv", index=False)
+    code, _, stderr = run("init", tmp_path / "ambiguous.csv", *QUICK, "--out", tmp_path / "a.toml")
+    assert code == 2 and "read one way with ',' between thousands" in stderr
+    words = frame.assign(income=frame["income"].round(2).astype(object))
+    words.loc[[10, 700, 1900], "income"] = "unknown"
+    words.to_csv(tmp_path / "words.csv", index=False)
+    code, _, stderr = run("init", tmp_path / "words.csv", *QUICK, "--out", tmp_path / "w.toml")
+    assert code == 2 and "column 'income', rows 12, 702 and 1902: the column is read as numbers" in stderr
+    assert "taken as the id column" not in stderr
+    TALLY["numbers misread as an id"] = (2, 2)
+
+
+def test_a_column_taken_as_the_id_is_said_on_the_terminal_the_settings_and_the_report(built, tmp_path):
+    _, ledger, _ = built
+    code, _, stderr = run("init", ledger, *QUICK, "--out", tmp_path / "s.toml")
+    said = "column 'app_id' was taken as the id column (it looks like an identifier (1500 distinct values in 1500 rows))"
+    assert code == 0 and said in stderr
+    assert said in (tmp_path / "s.toml").read_text(encoding="utf-8")
+    code, _, stderr = run("build", ledger, *QUICK, "--out", tmp_path / "quick")
+    assert code == 0 and said in stderr
+    assert "was taken as the id column" in (tmp_path / "quick" / "report.html").read_text(encoding="utf-8")
+    TALLY["an id column chosen, said"] = (3, 3)
+
+
+def test_free_text_is_left_out_and_no_applicant_text_reaches_an_output(tmp_path):
+    frame = _ledger(2000, seed=23)
+    rng = np.random.default_rng(23)
+    employers = np.array([f"Employer {i} {chr(65 + i % 26)}{i * 7919 % 10007}" for i in range(1100)], dtype=object)
+    frame["employer"] = rng.permutation(np.concatenate([employers, employers[rng.integers(0, 1100, 900)]]))  # 55% distinct
+    frame["comment"] = "short"
+    frame.loc[17, "comment"] = "x" * 10_000_000  # one cell of 10 MB
+    ledger = tmp_path / "ledger.csv"
+    frame.to_csv(ledger, index=False)
+    code, stdout, stderr = run("build", ledger, *QUICK, "--id", "app_id", "--out", tmp_path / "run")
+    assert code == 0, stderr
+    document = json.loads((tmp_path / "run" / "model.json").read_text(encoding="utf-8"))
+    left = {entry["characteristic"]: entry for entry in document["selection_log"] if entry.get("characteristic") in ("employer", "comment")}
+    assert set(left) == {"employer", "comment"}
+    assert "free text" in json.dumps(left["employer"]) and "free text: values up to 10,000,000 characters" in json.dumps(left["comment"])
+    for path in (tmp_path / "run").iterdir():
+        assert path.stat().st_size < 5_000_000, path.name
+        text = path.read_bytes()
+        assert b"xxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxx" not in text and b"Employer 1" not in text, path.name
+    TALLY["free text kept out of every output"] = (2, 2)
+
+
+def test_a_label_carries_a_bounded_number_of_levels():
+    from scorecard.classing.bins import class_label
+
+    label = class_label([f"level {i}" for i in range(5000)])
+    assert label.endswith(" and 4,988 more") and len(label) < 200
+    assert len(class_label(["y" * 1_000_000])) == 60

@@ -225,9 +225,21 @@ def _whole_span(first: int, last: int) -> str:
     return str(first) if first == last else f"{first} to {last}"
 
 
+# A label carries at most this many levels, each cut to LEVEL_CHARACTERS: a class of thousands of
+# levels, or a level of a megabyte, must not be copied whole into every report (the model file
+# keeps every level; scoring needs them)
+LABEL_LEVELS, LEVEL_CHARACTERS = 12, 60
+
+
 def class_label(levels: Sequence[str]) -> str:
-    """Return a class's label: its levels joined by commas."""
-    return ", ".join(str(level) for level in levels)
+    """Return a class's label: its levels joined by commas (the first ``LABEL_LEVELS``, then how many more)."""
+    shown = [_cut(str(level)) for level in levels[:LABEL_LEVELS]]
+    more = len(levels) - len(shown)
+    return ", ".join(shown) + (f" and {more:,} more" if more > 0 else "")
+
+
+def _cut(text: str) -> str:
+    return text if len(text) <= LEVEL_CHARACTERS else text[:LEVEL_CHARACTERS - 1] + "…"
 
 
 def format_number(value: float) -> str:

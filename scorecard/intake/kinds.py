@@ -29,6 +29,12 @@ IDENTIFIER_SHARE = 0.95
 IDENTIFIER_MIN_ROWS = 20
 ROLE_SAMPLE_ROWS = 20_000  # identifiers are judged on this many first rows (a streamed ledger's kinds on as many)
 NUMBERS_SHARE = 0.95  # a text column whose values are nearly all numbers is numbers with a few values typed as text
+# A text column is free text, left out unless the settings keep it, when a level is longer than
+# LONGEST_LEVEL characters, or it has more than MOST_LEVELS levels, or at least FREE_TEXT_MIN_LEVELS
+# that are FREE_TEXT_SHARE of its rows or more (common practice, no source)
+LONGEST_LEVEL = 200
+MOST_LEVELS = 5_000
+FREE_TEXT_MIN_LEVELS, FREE_TEXT_SHARE = 50, 0.5
 
 
 def role_columns(frame: pd.DataFrame, settings: Settings, source: str, require_outcome: bool) -> set[str]:
@@ -90,6 +96,9 @@ def choose_characteristics(frame: pd.DataFrame, settings: Settings, roles: set[s
             _refuse_numbers_with_some_text(series, name, source)
         if spec.use == "" and (why := looks_like_identifier_or_date(series, kind)):
             left_out[name] = f"{why}; set use = \"auto\" under [characteristics.{name}] to keep it"
+            continue
+        if spec.use == "" and kind == CATEGORICAL and (why := free_text_reason(series)):
+            left_out[name] = f"{why}; set use = \"auto\" under [characteristics.{name}] to class it anyway"
             continue
         if kind == NUMERIC:
             check_numbers(series, name=name, source=source)
@@ -206,6 +215,8 @@ def looks_like_identifier_or_date(series: pd.Series, kind: str) -> str:
         return ""
     if kind == CATEGORICAL and _looks_like_dates(present):
         return "it holds dates"
+    if kind == CATEGORICAL and _mostly_numbers(present):
+        return ""  # numbers with a few values typed as text: refused by name where it is read, never an id
     # judged on the first rows with a value, as a ledger read in batches is judged on its first rows: the same
     # answer both ways, and no hash of every value of every column
     sample = present.iloc[:ROLE_SAMPLE_ROWS]
@@ -291,6 +302,29 @@ def _text_in_numbers(series: pd.Series, rows: np.ndarray, name: str, source: str
         f"these rows hold text ({shown}). Correct them (leave a cell empty for missing), or set kind = \"categorical\" "
         f"under [characteristics.{name}] if the column is a category (and build again)."
     )
+
+
+def _mostly_numbers(present: pd.Series) -> bool:
+    sample = present.iloc[:10_000]
+    return not pd.api.types.is_bool_dtype(sample) and pd.to_numeric(sample, errors="coerce").notna().mean() >= NUMBERS_SHARE
+
+
+def free_text_reason(series: pd.Series) -> str:
+    """Say why a text column is free text rather than a category (too many levels, or long values), or return ''.
+
+    Classing it would put each applicant's own words into the model file, the settings and every
+    report; it is left out unless the settings keep it.
+    """
+    present = series.dropna()
+    if present.empty or pd.api.types.is_bool_dtype(series):
+        return ""
+    longest = int(present.astype(str).str.len().max())
+    if longest > LONGEST_LEVEL:
+        return f"free text: values up to {longest:,} characters long (a category's levels are short)"
+    n_levels = int(present.nunique())
+    if n_levels > MOST_LEVELS or (n_levels >= FREE_TEXT_MIN_LEVELS and n_levels >= FREE_TEXT_SHARE * len(present)):
+        return f"free text: {n_levels:,} different values in {len(present):,} rows (too many levels to class)"
+    return ""
 
 
 def _numeric_or_empty(series: pd.Series) -> bool:

@@ -151,6 +151,7 @@ def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "Da
     roles = role_columns(frame, settings, source, require_outcome)
     characteristics, left_out = choose_characteristics(frame, settings, roles, source)
     check_finite(frame, characteristics, source)
+    read_notes = list(frame.attrs.get("notes", ()))  # how the file was read (numbers written with separators)
     outcome, weight, dates = role_values(frame, settings, source)
     repairs = check_roles(outcome, weight, settings, source, require_outcome=require_outcome)
     if fingerprint is None:
@@ -168,7 +169,7 @@ def prepare_ledger(frame: pd.DataFrame, settings: Settings, *, source: str = "Da
     ids = frame[settings.ledger.id_column].to_numpy() if settings.ledger.id_column else None
     protected = {name: protected_levels(frame[name]) for name in protected_columns(settings, frame.columns)}
     kept = frame[[c.name for c in characteristics]]
-    notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
+    notes = [*read_notes, *repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
     if rejects is not None:
         notes.append(f"{source}: {rejects.n_rows:,} rejected applications set apart from the samples "
                      f"({int(rejects.in_time.sum()):,} made in time); reject inference: {settings.rejects.method}.")
@@ -226,6 +227,7 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
     head = read_head(path, suffix)
     if len(head) == 0:
         raise LedgerError(f"{source_name}: the file has a header but no data rows. Export the ledger again with its data.")
+    read_notes = list(head.attrs.get("notes", ()))
     roles = role_columns(head, settings, source_name, require_outcome)
     characteristics, left_out = choose_characteristics(head, settings, roles, source_name)
     types = arrow_types(head, exact=[settings.ledger.id_column])
@@ -282,7 +284,7 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
     sample = split_samples(outcome, dates, settings, keys=keys, tie_texts=tie_texts, source=source_name)
     subsamples = draw_subsamples(sample, outcome, keys, settings, tie_texts=tie_texts) if drawn else {}
     del keys
-    notes = [*repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
+    notes = [*read_notes, *repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
     for note in repairs:
         warnings.warn(note, ScorecardWarning, stacklevel=2)
     ledger = Ledger(

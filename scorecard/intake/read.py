@@ -66,7 +66,7 @@ def read_ledger(source: str | os.PathLike[str] | pd.DataFrame, *, columns: Seque
     frame = _read_frame(path, suffix, columns)
     if len(frame) == 0:
         raise LedgerError(f"{path.name}: the file has a header but no data rows. Export the ledger again with its data.")
-    return frame
+    return with_numbers_read(frame, separator_styles(frame, path.name))
 
 
 def ledger_columns(source: str | os.PathLike[str]) -> list[str]:
@@ -196,6 +196,12 @@ def check_column_names(names: list[str], source: str) -> None:
 
 
 def read_head(path: Path, suffix: str) -> pd.DataFrame:
+    """The first ``HEAD_ROWS`` rows, numbers written with separators read as numbers (``separator_styles``)."""
+    head = _raw_head(path, suffix)
+    return with_numbers_read(head, separator_styles(head, path.name))
+
+
+def _raw_head(path: Path, suffix: str) -> pd.DataFrame:
     try:
         if suffix in (".parquet", ".pq"):
             import pyarrow.parquet as pq
@@ -260,11 +266,17 @@ def _true_or_false(series: pd.Series) -> bool:
 
 
 def file_batches(path: Path, suffix: str, columns: list[str], types: dict[str, object], batch_rows: int):
-    """Yield (first row, frame) over a CSV or Parquet file, reading only ``columns``."""
+    """Yield (first row, frame) over a CSV or Parquet file, reading only ``columns``.
+
+    Columns of numbers written with separators (judged on the first rows, as ``read_head`` does)
+    are read as text and turned into numbers batch by batch.
+    """
+    styles = {name: style for name, style in separator_styles(_raw_head(path, suffix), path.name).items() if name in columns}
+    types = {**types, **{name: _text_type() for name in styles}}
     first_row = 0
     try:
         for batch in _arrow_batches(path, suffix, columns, types, batch_rows):
-            frame = batch.to_pandas()
+            frame = with_numbers_read(batch.to_pandas(), styles, notes=False)
             yield first_row, frame
             first_row += len(frame)
     except LedgerError:
@@ -274,6 +286,98 @@ def file_batches(path: Path, suffix: str, columns: list[str], types: dict[str, o
             f"{path.name}, after row {first_row + 1}: cannot read the next rows ({type(error).__name__}: {error}). "
             "A column may hold text where the first rows hold numbers; fix the file or set the column's kind."
         ) from None
+
+
+# The two ways a ledger writes numbers with separators (common practice, no source): the name said
+# to the user, the mark between thousands, the mark before decimals
+SEPARATOR_STYLES = (("',' between thousands and '.' before decimals", ",", "."),
+                    ("'.' between thousands and ',' before decimals", ".", ","))
+SEPARATED_SHARE = 0.95  # of a text column's values written so, for the column to be read as numbers
+STYLE_SAMPLE = 20_000  # values a column's style is judged on
+
+
+def separator_styles(frame: pd.DataFrame, source: str) -> dict[str, tuple[str, str, str]]:
+    """Return the text columns that hold numbers written with separators ('31,082.90', '31.082,90'), with the style.
+
+    A column qualifies when nearly all its values (``SEPARATED_SHARE``) are numbers in one style and
+    some of them carry a separator; the rest are left as they are (text in a column of numbers is
+    then refused by name, as anywhere). Never a silent guess: a column whose values fit both styles
+    with different values ('1,234') is refused.
+
+    Raises
+    ------
+    LedgerError
+        The style of a column cannot be told.
+    """
+    found = {}
+    for name in frame.columns:
+        column = frame[name]
+        if pd.api.types.is_numeric_dtype(column) or pd.api.types.is_bool_dtype(column) or \
+                pd.api.types.is_datetime64_any_dtype(column):
+            continue
+        values = column.dropna().head(STYLE_SAMPLE).astype(str).str.strip()
+        if values.empty or not values.str.contains(r"\d[.,]\d", regex=True).any():
+            continue
+        fitting = [style for style in SEPARATOR_STYLES
+                   if values.str.fullmatch(_separated(style)).mean() >= SEPARATED_SHARE and
+                   values.str.contains(re.escape(style[1]) + "|" + re.escape(style[2]), regex=True).any()]
+        if len(fitting) == 2:
+            differ = values[_as_numbers(values, fitting[0]) != _as_numbers(values, fitting[1])]
+            if not differ.empty:
+                raise LedgerError(
+                    f"{source}, column {str(name)!r}: numbers such as {differ.iloc[0]!r} read one way with "
+                    f"{fitting[0][0]} and another with {fitting[1][0]}. Write the numbers without a mark between "
+                    "thousands, with '.' before decimals."
+                )
+        if fitting:
+            found[str(name)] = fitting[0]
+    return found
+
+
+def with_numbers_read(frame: pd.DataFrame, styles: dict[str, tuple[str, str, str]], *, notes: bool = True) -> pd.DataFrame:
+    """Return ``frame`` with the columns of ``styles`` read as numbers; a value that is no number stays as it is.
+
+    With ``notes``, the frame's ``attrs['notes']`` say which columns were read so and how.
+    """
+    if not styles:
+        return frame
+    changed = {}
+    for name, style in styles.items():
+        column = frame[name]
+        numbers = _as_numbers(column.astype(str).str.strip(), style)
+        text = numbers.isna() & column.notna()
+        changed[name] = column.astype(object).where(text, numbers) if text.any() else numbers.astype(float)
+    read = frame.assign(**changed)
+    read.attrs = {**frame.attrs}
+    if notes:
+        read.attrs["notes"] = [*frame.attrs.get("notes", ()), *(
+            f"column {name!r}: numbers written with {style[0]} (as {_example(frame[name])!r}) were read as numbers."
+            for name, style in styles.items())]
+    return read
+
+
+def _separated(style: tuple[str, str, str]) -> str:
+    _, thousands, decimal = style
+    return rf"[+-]?(\d{{1,3}}({re.escape(thousands)}\d{{3}})+|\d+)({re.escape(decimal)}\d+)?"
+
+
+def _as_numbers(values: pd.Series, style: tuple[str, str, str]) -> pd.Series:
+    _, thousands, decimal = style
+    fitting = values.str.fullmatch(_separated(style)).fillna(False).astype(bool)
+    plain = values.str.replace(thousands, "", regex=False).str.replace(decimal, ".", regex=False)
+    return pd.to_numeric(plain.where(fitting), errors="coerce")
+
+
+def _example(column: pd.Series) -> str:
+    values = column.dropna().astype(str)
+    separated = values[values.str.contains(r"\d[.,]\d", regex=True)]
+    return str(separated.iloc[0] if not separated.empty else values.iloc[0])
+
+
+def _text_type():
+    import pyarrow as pa
+
+    return pa.string()
 
 
 def _block_bytes(path: Path, batch_rows: int) -> int:
