@@ -302,7 +302,6 @@ def _build(options: BuildOptions, streams: Streams, settings: Settings, ledger_p
         rows.close()
     for note in chosen:
         streams.note(note)
-    build = replace(build, notes=(*chosen, *build.notes))  # the report's notes say it too
     path = os.path.relpath(ledger_path.resolve(), out.resolve()) if ledger_path else ""
     resolved = replace(build.settings, ledger=replace(build.settings.ledger, path=path))
     summary = build_summary(build)
@@ -316,11 +315,14 @@ def _build(options: BuildOptions, streams: Streams, settings: Settings, ledger_p
                 write_settings(resolved, folder / "settings.toml", header=(
                     "The settings this build used, every classing written out: 'scorewright build' on this file\n"
                     "reproduces the same model file."
-                )),
+                ) + "".join(f"\n{note}" for note in chosen)),
                 write_text_atomically(folder / "summary.txt", summary + "\n"),
             ]
         if options.reports:
-            written += _write_build_reports(replace(build, settings=resolved), folder, clock, options, out,
+            # what the quick path took by itself is said in the reports too; the model file stays a function
+            # of the settings and the ledger, so that a build from the settings written here gives the same bytes
+            written += _write_build_reports(replace(build, settings=resolved, notes=(*chosen, *build.notes)), folder,
+                                            clock, options, out,
                                             document_checksum(document), previous)
     if options.timings:
         print(json.dumps({stage: round(seconds, 4) for stage, seconds in timings.items()}), file=streams.err)

@@ -372,7 +372,7 @@ def test_the_same_input_gives_the_same_bytes(built, tmp_path):
                    "--out", tmp_path / "run", "--force", "--quiet")[0] == 0
         assert run("monitor", model, ledger, "--out", tmp_path / "monitor", "--force", "--quiet")[0] in (0, 1)
         store.update({path.relative_to(tmp_path): path.read_bytes() for path in tmp_path.rglob("*") if path.is_file()})
-    assert set(first) == set(second) and len(first) == 8
+    assert set(first) == set(second) and len(first) == 9  # six of the build, three of monitoring
     assert [name for name in first if first[name] != second[name]] == []
     # and not by luck within a zip clock tick (2 s): no entry of either workbook carries a time of its own
     for name in ("run/workbook.xlsx", "monitor/monitor.xlsx"):
@@ -655,8 +655,9 @@ def test_generated_ledgers_go_through_every_command(generated):
             # every generated ledger has goods, bads and a column that drives the outcome: a refusal
             # here would be the tool's own fault
             assert code in ((0, 1) if step == "monitor" else (0,)), (step, stderr)
-        build_set = {"model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx"}
-        assert _whole_set(folder / "run", build_set) and _whole_set(folder / "quick", build_set - {"report.html", "workbook.xlsx"})
+        build_set = {"model.json", "settings.toml", "summary.txt", "report.html", "workbook.xlsx", "model-document.html"}
+        reports = {"report.html", "workbook.xlsx", "model-document.html"}
+        assert _whole_set(folder / "run", build_set) and _whole_set(folder / "quick", build_set - reports)
         assert _whole_set(folder / "monitor", {"monitor.txt", "monitor.html", "monitor.xlsx"})
         assert len(pd.read_csv(folder / "scored.csv")) == len(frame)
         assert sorted(p.name for p in folder.iterdir()) == ["ledger.csv", "monitor", "quick", "run", "scorecard.toml", "scored.csv"]
@@ -800,7 +801,10 @@ def test_a_column_taken_as_the_id_is_said_on_the_terminal_the_settings_and_the_r
     code, _, stderr = run("build", ledger, *QUICK, "--out", tmp_path / "quick")
     assert code == 0 and said in stderr
     assert "was taken as the id column" in (tmp_path / "quick" / "report.html").read_text(encoding="utf-8")
-    TALLY["an id column chosen, said"] = (3, 3)
+    assert said in (tmp_path / "quick" / "settings.toml").read_text(encoding="utf-8")
+    # the model file is a function of the settings and the ledger: the note is not in it
+    assert "was taken as the id column" not in (tmp_path / "quick" / "model.json").read_text(encoding="utf-8")
+    TALLY["an id column chosen, said"] = (4, 4)
 
 
 def test_free_text_is_left_out_and_no_applicant_text_reaches_an_output(tmp_path):
