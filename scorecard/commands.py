@@ -362,7 +362,8 @@ def _write_build_reports(build, folder: Path, clock, options: BuildOptions, out:
         book = write_workbook(build, validation, folder / "workbook.xlsx", model_checksum=model_checksum)
     with clock("model document"):
         paper = write_model_document(build, validation, folder / "model-document.html", previous=previous,
-                                     previous_name=str(options.previous) if options.previous else "")
+                                     previous_name=str(options.previous) if options.previous else "",
+                                     model_checksum=model_checksum)
     return [report, book, paper]
 
 

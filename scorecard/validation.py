@@ -383,7 +383,8 @@ def fairness_checks(build, validation: Validation) -> Fairness | None:
     proxies = [Proxy(name, attribute.name, value, value > threshold)
                for attribute in build.protected for name, table in attribute.crosstabs.items()
                for value in [cramers_v(table)]]
-    impacts = {attribute.name: adverse_impact(attribute.histograms.get(sample, {}), chosen)
+    impacts = {attribute.name: adverse_impact(attribute.histograms.get(sample, {}), chosen,
+                                              settings.fairness.reference_share)
                for attribute in build.protected if attribute.histograms.get(sample)}
     return Fairness(chosen, source, sample, impacts, tuple(sorted(proxies, key=lambda p: -p.cramers_v)))
 
@@ -518,7 +519,7 @@ def _fairness_flags(build, validation: Validation) -> list[Flag]:
         for level, ratio, rate in zip(impact.levels, impact.ratio, impact.approval_rate):
             if np.isfinite(ratio) and ratio < guide:
                 flags.append(Flag("fair lending", f"At the cut-off {impact.cutoff:g}, level {level!r} of {attribute!r} is "
-                                                  f"approved at {rate:.1%}, {ratio:.2f} of the most-approved level's rate "
+                                                  f"approved at {rate:.1%}, {ratio:.2f} of the rate of {impact.reference!r} "
                                                   f"(under the four-fifths guide, {guide:g}; a guide, not a verdict).",
                                   "fairness"))
     return flags

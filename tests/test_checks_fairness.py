@@ -34,6 +34,28 @@ def test_adverse_impact_of_a_hand_worked_table():
     np.testing.assert_allclose(impact.ratio, [1.0, 0.40 / 0.55], rtol=EXACT)
     np.testing.assert_allclose(impact.approved_bad_rate, [0.20, 0.10], rtol=EXACT)
     assert impact.to_frame()["ratio"].round(4).tolist() == [1.0, 0.7273]
+    assert impact.reference == "a"
+
+
+def test_a_small_level_cannot_set_the_bar():
+    # hand-worked (invented counts), cut-off 600, reference share 5%:
+    # a: 600 applications, 360 approved (60.0%); b: 380 applications, 228 approved (60.0% too, but smaller);
+    # c: 20 applications (2.0% of 1,000, under 5%), 18 approved (90.0%).
+    # c may not be the reference, so a (the first of the equal largest rates among a and b) is: ratios 1, 1, 1.5.
+    # With no smallest share, c sets the bar: a and b at 0.60 / 0.90 = 0.6667, under the four-fifths guide.
+    a = _histogram([550, 650], [200, 300], [40, 60])
+    b = _histogram([550, 650], [130, 200], [22, 28])
+    c = _histogram([550, 650], [2, 15], [0, 3])
+    levels = {"a": a, "b": b, "c": c}
+    kept = adverse_impact(levels, 600, 0.05)
+    np.testing.assert_allclose(kept.approval_rate, [0.6, 0.6, 0.9], rtol=EXACT)
+    assert kept.reference == "a" and kept.can_be_reference.tolist() == [True, True, False]
+    np.testing.assert_allclose(kept.ratio, [1.0, 1.0, 1.5], rtol=EXACT)
+    bare = adverse_impact(levels, 600)
+    assert bare.reference == "c"
+    np.testing.assert_allclose(bare.ratio, [0.6 / 0.9, 0.6 / 0.9, 1.0], rtol=EXACT)
+    # every level under the share: the largest may still be the reference
+    assert adverse_impact(levels, 600, 0.7).reference == "a"
 
 
 def test_cramers_v_equals_scipys_association():

@@ -321,7 +321,8 @@ def _set_checksum(folder: Path) -> str:
     document = json.loads((folder / "model.json").read_text(encoding="utf-8"))
     assert document["checksum"] == checksum(document)
     value = document["checksum"]
-    assert f'<code class="hash">{value}</code>' in (folder / "report.html").read_text(encoding="utf-8")
+    for page in ("report.html", "model-document.html"):
+        assert f'<code class="hash">{value}</code>' in (folder / page).read_text(encoding="utf-8")
     book = openpyxl.load_workbook(folder / "workbook.xlsx", read_only=True)
     cells = [cell for row in book.worksheets[0].iter_rows(values_only=True) for cell in row]
     assert value in cells
@@ -329,7 +330,7 @@ def _set_checksum(folder: Path) -> str:
     return value
 
 
-def test_report_and_workbook_carry_the_model_files_checksum(built):
+def test_report_model_document_and_workbook_carry_the_model_files_checksum(built):
     folder, _, _ = built
     assert len(_set_checksum(folder / "run")) == 64
 

@@ -360,7 +360,9 @@ def _fairness_value(build, labels, header, sheet, cell):
     if header == "Under the guide":
         guide = build.settings.fairness.impact_ratio
         return (f"under {guide:g}" if impact.ratio[i] < guide else f"at or above {guide:g}"), True
-    values = {"Approval rate": impact.approval_rate, "Ratio to the most approved": impact.ratio,
+    if header == "Rate if it may be the reference":
+        return (float(impact.approval_rate[i]), False) if impact.can_be_reference[i] else ("too small", True)
+    values = {"Approval rate": impact.approval_rate, "Ratio to the reference": impact.ratio,
               "Bad rate among approved": impact.approved_bad_rate}
     return float(values[header][i]), False
 

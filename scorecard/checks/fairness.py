@@ -3,8 +3,9 @@ and what a cut-off does to each level of one.
 
 - :func:`cramers_v`: the association of two categorical variables from their cross-table (a model
   characteristic's bins against a protected attribute's levels), 0 none to 1 one determines the other.
-- :func:`adverse_impact`: per level, the share approved at a cut-off and its ratio to the
-  most-approved level's (the adverse impact ratio), with the bad rate among the approved.
+- :func:`adverse_impact`: per level, the share approved at a cut-off and its ratio to the reference
+  level's (the adverse impact ratio): the most-approved level among those large enough to set the bar.
+  With the bad rate among the approved.
 
 Applications scoring at or above the cut-off are approved. Whether a gap is lawful, and what to do
 about it, is for the lender and the law where it lends: these figures only show the gap.
@@ -73,7 +74,12 @@ class ImpactTable:
     approval_rate : numpy.ndarray
         ``approved / applications``.
     ratio : numpy.ndarray
-        The adverse impact ratio: each level's approval rate over the highest level's.
+        The adverse impact ratio: each level's approval rate over the reference level's.
+    can_be_reference : numpy.ndarray of bool
+        Levels holding at least the smallest share of the attribute's applications that may set the bar
+        (and always the largest level).
+    reference : str
+        The most-approved level among those that can be the reference.
     goods_approved, bads_approved : numpy.ndarray
         Approved goods and bads (outcomes known).
     approved_bad_rate : numpy.ndarray
@@ -89,6 +95,8 @@ class ImpactTable:
     goods_approved: np.ndarray
     bads_approved: np.ndarray
     approved_bad_rate: np.ndarray
+    can_be_reference: np.ndarray
+    reference: str
 
     def __post_init__(self):
         freeze_arrays(self)
@@ -98,10 +106,11 @@ class ImpactTable:
         return pd.DataFrame({"level": self.levels, "applications": self.applications, "approved": self.approved,
                              "approval_rate": self.approval_rate, "ratio": self.ratio,
                              "goods_approved": self.goods_approved, "bads_approved": self.bads_approved,
-                             "approved_bad_rate": self.approved_bad_rate})
+                             "approved_bad_rate": self.approved_bad_rate, "can_be_reference": self.can_be_reference,
+                             "reference": [level == self.reference for level in self.levels]})
 
 
-def adverse_impact(histograms: Mapping[str, object], cutoff: float) -> ImpactTable:
+def adverse_impact(histograms: Mapping[str, object], cutoff: float, reference_share: float = 0.0) -> ImpactTable:
     """Return, per level, the approvals at a cut-off and the adverse impact ratio.
 
     Parameters
@@ -111,6 +120,10 @@ def adverse_impact(histograms: Mapping[str, object], cutoff: float) -> ImpactTab
         in the approval rates, whatever its outcome.
     cutoff : float
         Applications scoring at or above it are approved.
+    reference_share : float
+        The smallest share of the attribute's applications a level must hold to be the reference; the
+        largest level always may. A level of a few dozen applications approved by chance at a high
+        rate would otherwise set the bar for every other level.
 
     Returns
     -------
@@ -123,7 +136,8 @@ def adverse_impact(histograms: Mapping[str, object], cutoff: float) -> ImpactTab
 
     Notes
     -----
-    The ratio of a level's approval rate to the most-approved level's is the adverse impact ratio;
+    The ratio of a level's approval rate to the most-approved level's is the adverse impact ratio
+    (here the most-approved among the levels that can be the reference);
     the four-fifths rule of thumb reads a ratio under 0.8 as a sign of adverse impact (US Uniform
     Guidelines on Employee Selection Procedures, 29 CFR 1607.4(D), 1978, from memory). It is a
     guide for a closer look, not a verdict.
@@ -136,7 +150,10 @@ def adverse_impact(histograms: Mapping[str, object], cutoff: float) -> ImpactTab
     goods = np.array([float(np.sum(h.goods[h.scores >= cutoff])) for h in histograms.values()])
     bads = np.array([float(np.sum(h.bads[h.scores >= cutoff])) for h in histograms.values()])
     rate = np.divide(approved, applications, out=np.full_like(approved, np.nan), where=applications > 0)
-    top = np.nanmax(rate)
+    eligible = (applications >= reference_share * applications.sum()) | (applications == applications.max())
+    reference = int(np.nanargmax(np.where(eligible, rate, np.nan)))
+    top = rate[reference]
     ratio = np.divide(rate, top, out=np.full_like(rate, np.nan), where=np.isfinite(rate) & (top > 0))
     bad_rate = np.divide(bads, goods + bads, out=np.full_like(bads, np.nan), where=goods + bads > 0)
-    return ImpactTable(float(cutoff), levels, applications, approved, rate, ratio, goods, bads, bad_rate)
+    return ImpactTable(float(cutoff), levels, applications, approved, rate, ratio, goods, bads, bad_rate, eligible,
+                       levels[reference])

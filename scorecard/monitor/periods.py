@@ -175,11 +175,12 @@ def _period_impacts(saved: SavedModel, rows, levels, parts, quarters: Sequence[i
         return [{level: found[(number, g)] for g, level in enumerate(levels.levels) if (number, g) in found}
                 for number in range(n_parts)]
 
-    impacts = {"all": adverse_impact(by_part(np.zeros(len(rows.outcome), dtype=np.int64), 1)[0], cutoff)}
+    share = saved.settings.fairness.reference_share
+    impacts = {"all": adverse_impact(by_part(np.zeros(len(rows.outcome), dtype=np.int64), 1)[0], cutoff, share)}
     if parts is not None:
         for number, histograms in enumerate(by_part(parts, len(quarters))):
             if histograms:
-                impacts[_quarter_label(quarters[number])] = adverse_impact(histograms, cutoff)
+                impacts[_quarter_label(quarters[number])] = adverse_impact(histograms, cutoff, share)
     return impacts
 
 

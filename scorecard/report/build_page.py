@@ -28,8 +28,8 @@ from ..validation import review_flags
 from . import CAUTION, REJECT_CAUTION, charts
 from .page_kit import (
     ADJUSTED_MARK, DASH, NOT_COMPUTED, Cell, classed_by, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text,
-    interval_text, level_text, library_versions, p_value_text, percent_text, psi_table, score_text, signed_text,
-    span_text, status_cell, text_table,
+    interval_text, level_text, library_versions, p_value_text, percent_text, psi_table, reference_wording, score_text,
+    signed_text, span_text, status_cell, text_table,
 )
 
 
@@ -879,16 +879,18 @@ def _fairness(build, validation) -> dict:
         impact = fairness.impacts.get(attribute.name)
         if impact is None:
             continue
-        rows = [[level, count_text(n), count_text(approved), percent_text(rate, 1),
+        rows = [[f"{level} (reference)" if level == impact.reference else level, count_text(n), count_text(approved),
+                 percent_text(rate, 1),
                  Cell(fixed_text(ratio, 3), "flag" if ratio < guide else ""), percent_text(bad_rate)]
                 for level, n, approved, rate, ratio, bad_rate in zip(impact.levels, impact.applications, impact.approved,
                                                                      impact.approval_rate, impact.ratio, impact.approved_bad_rate)]
-        table = text_table(["level", "applications", "approved", "approval rate", "ratio to the most approved",
+        table = text_table(["level", "applications", "approved", "approval rate", "ratio to the reference",
                             "bad rate among approved"], rows, numeric=range(1, 6),
                            caption=f"{attribute.name}: applications approved at or above the cut-off "
                                    f"{score_text(impact.cutoff, build.scorecard.table.decimals)}, {fairness.sample} sample. "
                                    f"A ratio under {guide:g} (the four-fifths rule of thumb, common practice, no source) "
-                                   f"is marked: a guide for a closer look, not a verdict.")
+                                   f"is marked: a guide for a closer look, not a verdict. "
+                                   + reference_wording(settings.fairness.reference_share))
         impacts.append({"name": attribute.name, "table": table,
                         "chart": _group_distribution(attribute, fairness.sample, validation)})
     return {**context, "cutoff": score_text(fairness.cutoff, build.scorecard.table.decimals),

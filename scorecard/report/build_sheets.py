@@ -43,12 +43,12 @@ from ..settings import settings_reference
 from ..terms import DEVELOPMENT_NAME, SAMPLE_NAMES
 from ..validation import review_flags
 from . import CAUTION, REJECT_CAUTION
-from .page_kit import NOT_COMPUTED, classed_by, degrees_of_freedom_rule
+from .page_kit import NOT_COMPUTED, classed_by, degrees_of_freedom_rule, reference_wording
 from .sheet_kit import (
     AUC, CAPTION_ROW, COUNT, FIRST_ROW, Formula, HEADER_ROW, INPUT_FILL, P_VALUE, Placed, RATE, SAMPLE_COLOURS,
     SMALL_P_VALUE, STATISTIC, WOE, as_points, bar_chart, cell_address, count_number_format, fit_widths,
-    formula_cell, freeze_header, header_cells, print_across, range_address, save_workbook, scatter_chart,
-    sheet_heading, text_cell, text_sections, value_cell, write_frame, write_pairs,
+    formula_cell, freeze_header, header_cells, print_across, range_address, reference_candidate, save_workbook,
+    scatter_chart, sheet_heading, text_cell, text_sections, value_cell, write_frame, write_pairs,
 )
 
 OVERVIEW, POINTS, CLASSING, FIT, SELECTION = "Overview", "Points", "Classing", "Fit", "Selection"
@@ -727,8 +727,8 @@ def _cutoffs_sheet(sheet: Worksheet, validation, counts_format: str) -> None:
     fit_widths(sheet)
 
 
-IMPACT_COLUMNS = ["Attribute", "Level", "Applications", "Approved", "Approval rate", "Ratio to the most approved",
-                  "Under the guide", "Goods approved", "Bads approved", "Bad rate among approved"]
+IMPACT_COLUMNS = ["Attribute", "Level", "Applications", "Approved", "Approval rate", "Rate if it may be the reference",
+                  "Ratio to the reference", "Under the guide", "Goods approved", "Bads approved", "Bad rate among approved"]
 
 
 def _fairness_sheet(sheet: Worksheet, build, validation, counts_format: str) -> None:
@@ -744,22 +744,25 @@ def _fairness_sheet(sheet: Worksheet, build, validation, counts_format: str) -> 
         fit_widths(sheet)
         return
     sheet_heading(sheet, "Fairness", f"Approvals at the cut-off {fairness.cutoff:g} ({fairness.cutoff_source}), "
-                                     f"{fairness.sample} sample. Approval rate, ratio to the most-approved level and the "
+                                     f"{fairness.sample} sample. Approval rate, ratio to the reference level and the "
                                      f"bad rate are formulas; a ratio under {guide:g} is marked (the four-fifths rule of "
-                                     "thumb: common practice, no source; a guide, not a verdict).")
+                                     "thumb: common practice, no source; a guide, not a verdict). "
+                                     + reference_wording(build.settings.fairness.reference_share))
     letter = {name: get_column_letter(i + 1) for i, name in enumerate(IMPACT_COLUMNS)}
     rows, row = [], FIRST_ROW
     for attribute, impact in fairness.impacts.items():
         first, last = row, row + len(impact.levels) - 1
-        rates = f"${letter['Approval rate']}${first}:${letter['Approval rate']}${last}"
+        candidates = f"${letter['Rate if it may be the reference']}${first}:${letter['Rate if it may be the reference']}${last}"
+        counts = f"${letter['Applications']}${first}:${letter['Applications']}${last}"
         for level, applications, approved, goods, bads in zip(impact.levels, impact.applications, impact.approved,
                                                               impact.goods_approved, impact.bads_approved):
             cell = {name: f"{letter[name]}{row}" for name in letter}
             rows.append({
                 "Attribute": attribute, "Level": level, "Applications": applications, "Approved": approved,
                 "Approval rate": Formula(f'IF({cell["Applications"]}>0,{cell["Approved"]}/{cell["Applications"]},"")'),
-                "Ratio to the most approved": Formula(f'IF(MAX({rates})>0,{cell["Approval rate"]}/MAX({rates}),"")'),
-                "Under the guide": Formula(f'IF({cell["Ratio to the most approved"]}<{guide!r},"under {guide:g}",'
+                "Rate if it may be the reference": reference_candidate(cell, counts, build.settings.fairness.reference_share),
+                "Ratio to the reference": Formula(f'IF(MAX({candidates})>0,{cell["Approval rate"]}/MAX({candidates}),"")'),
+                "Under the guide": Formula(f'IF({cell["Ratio to the reference"]}<{guide!r},"under {guide:g}",'
                                            f'"at or above {guide:g}")'),
                 "Goods approved": goods, "Bads approved": bads,
                 "Bad rate among approved": Formula(f'IF({cell["Goods approved"]}+{cell["Bads approved"]}>0,'
@@ -769,7 +772,8 @@ def _fairness_sheet(sheet: Worksheet, build, validation, counts_format: str) -> 
     frame = pd.DataFrame(rows, columns=IMPACT_COLUMNS, dtype=object)
     placed = write_frame(sheet, frame, caption="Adverse impact at the cut-off",
                          formats={"Applications": counts_format, "Approved": counts_format, "Approval rate": RATE,
-                                  "Ratio to the most approved": "0.000", "Goods approved": counts_format,
+                                  "Rate if it may be the reference": RATE, "Ratio to the reference": "0.000",
+                                  "Goods approved": counts_format,
                                   "Bads approved": counts_format, "Bad rate among approved": RATE})
     proxies = pd.DataFrame([{"Model characteristic": p.characteristic, "Protected attribute": p.attribute,
                              "Cramér's V": p.cramers_v, "Flag": "proxy" if p.flagged else ""} for p in fairness.proxies],

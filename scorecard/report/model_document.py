@@ -41,7 +41,7 @@ SECTIONS = (
 PLACEHOLDER = "To be written by the model owner: set {key} under [report] in the settings."
 
 
-def render_model_document(build, validation, *, previous=None, previous_name: str = "") -> str:
+def render_model_document(build, validation, *, previous=None, previous_name: str = "", model_checksum: str = "") -> str:
     """Return the model document as one self-contained HTML page (inline style, no script).
 
     Parameters
@@ -52,6 +52,8 @@ def render_model_document(build, validation, *, previous=None, previous_name: st
         The model this one replaces, for the change log.
     previous_name : str
         How to name the previous model file in the page.
+    model_checksum : str
+        The checksum of the model file the document describes (as ``model.json`` records it).
     """
     report = build.settings.report
     context = {
@@ -66,6 +68,7 @@ def render_model_document(build, validation, *, previous=None, previous_name: st
                     _written("Intended use", report.intended_use, "intended_use")],
         "approval": [_written("Owner", report.owner, "owner"), _written("Approval", report.approval, "approval")],
         "fingerprint": _fingerprint(build),
+        "model_checksum": model_checksum,
         "data": _data(build),
         "method": _method(build),
         "performance": {"headline": _headline_table(validation, build.scorecard.table.decimals),
@@ -78,9 +81,11 @@ def render_model_document(build, validation, *, previous=None, previous_name: st
     return environment().get_template("model-document.html").render(**context)
 
 
-def write_model_document(build, validation, path, *, previous=None, previous_name: str = "") -> Path:
+def write_model_document(build, validation, path, *, previous=None, previous_name: str = "",
+                         model_checksum: str = "") -> Path:
     """Write the model document to ``path`` atomically and return the path."""
-    page = render_model_document(build, validation, previous=previous, previous_name=previous_name)
+    page = render_model_document(build, validation, previous=previous, previous_name=previous_name,
+                                 model_checksum=model_checksum)
     return write_text_atomically(Path(path), page)
 
 

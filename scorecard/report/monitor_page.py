@@ -36,7 +36,8 @@ from ..settings import CheckSettings
 from . import CAUTION, charts
 from .page_kit import (
     DASH, Cell, Figure, Table, calibration_figures, captioned_chart, count_text, environment, fixed_text, interval_text,
-    level_text, library_versions, p_value_text, percent_text, psi_table, signed_text, span_text, status_cell, text_table,
+    level_text, library_versions, p_value_text, percent_text, psi_table, reference_wording, signed_text, span_text,
+    status_cell, text_table,
 )
 
 
@@ -431,9 +432,10 @@ def _fairness(result: MonitorResult, saved: SavedModel) -> dict:
             ["level", "applications", "approval rate", "ratio, whole ledger", *(f"ratio, {q}" for q in quarters)], rows,
             numeric=range(1, 4 + len(quarters)),
             caption=f"{name}: each level's applications approved at or above the build's cut-off "
-                    f"{fixed_text(result.cutoff, 0)}, and the ratio of its approval rate to the most-approved level's, "
-                    f"whole ledger and each quarter. A ratio under {guide:g} is marked (the four-fifths rule of thumb: "
-                    "common practice, no source; a guide, not a verdict)."))
+                    f"{fixed_text(result.cutoff, 0)}, and the ratio of its approval rate to the reference level's "
+                    f"({whole.reference} on the whole ledger), whole ledger and each quarter. A ratio under {guide:g} is "
+                    "marked (the four-fifths rule of thumb: common practice, no source; a guide, not a verdict). "
+                    + reference_wording(saved.settings.fairness.reference_share)))
     missing = [name for name in attributes if name not in result.impacts]
     return {"tables": tables, "attributes": attributes, "missing": missing}
 

@@ -36,11 +36,11 @@ from ..intake import Fingerprint
 from ..modelfile import SavedModel
 from ..monitor import MEANING, WHAT_TO_DO, CheckStatus, MonitorResult, PeriodMonitor, driving_checks, monitoring_limits, status_rules
 from . import CAUTION
-from .page_kit import NOT_COMPUTED
+from .page_kit import NOT_COMPUTED, reference_wording
 from .sheet_kit import (
     FIRST_ROW, HEADER_ROW, NOTE_ROW, RATE, SMALL_P_VALUE, STATISTIC, WEIGHTED_COUNT, Formula, Placed, bar_chart,
-    count_number_format, fit_widths, freeze_header, save_workbook, sheet_heading, text_cell, text_sections, write_frame,
-    write_pairs,
+    count_number_format, fit_widths, freeze_header, reference_candidate, save_workbook, sheet_heading, text_cell,
+    text_sections, write_frame, write_pairs,
 )
 
 OVERVIEW, STABILITY, DISCRIMINATION, CALIBRATION, FAIRNESS, QUARTERS, CAUTIONS = (
@@ -421,33 +421,37 @@ def _calibration_bands(period: PeriodMonitor, names) -> list[dict[str, object]]:
 
 
 FAIRNESS_COLUMNS = ["Attribute", "Period", "Level", "Applications", "Approved", "Approval rate",
-                    "Ratio to the most approved", "Under the guide"]
+                    "Rate if it may be the reference", "Ratio to the reference", "Under the guide"]
 
 
 def _fairness_sheet(sheet: Worksheet, result: MonitorResult, saved: SavedModel, counts: str) -> None:
     """Each protected attribute's levels at the build's cut-off, whole ledger and each quarter; rates and ratios live."""
     guide = saved.settings.fairness.impact_ratio
     sheet_heading(sheet, "Fairness", f"Approvals at the build's cut-off {result.cutoff:g}, whole ledger and each quarter. "
-                                     f"Approval rate and the ratio to the most-approved level are formulas; under {guide:g} "
-                                     "is marked (the four-fifths rule of thumb: a guide, not a verdict).")
+                                     f"Approval rate and the ratio to the reference level are formulas; under {guide:g} "
+                                     "is marked (the four-fifths rule of thumb: a guide, not a verdict). "
+                                     + reference_wording(saved.settings.fairness.reference_share))
     letter = {name: get_column_letter(i + 1) for i, name in enumerate(FAIRNESS_COLUMNS)}
     rows, row = [], FIRST_ROW
     for attribute, periods in result.impacts.items():
         for period, impact in periods.items():
             first, last = row, row + len(impact.levels) - 1
-            rates = f"${letter['Approval rate']}${first}:${letter['Approval rate']}${last}"
+            candidates = f"${letter['Rate if it may be the reference']}${first}:${letter['Rate if it may be the reference']}${last}"
+            counts_range = f"${letter['Applications']}${first}:${letter['Applications']}${last}"
             for level, applications, approved in zip(impact.levels, impact.applications, impact.approved):
                 cell = {name: f"{letter[name]}{row}" for name in letter}
                 rows.append({"Attribute": attribute, "Period": WHOLE_LEDGER if period == "all" else period, "Level": level,
                              "Applications": applications, "Approved": approved,
                              "Approval rate": Formula(f'IF({cell["Applications"]}>0,{cell["Approved"]}/{cell["Applications"]},"")'),
-                             "Ratio to the most approved": Formula(f'IF(MAX({rates})>0,{cell["Approval rate"]}/MAX({rates}),"")'),
-                             "Under the guide": Formula(f'IF({cell["Ratio to the most approved"]}<{guide!r},"under {guide:g}",'
+                             "Rate if it may be the reference": reference_candidate(cell, counts_range,
+                                                                                    saved.settings.fairness.reference_share),
+                             "Ratio to the reference": Formula(f'IF(MAX({candidates})>0,{cell["Approval rate"]}/MAX({candidates}),"")'),
+                             "Under the guide": Formula(f'IF({cell["Ratio to the reference"]}<{guide!r},"under {guide:g}",'
                                                         f'"at or above {guide:g}")')})
                 row += 1
     write_frame(sheet, pd.DataFrame(rows, columns=FAIRNESS_COLUMNS, dtype=object), caption="Adverse impact at the cut-off",
                 formats={"Applications": counts, "Approved": counts, "Approval rate": RATE,
-                         "Ratio to the most approved": "0.000"})
+                         "Rate if it may be the reference": RATE, "Ratio to the reference": "0.000"})
     freeze_header(sheet, columns=3)
     fit_widths(sheet)
 

@@ -24,6 +24,13 @@ ADJUSTED_MARK = "†"
 NOT_COMPUTED = "not computed"
 
 
+def reference_wording(share: float) -> str:
+    """How the adverse-impact reference level is chosen, for a caption."""
+    return (f"The reference is the most-approved level among those holding at least {share:.0%} of the attribute's "
+            "applications (fairness.reference_share; the largest level always may be), so that a handful of "
+            "applications cannot set the bar.")
+
+
 @functools.cache
 def environment():
     """Return the Jinja2 environment of the report templates, autoescaping on."""

@@ -149,6 +149,20 @@ class Formula(str):
     """Formula text without the leading '=' (marks a value to be written as a formula)."""
 
 
+TOO_SMALL = "too small"  # a level that holds too few applications to be the adverse-impact reference
+
+
+def reference_candidate(cell: Mapping[str, str], counts: str, share: float) -> Formula:
+    """A level's approval rate when it may be the adverse-impact reference, else the words "too small".
+
+    A level may be the reference when it holds at least ``share`` of the attribute's applications
+    (``counts``: the range of its levels' applications), and the largest level always may; the
+    reference is then the largest rate of the column (checks.fairness.adverse_impact).
+    """
+    mine = cell["Applications"]
+    return Formula(f'IF(OR({mine}>={share!r}*SUM({counts}),{mine}=MAX({counts})),{cell["Approval rate"]},"{TOO_SMALL}")')
+
+
 @dataclass(frozen=True)
 class Placed:
     """Where a table landed on its sheet: its header row, data rows and each header's column."""

@@ -341,8 +341,13 @@ class FairnessSettings:
         "for it (common practice, no source)", lambda v: 0 < v < 1, "a number between 0 and 1",
     )
     impact_ratio: float = _key(
-        0.8, "a level approved at less than this share of the most-approved level's rate is flagged (the four-fifths "
+        0.8, "a level approved at less than this share of the reference level's rate is flagged (the four-fifths "
         "rule of thumb: common practice, no source; a guide, not a verdict)", lambda v: 0 < v <= 1, "a share in (0, 1]",
+    )
+    reference_share: float = _key(
+        0.05, "the reference level of the adverse impact ratio is the most-approved level among those holding at "
+        "least this share of the attribute's applications (the largest level always can be), so that a handful of "
+        "applications cannot set the bar (common practice, no source)", lambda v: 0 <= v < 1, "a share in [0, 1)",
     )
 
 
