@@ -241,6 +241,8 @@ def test_init_declares_marital_status_protected_and_the_report_checks_it(credit_
         table = pd.crosstab(codes[development, j], marital.codes[development]).to_numpy()
         assert float(shown) == pytest.approx(association(table, method="cramer"), abs=5e-4), name
     cutoff = float(report.section("fairness").split("Cut-off of the adverse-impact tables: ")[1].split(" ")[0])
+    # the reference is the most-approved level holding at least 5% of the hold-out's applications, named
+    assert "The reference level is " in report.section("fairness")
     scores = pd.read_csv(folder / "scored.csv")["score"].to_numpy()
     holdout = ledger.sample == 1
     rows = report.table("level", "applications", "approved", "approval rate")

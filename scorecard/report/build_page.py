@@ -879,8 +879,7 @@ def _fairness(build, validation) -> dict:
         impact = fairness.impacts.get(attribute.name)
         if impact is None:
             continue
-        rows = [[f"{level} (reference)" if level == impact.reference else level, count_text(n), count_text(approved),
-                 percent_text(rate, 1),
+        rows = [[level, count_text(n), count_text(approved), percent_text(rate, 1),
                  Cell(fixed_text(ratio, 3), "flag" if ratio < guide else ""), percent_text(bad_rate)]
                 for level, n, approved, rate, ratio, bad_rate in zip(impact.levels, impact.applications, impact.approved,
                                                                      impact.approval_rate, impact.ratio, impact.approved_bad_rate)]
@@ -889,8 +888,8 @@ def _fairness(build, validation) -> dict:
                            caption=f"{attribute.name}: applications approved at or above the cut-off "
                                    f"{score_text(impact.cutoff, build.scorecard.table.decimals)}, {fairness.sample} sample. "
                                    f"A ratio under {guide:g} (the four-fifths rule of thumb, common practice, no source) "
-                                   f"is marked: a guide for a closer look, not a verdict. "
-                                   + reference_wording(settings.fairness.reference_share))
+                                   f"is marked: a guide for a closer look, not a verdict. The reference level is "
+                                   f"{impact.reference}. " + reference_wording(settings.fairness.reference_share))
         impacts.append({"name": attribute.name, "table": table,
                         "chart": _group_distribution(attribute, fairness.sample, validation)})
     return {**context, "cutoff": score_text(fairness.cutoff, build.scorecard.table.decimals),
