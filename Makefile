@@ -13,8 +13,9 @@ $(STAMP): pyproject.toml
 	$(BIN)/python -m pip install --quiet -e '.[test]'
 	touch $(STAMP)
 
+# one BLAS thread: the tests are many small products, which threads only slow on shared cores
 test: $(STAMP)
-	$(BIN)/python -m pytest
+	OPENBLAS_NUM_THREADS=1 $(BIN)/python -m pytest
 
 demo: $(STAMP)
 	$(BIN)/scorewright demo --out $(DEMO_OUT) --force
@@ -30,9 +31,11 @@ bench-large: $(STAMP)
 	$(BIN)/python -m benchmarks --streaming --sizes 1000000,10000000,100000000 --engines
 
 # Long property runs, kept out of `make test`: the exports' round trip on 1,000,000 generated
-# applications (make test runs 100,000)
+# applications (make test runs 100,000), and the hardening tests at full size (every tampered value of
+# every model-file field, 150 generated ledgers instead of 5, 60 killed builds instead of 6)
 soak: $(STAMP)
 	SCOREWRIGHT_ROUND_TRIP_ROWS=1000000 $(BIN)/python -m pytest -q tests/test_exports_engines.py -k round_trip
+	SCOREWRIGHT_SOAK=1 $(BIN)/python -m pytest -q -s tests/test_hardening.py
 
 # The programs the workbook and report checks drive (LibreOffice, Chromium), Java 17 for the PMML
 # evaluator the export checks run and for the Spark engine (pyspark runs on it), and GNU time for
