@@ -64,6 +64,7 @@ def run_demo(options: DemoOptions, streams: Streams) -> int:
     for path, what in [
         (out / "build" / "report.html", "the reviewer's report (any browser, offline)"),
         (out / "build" / "workbook.xlsx", "the reviewer's workbook, with live formulas"),
+        (out / "build" / "model-document.html", "the model document for model-risk review (printable)"),
         (out / "scored.csv", "scores, PDs and reasons of the new applications"),
         (out / "monitor" / "monitor.html", "the monitoring report of the last two quarters"),
         (settings, "the settings file: every decision, editable"),
