@@ -572,9 +572,10 @@ def write_tables_atomically(frames, path: Path) -> Path:
                 if path.suffix.lower() == ".csv":
                     frame = neutralised(frame)
                 table = pa.Table.from_pandas(frame, preserve_index=False)
-                if writer is None:  # a categorical column (reason texts) is written as the plain text it holds
-                    schema = pa.schema([pa.field(f.name, f.type.value_type if pa.types.is_dictionary(f.type) else f.type)
-                                        for f in table.schema], metadata=table.schema.metadata)
+                if writer is None:  # in Parquet a categorical column (reason texts) is the plain text it holds
+                    schema = table.schema if path.suffix.lower() == ".csv" else pa.schema(
+                        [pa.field(f.name, f.type.value_type if pa.types.is_dictionary(f.type) else f.type)
+                         for f in table.schema], metadata=table.schema.metadata)
                     writer = (pq.ParquetWriter(temporary, schema) if path.suffix.lower() == ".parquet"
                               else pacsv.CSVWriter(temporary, schema))
                 writer.write_table(table.cast(schema))

@@ -49,13 +49,14 @@ def reasons(codes: np.ndarray, table: PointsTable, *, count: int = 4) -> np.ndar
     # the count smallest keys of each row, smallest first: one scan of the rows per reason (keys are distinct in a row)
     order = np.empty((n_rows, count), dtype=np.int64)
     lost_most = np.empty((n_rows, count), dtype=np.int64)
-    rows, taken = np.arange(n_rows), np.iinfo(dtype).max
+    flat, starts, taken = key.reshape(-1), np.arange(0, n_rows * k, k), np.iinfo(dtype).max
     for rank in range(count):
         position = key.argmin(axis=1)
+        cells = starts + position  # each row's smallest key, as a place in the flat array
         order[:, rank] = position
-        lost_most[:, rank] = (position - key[rows, position]) // k
+        lost_most[:, rank] = (position - flat[cells]) // k
         if rank + 1 < count:
-            key[rows, position] = taken
+            flat[cells] = taken
     return np.where(lost_most > 0, order, -1)
 
 
