@@ -251,7 +251,7 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
     for first_row, frame in file_batches(path, suffix, first_pass, types, batch_rows):
         parts.append((*role_values(frame, settings, source_name, first_row=first_row),
                       split_keys(frame, keyed, settings.samples.seed) if drawn else None,
-                      [factorize_levels(frame[name]) for name in protected_names]))
+                      [(codes.astype(np.int32), texts) for codes, texts in map(factorize_levels, map(frame.get, protected_names))]))
         for char in numeric:
             values = frame[char.name].to_numpy(dtype=float, na_value=np.nan)
             readings[char.name] = added_readings(readings[char.name], value_reading(values, char.special_values))
