@@ -392,7 +392,7 @@ def _arrow_batches(path: Path, suffix: str, columns: list[str], types: dict[str,
     if suffix in (".parquet", ".pq"):
         import pyarrow.parquet as pq
 
-        # without pre-buffering: pyarrow's read cache would keep every row group's columns until the pass ends,
+        # without pre-buffering: pyarrow's read cache would keep every column chunk it read until the pass ends,
         # so a pass over a 10M-row file held about 450 MB more than one over 1M rows (memory grew with rows)
         yield from pq.ParquetFile(path, pre_buffer=False).iter_batches(batch_size=batch_rows, columns=columns)
         return
