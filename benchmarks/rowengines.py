@@ -60,11 +60,12 @@ def _reference(found: list[dict], rows: int) -> Path | None:
     return min(mine, key=lambda b: b["options"])["model"] if mine else None
 
 
-# what an engine's model file may differ in: the fit's solver is named for where it ran, and the fairness checks are
-# computed in process only (an engine's build says they were not computed); every other figure equals in-process's,
-# floats to this relative difference (the 1e-9: sums added in another order)
+# what an engine's model file may differ in: the fit's solver is named for where it ran, and the fairness checks and
+# the challenger are computed in process only (an engine's build says so in a note); every other figure equals
+# in-process's, floats to this relative difference (the 1e-9: sums added in another order)
 SOLVER_NAMED = ("fit", "solver")
 IN_PROCESS_ONLY = ("fairness",)
+IN_PROCESS_ONLY_NOTES = ("The challenger was not fitted", "The fairness checks of")
 RELATIVE = 1e-9
 
 
@@ -79,6 +80,7 @@ def _same_model(model: Path, reference: Path | None) -> tuple[bool | None, str]:
         document.pop("checksum", None)
         document["settings"]["ledger"].pop("engine", None)
         document.get(SOLVER_NAMED[0], {}).pop(SOLVER_NAMED[1], None)
+        document["notes"] = [note for note in document.get("notes", []) if not note.startswith(IN_PROCESS_ONLY_NOTES)]
         documents.append(document)
     for section in IN_PROCESS_ONLY:  # set aside where the engine's model says it was not computed (empty)
         if any(not document.get(section) for document in documents):
