@@ -44,6 +44,8 @@ class Dialect:
     byte_length: str     # length of a text in UTF-8 bytes
     big: str             # an exact integer type wider than 64 bits
     quote: str           # identifier quote
+    float_sum: str       # the most accurate sum of doubles the engine has (DuckDB: Kahan's), so that the
+                         # fit's sums do not depend on the order its threads add them in
 
     def identifier(self, name: str) -> str:
         """A column or table name, quoted."""
@@ -83,8 +85,8 @@ class Dialect:
         return f"({x} = CAST('Infinity' AS DOUBLE) OR {x} = CAST('-Infinity' AS DOUBLE))"
 
 
-DUCKDB_SQL = Dialect(DUCKDB, "VARCHAR", "strlen", "HUGEINT", '"')
-SPARK_SQL = Dialect(SPARK, "STRING", "octet_length", "DECIMAL(38,0)", "`")
+DUCKDB_SQL = Dialect(DUCKDB, "VARCHAR", "strlen", "HUGEINT", '"', "fsum")
+SPARK_SQL = Dialect(SPARK, "STRING", "octet_length", "DECIMAL(38,0)", "`", "sum")
 
 
 # --------------------------------------------------------------------------------------------

@@ -387,10 +387,11 @@ class EngineTable:
         eta = " + ".join([self.engine.dialect.double(float(beta[0])),
                           *(f"{self.engine.dialect.double(float(b))} * x{j}" for j, b in enumerate(beta[1:], start=1))])
         x = ["1.0", *(f"x{j}" for j in range(1, len(beta)))]
-        aggregates = ["sum(goods * (greatest(-eta, 0.0) + ln(1.0 + exp(-abs(eta)))) "
+        total = self.engine.dialect.float_sum
+        aggregates = [f"{total}(goods * (greatest(-eta, 0.0) + ln(1.0 + exp(-abs(eta)))) "
                       "+ bads * (greatest(eta, 0.0) + ln(1.0 + exp(-abs(eta))))) AS loss"]
-        aggregates += [f"sum(r * {x[i]}) AS s{i}" for i in range(len(x))]
-        aggregates += [f"sum(w * {x[i]} * {x[j]}) AS h{i}_{j}" for i in range(len(x)) for j in range(i, len(x))]
+        aggregates += [f"{total}(r * {x[i]}) AS s{i}" for i in range(len(x))]
+        aggregates += [f"{total}(w * {x[i]} * {x[j]}) AS h{i}_{j}" for i in range(len(x)) for j in range(i, len(x))]
         # p and 1 - p from exp of a number never above 0, so that nothing overflows
         probabilities = ("CASE WHEN eta >= 0 THEN 1.0 / (1.0 + exp(-eta)) ELSE exp(eta) / (1.0 + exp(eta)) END AS p, "
                          "CASE WHEN eta >= 0 THEN exp(-eta) / (1.0 + exp(-eta)) ELSE 1.0 / (1.0 + exp(eta)) END AS q")
@@ -409,10 +410,11 @@ class EngineTable:
     def spread(self, names: Sequence[str], woe: Mapping[str, np.ndarray]) -> np.ndarray:
         """One pass: the weighted standard deviation of each characteristic's WoE column."""
         features = self._features(names, woe)
-        moments = ", ".join(f"sum((goods + bads) * x{j}) AS m{j}, sum((goods + bads) * x{j} * x{j}) AS v{j}"
+        total = self.engine.dialect.float_sum
+        moments = ", ".join(f"{total}((goods + bads) * x{j}) AS m{j}, {total}((goods + bads) * x{j} * x{j}) AS v{j}"
                             for j in range(1, len(names) + 1))
         found = self.engine.arrow(
-            f"SELECT sum(goods + bads) AS n{', ' + moments if moments else ''} FROM "
+            f"SELECT {total}(goods + bads) AS n{', ' + moments if moments else ''} FROM "
             f"(SELECT goods, bads, {features} FROM (SELECT {self._inner(names, woe)} FROM {self.table}) coded) columns"
         ).to_pylist()[0]
         n = float(found["n"])
