@@ -134,6 +134,29 @@ def test_without_an_id_the_row_hash_and_repeated_rows_split_alike(demo, tmp_path
     _same(_document(path, settings.replace(ledger={"engine": "duckdb"})), _document(path, settings))
 
 
+@pytest.mark.parametrize("engine", ["duckdb", "spark"])
+def test_repeated_rows_are_keyed_apart_alike_in_every_engine(demo, tmp_path, monkeypatch, engine):
+    # without an id, the repeats of a row take keys of their own (scorecard.rows.keys, rule 3): the engine's
+    # split keys are those of the in-process engine, key for key (which of identical rows has which is no matter)
+    import scorecard.intake.prepare as prepare
+
+    frame = pd.read_parquet(demo["parquet"]).drop(columns=["application_id"]).head(150)
+    path = write_ledger(pd.concat([frame] * 4, ignore_index=True), tmp_path / "repeated.parquet")
+    settings = _settings(id_column="")
+    made, sample_keys = [], prepare.sample_keys
+    monkeypatch.setattr(prepare, "sample_keys", lambda *arguments: made.append(sample_keys(*arguments)) or made[-1])
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        open_ledger(path, settings)
+        _, rows = open_ledger(path, settings.replace(ledger={"engine": engine}))
+    try:
+        keys = rows.engine.arrow("SELECT sw__key FROM sw__base").column("sw__key").to_numpy()
+    finally:
+        rows.close()
+    assert len(np.unique(made[0])) == len(made[0]) == 600  # every row its own key
+    np.testing.assert_array_equal(np.sort(keys), np.sort(made[0]))
+
+
 COEFFICIENT_RTOL = 1e-9  # the engine adds the Newton sums in its own order; both fits stop at the same tolerance
 
 

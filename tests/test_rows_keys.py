@@ -14,7 +14,7 @@ import pandas as pd
 import pyarrow as pa
 import pytest
 
-from scorecard.rows.keys import canonical_text, canonical_texts, float_texts, md5_keys, row_texts, split_keys
+from scorecard.rows.keys import canonical_text, canonical_texts, float_texts, md5_keys, repeat_keys, row_texts, split_keys
 
 
 def _hashlib_key(text: str) -> int:
@@ -85,6 +85,26 @@ def test_split_keys_hash_the_seeded_row_text():
     keys = split_keys(frame, ["id"], 20260101)
     assert keys.tolist() == [_hashlib_key("20260101:2:A1"), _hashlib_key("20260101:2:B2")]
     assert split_keys(frame, ["id"], 7).tolist() != keys.tolist()
+
+
+def test_the_repeats_of_a_row_take_the_key_of_the_key_and_their_number():
+    frame = pd.DataFrame({"a": [1, 2, 1, 1], "b": ["x", "y", "x", "x"]})
+    keys = split_keys(frame, ["a", "b"], 5)
+    asked = []
+
+    def twins(rows):
+        asked.append(rows.tolist())
+        return split_keys(frame.iloc[rows], ["a", "b"], 6)
+
+    keyed = repeat_keys(keys, twins, 5)
+    assert asked == [[0, 2, 3]]  # only rows whose key another row shares
+    assert keyed[0] == keys[0] and keyed[1] == keys[1]  # the first of identical rows, and a row not repeated, keep theirs
+    assert keyed[2] == _hashlib_key(f"5:{keys[0]}#1") and keyed[3] == _hashlib_key(f"5:{keys[0]}#2")
+    # rows of equal key but another twin key (different rows whose keys collide; forced here) are each a first
+    colliding, twin = np.array([7, 7, 7, 3]), np.array([1, 2, 1, 9])
+    assert repeat_keys(colliding, lambda rows: twin[rows], 5).tolist() == [7, 7, _hashlib_key("5:7#1"), 3]
+    asked.clear()
+    assert repeat_keys(keys[:2], twins, 5).tolist() == keys[:2].tolist() and asked == []  # nothing repeated, nothing asked
 
 
 @pytest.mark.parametrize("rows", [0, 1])

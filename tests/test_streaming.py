@@ -86,6 +86,33 @@ def test_rows_of_equal_key_are_split_alike_in_memory_and_in_batches(ledgers, mon
     np.testing.assert_array_equal(samples[0], samples[1])
 
 
+def test_repeated_rows_without_an_id_are_split_by_the_holdout_share_alike_in_memory_and_in_batches(ledgers, tmp_path):
+    # 40 kinds of row, each 50 times, and no id column: identical rows hash alike, so they once went to one
+    # sample all together; their repeats are now keyed apart, and each kind is split near the hold-out share
+    from scorecard.rows.keys import holdout_count
+    from scorecard.terms import HOLDOUT
+
+    frame = pd.read_csv(ledgers[0]).drop(columns=["application_id"])
+    kinds = frame[frame["application_date"] < "2025-07-01"].head(40)  # in time: every row may go to the hold-out
+    settings = _settings("")
+    share = settings.samples.holdout_fraction
+    found = []
+    for order in (1, 2):
+        repeated = kinds.loc[kinds.index.repeat(50)].sample(frac=1.0, random_state=order)
+        path = write_ledger(repeated, tmp_path / f"repeated{order}.csv")
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            ledgers_read = [open_ledger(path, settings, stream=stream)[0] for stream in (False, True)]
+        whole, streamed = ledgers_read
+        np.testing.assert_array_equal(whole.sample, streamed.sample)  # two batches of 1,700 and 300 rows
+        for code in np.unique(whole.outcome):  # each outcome class gives exactly its share
+            assert np.sum((whole.outcome == code) & (whole.sample == HOLDOUT)) == holdout_count(np.sum(whole.outcome == code), share)
+        held = pd.Series(whole.sample == HOLDOUT).groupby(repeated.index.to_numpy()).mean()
+        assert len(held) == 40 and held.between(0.08, 0.52).all(), held.describe()  # 50 rows each: 15 expected, ±11
+        found.append(held)
+    pd.testing.assert_series_equal(found[0], found[1])  # in another row order, each kind splits the same
+
+
 @pytest.mark.parametrize("stream", [False, True])
 def test_a_ledger_in_another_row_order_gives_the_same_model(ledgers, tmp_path, stream):
     frame = pd.read_csv(ledgers[0])

@@ -27,7 +27,7 @@ from .ledger import Fingerprint, Ledger, RejectedRows, fingerprint_of
 from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, ledger_columns, read_batches, read_head, read_ledger
 from .roles import check_roles, joined_levels, protected_columns, protected_levels, role_values, unit_weights
 from .samples import (
-    draw_subsamples, frame_tie_texts, key_columns, needs_keys, out_of_time, sample_keys, split_samples,
+    draw_subsamples, frame_tie_texts, key_columns, needs_keys, out_of_time, repeats_apart, sample_keys, split_samples,
 )
 
 
@@ -272,15 +272,19 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
     del parts
     repairs = check_roles(outcome, weight, settings, source_name, require_outcome=require_outcome)
 
-    def tie_texts(rows: np.ndarray):  # the file is read again for the few rows of equal key at an edge
+    def rows_of(rows: np.ndarray, columns: Sequence[str]) -> pd.DataFrame:  # the file read again for a few rows
         order = np.argsort(rows, kind="stable")
         ascending, found = rows[order], []
-        for first_row, frame in file_batches(path, suffix, list(head.columns), types, batch_rows):
+        for first_row, frame in file_batches(path, suffix, list(columns), types, batch_rows):
             inside = ascending[(ascending >= first_row) & (ascending < first_row + len(frame))]
             found.append(frame.iloc[inside - first_row])
-        texts = frame_tie_texts(pd.concat(found, ignore_index=True), settings)(np.arange(len(rows)))
-        return [texts[i] for i in np.argsort(order)]
+        return pd.concat(found, ignore_index=True).iloc[np.argsort(order)].reset_index(drop=True)
 
+    def tie_texts(rows: np.ndarray):  # for the few rows of equal key at an edge
+        return frame_tie_texts(rows_of(rows, head.columns), settings)(np.arange(len(rows)))
+
+    if drawn:  # without an id column, the repeats of a row keyed apart (their rows read again)
+        keys = repeats_apart(keys, lambda rows: rows_of(rows, keyed), keyed, settings)
     sample = split_samples(outcome, dates, settings, keys=keys, tie_texts=tie_texts, source=source_name)
     subsamples = draw_subsamples(sample, outcome, keys, settings, tie_texts=tie_texts) if drawn else {}
     del keys

@@ -1,7 +1,8 @@
 """The sample split: development, hold-out (stratified by outcome, by a seeded hash) and out-of-time (by date).
 
 The hold-out sample is drawn from each row's split key (``scorecard.rows.keys``): a seeded hash
-of the id column, or of the whole row when there is none. Of each outcome class, the rows with
+of the id column, or of the whole row when there is none (the repeats of a row then keyed apart,
+so that identical rows are split like any others). Of each outcome class, the rows with
 the smallest keys form the hold-out sample, so the split depends on the rows' content only, never
 on their order or on where they are read (in memory, in batches, by a SQL engine or a cluster).
 """
@@ -15,7 +16,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import LedgerError, describe_rows
-from ..rows.keys import holdout_count, row_texts, split_keys, subsample_keys
+from ..rows.keys import TWIN_SEED_STEP, holdout_count, repeat_keys, row_texts, split_keys, subsample_keys
 from ..settings import Settings
 from ..terms import BAD, DEVELOPMENT, GOOD, HOLDOUT, OUT_OF_TIME, OUTCOME_NAMES
 
@@ -123,7 +124,19 @@ def key_columns(columns: Sequence[str], settings: Settings) -> list[str]:
 
 def sample_keys(frame: pd.DataFrame, settings: Settings) -> np.ndarray:
     """The split key of every row of a ledger held in memory (``scorecard.rows.keys``)."""
-    return split_keys(frame, key_columns(frame.columns, settings), settings.samples.seed)
+    columns = key_columns(frame.columns, settings)
+    return repeats_apart(split_keys(frame, columns, settings.samples.seed), lambda rows: frame.iloc[rows], columns, settings)
+
+
+def repeats_apart(keys: np.ndarray, rows_of: Callable[[np.ndarray], pd.DataFrame], columns: Sequence[str],
+                  settings: Settings) -> np.ndarray:
+    """Without an id column, the split keys with the repeats of a row keyed apart (``scorecard.rows.keys``, rule 3),
+    so that a ledger that repeats its rows still splits them by the hold-out share; with one, ``keys`` as they are.
+    ``rows_of(rows)`` gives the ``columns`` of some rows (only of rows whose key another row shares)."""
+    if settings.ledger.id_column:
+        return keys
+    seed = settings.samples.seed
+    return repeat_keys(keys, lambda rows: split_keys(rows_of(rows), columns, seed + TWIN_SEED_STEP), seed)
 
 
 def frame_tie_texts(frame: pd.DataFrame, settings: Settings) -> TieTexts:

@@ -26,7 +26,7 @@ import pyarrow as pa
 from ..errors import LedgerError, ScorecardWarning, describe_ids
 from ..rows import RowPlace, connect
 from ..rows import sql
-from ..rows.keys import holdout_count
+from ..rows.keys import TWIN_SEED_STEP, holdout_count
 from ..rows.sqlrows import LEDGER, PREFIX, SOURCE, TYPED_SOURCE as TYPED, SqlRows
 from ..settings import Settings
 from ..terms import (
@@ -306,12 +306,17 @@ def _base_query(dialect: sql.Dialect, settings: Settings, outcome: str, weight: 
     """Every column, and ours: outcome code, weight and its units, day and quarter, split keys, a row number."""
     columns = ["*", f"{outcome} AS sw__outcome", f"CAST({weight} AS DOUBLE) AS sw__weight",
                f"{sql.weight_units(weight)} AS sw__units", f"{day} AS sw__day", f"{_quarter(dialect, day)} AS sw__quarter"]
+    seed = settings.samples.seed
+    apart = drawn and not settings.ledger.id_column  # the key is the whole row's: its repeats are keyed apart
     if drawn:
         keyed = {c: sql.value_kind(types[c]) for c in key_columns(list(types), settings)}
-        key = sql.key(dialect, sql.row_text(dialect, keyed), settings.samples.seed)
-        columns.append(f"{key} AS sw__key")
+        text = sql.row_text(dialect, keyed)
+        columns.append(f"{sql.key(dialect, text, seed)} AS {'sw__key0' if apart else 'sw__key'}")
+        if apart:
+            columns.append(f"{sql.key(dialect, text, seed + TWIN_SEED_STEP)} AS sw__twin")
     columns.append(("row_number() OVER ()" if dialect.name == DUCKDB else "monotonically_increasing_id()") + " AS sw__row")
-    return f"SELECT {', '.join(columns)} FROM {TYPED}"
+    query = f"SELECT {', '.join(columns)} FROM {TYPED}"
+    return sql.repeats_apart(dialect, query, seed) if apart else query
 
 
 def _quarter(dialect: sql.Dialect, day: str) -> str:

@@ -26,6 +26,14 @@ each row gets a key computed from its content alone, by rules every engine can f
    (0 <= key < 2**60; a SQL engine's BIGINT holds it). The split key is that of the id column's
    row text when the ledger has an id column, else that of the whole row.
 
+   Without an id column, identical rows would share one key and so one sample, all of them: a
+   ledger that repeats its rows a lot would give a hold-out of a few kinds of row. So repeats are
+   keyed apart: rows of equal key are told apart by their **twin key** (the key of the same row
+   text under seed + 1); of the rows that share both, one keeps its key and the n-th other one
+   (n = 1, 2, ...) takes the key of the text ``"<key>#<n>"`` (the key in decimal). Identical rows
+   are interchangeable, so which of them keeps its key does not matter: the samples stay the same
+   in any row order. A row that is not repeated keeps its key.
+
 4. **How many and which**: each outcome class of n rows gives ``holdout_count(n, fraction)`` rows
    of smallest key to the hold-out; a sub-sample of development takes the rows of smallest
    ``subsample_keys`` (the keys reordered by an odd multiplier, one per purpose).
@@ -38,7 +46,7 @@ from __future__ import annotations
 
 import datetime
 import decimal
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from fractions import Fraction
 
 import numpy as np
@@ -49,6 +57,8 @@ import pyarrow.compute as pc
 KEY_BITS = 60  # 15 hex digits: the key fits a signed 64-bit integer in every engine
 MISSING_FIELD = "-"
 FIELD_SEPARATOR = "|"
+REPEAT_MARK = "#"  # "<key>#<n>": the text whose key the n-th repeat of a row takes
+TWIN_SEED_STEP = 1  # twin keys hash the row text under seed + 1
 _CHUNK_ROWS = 1 << 14  # rows hashed together: the uint32 work arrays stay in the processor's cache
 _TWO_63 = 2.0**63
 
@@ -66,6 +76,42 @@ def split_keys(frame: pd.DataFrame, columns: Sequence[str], seed: int) -> np.nda
         The settings' ``samples.seed``.
     """
     return md5_keys(seeded(row_texts(frame, columns), seed))
+
+
+def repeat_keys(keys: np.ndarray, twins: Callable[[np.ndarray], np.ndarray], seed: int) -> np.ndarray:
+    """Return the split keys with the repeats of a row keyed apart (rule 3 of the module).
+
+    Parameters
+    ----------
+    keys : numpy.ndarray
+        The split key of every row (``split_keys`` over the whole row).
+    twins : callable
+        ``twins(rows)``: the twin keys (``split_keys`` under seed + 1) of the rows numbered
+        ``rows`` (ascending); asked only for rows whose key another row shares.
+    seed : int
+        The settings' ``samples.seed``.
+    """
+    order = np.argsort(keys, kind="stable")
+    ordered = keys[order]
+    same = ordered[1:] == ordered[:-1]
+    if not same.any():
+        return keys
+    shared = np.zeros(len(keys), dtype=bool)
+    shared[1:] |= same
+    shared[:-1] |= same
+    rows = np.sort(order[shared])
+    twin = np.asarray(twins(rows), dtype=np.int64)
+    by = np.lexsort((rows, twin, keys[rows]))  # by key, then twin key, then row
+    key, twin, rows = keys[rows][by], twin[by], rows[by]
+    starts = np.r_[True, (key[1:] != key[:-1]) | (twin[1:] != twin[:-1])]
+    place = np.arange(len(rows))
+    repeat = place - np.maximum.accumulate(np.where(starts, place, 0))  # 0 for the first of equal rows, then 1, 2, ...
+    again = repeat > 0
+    texts = pc.binary_join_element_wise(pc.cast(pa.array(key[again]), pa.string()), pc.cast(pa.array(repeat[again]), pa.string()),
+                                        REPEAT_MARK)
+    keyed = keys.copy()
+    keyed[rows[again]] = md5_keys(seeded(texts, seed))
+    return keyed
 
 
 def seeded(texts: pa.Array, seed: int) -> pa.Array:

@@ -3,8 +3,9 @@
 Every expression here computes, row by row inside the engine, exactly what the in-process engine
 computes with numpy, so the count tables that come back are the same:
 
-- ``canonical_text`` / ``key``: the split key of ``scorecard.rows.keys`` (the canonical text of a
-  value by its type, the row text, the first 60 bits of its MD5), and the sub-sample keys;
+- ``canonical_text`` / ``key`` / ``repeats_apart``: the split key of ``scorecard.rows.keys`` (the
+  canonical text of a value by its type, the row text, the first 60 bits of its MD5, the repeats of
+  a row keyed apart), and the sub-sample keys;
 - ``numeric_code`` / ``categorical_code``: a value's bin, as ``scorecard.rows.coding.code_rows``
   puts it (``searchsorted(cuts, x, side='right')``, then special values, then missing);
 - ``score`` and ``reason_keys``: the points of a row's bins added in the points table's order (the
@@ -25,7 +26,7 @@ from typing import TYPE_CHECKING
 import pyarrow as pa
 
 from ..terms import DUCKDB, NUMERIC, SPARK
-from .keys import FIELD_SEPARATOR, KEY_BITS, MISSING_FIELD, SUBSAMPLE_MULTIPLIERS
+from .keys import FIELD_SEPARATOR, KEY_BITS, MISSING_FIELD, REPEAT_MARK, SUBSAMPLE_MULTIPLIERS
 
 if TYPE_CHECKING:  # data handed in; rows import no stage
     from ..classing import Binning
@@ -156,6 +157,18 @@ def key(dialect: Dialect, text: str, seed: int) -> str:
     if dialect.name == DUCKDB:
         return f"CAST(concat('0x', {digits}) AS BIGINT)"
     return f"CAST(conv({digits}, 16, 10) AS BIGINT)"
+
+
+def repeats_apart(dialect: Dialect, query: str, seed: int) -> str:
+    """The rows of ``query`` (whose columns include ``sw__key0``, the key of the whole row, ``sw__twin``, its twin
+    key, and ``sw__row``) with their split key ``sw__key``: the repeats of a row keyed apart, as
+    ``scorecard.rows.keys.repeat_keys`` keys them (the n-th repeat takes the key of ``"<key>#<n>"``)."""
+    # which of identical rows counts as the first does not matter; Spark needs an order to number them
+    numbered = (f"SELECT *, row_number() OVER (PARTITION BY sw__key0, sw__twin ORDER BY sw__row) - 1 AS sw__repeat "
+                f"FROM ({query}) sw__unnumbered")
+    text = f"concat({dialect.cast_text('sw__key0')}, '{REPEAT_MARK}', {dialect.cast_text('sw__repeat')})"
+    return (f"SELECT *, CASE WHEN sw__repeat = 0 THEN sw__key0 ELSE {key(dialect, text, seed)} END AS sw__key "
+            f"FROM ({numbered}) sw__numbered")
 
 
 def subsample_key(dialect: Dialect, split_key: str, purpose: str) -> str:
