@@ -5,7 +5,8 @@
 In order: make (or reuse) the ledger; run ``scorewright init`` once; time pandas' two CSV engines
 and keep the faster as the parse-only baseline; time ``scorewright --help``; alternate parse-only
 with build (with and without reports), the hand-written pipeline and score, ``--pairs`` rounds;
-compute the true model's AUC; time in-memory scoring; time report rendering at two sizes; with
+compute the true model's AUC; time in-memory scoring; time report rendering at two sizes and the
+workbook of credit_data; with
 ``--streaming``, time streamed builds on Parquet ledgers of each size; with ``--engines``, the same
 build through each engine (``rowengines.py``). RESULTS.md is written at the end, atomically.
 Progress goes to stderr.
@@ -63,6 +64,8 @@ def main(argv: list[str] | None = None) -> int:
     results.scoring = (s.in_process("scoring", model, ledger, "--repeats", SCORING_REPEATS, log=_log)
                        if model.exists() else {"error": "no model file: the build failed"})
     results.reports = s.report_rendering((rows // 10, rows), SEED, settings, _log)
+    _log("the workbook of credit_data ...")
+    results.credit_workbook = s.in_process("credit-data", log=_log)
     if options.streaming:
         results.streaming = streamed_builds(sizes, SEED, settings, _log)
     if options.engines:

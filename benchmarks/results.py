@@ -41,6 +41,7 @@ class Results:
     truth: dict = field(default_factory=dict)
     scoring: dict = field(default_factory=dict)
     reports: dict | str | None = None
+    credit_workbook: dict = field(default_factory=dict)  # the workbook of credit_data (inmemory.py credit-data)
     streaming: list[tuple[int, Run]] | str | None = None
     row_engines: list[dict] | None = None  # the same build through each engine (rowengines.py)
     finished: datetime | None = None
@@ -114,6 +115,12 @@ def report_growth(results: Results, part: str) -> float | None:
     if len(measured) < 2:
         return None
     return median(measured[max(measured)]) / median(measured[min(measured)])
+
+
+def credit_workbook_seconds(results: Results) -> float | None:
+    """Seconds of the workbook of credit_data (median of the repeats)."""
+    seconds = results.credit_workbook.get("workbook")
+    return median(seconds) if seconds else None
 
 
 def streamed_peak(results: Results) -> float | None:
@@ -190,6 +197,8 @@ def target_list(results: Results) -> list[t.Target]:
                  t.REPORT_GROWTH, True, detail=report_note),
         t.Target("workbook time flat in rows (10× rows: ≤ 1.5×)", report_growth(results, "workbook"),
                  t.REPORT_GROWTH, True, detail=report_note),
+        t.Target("workbook of credit_data ≤ 2 s", credit_workbook_seconds(results), t.CREDIT_WORKBOOK_SECONDS, True,
+                 t.seconds),
         t.Target("streamed build peak RSS ≤ 3 GB at every size", streamed_peak(results), t.STREAM_PEAK_MB, True,
                  t.megabytes, detail=_streaming_note(results)),
         t.Target("streamed peak RSS nearly flat (largest size ≤ 1.5× smallest)", streamed_growth(results, False),

@@ -171,8 +171,14 @@ def _reports(results: r.Results) -> str:
                      _number(median(found["workbook"]), "{:.3f}"), len(found["render_report"])))
     text += ("`render_report(build, validation)` and `workbook(build, validation)` (the workbook object, not saved) "
              "timed in one process after `build_scorecard(frame, settings)` and `validate_build(build)`; medians.\n\n")
-    return text + table(["rows", "build + validate s", "render_report s", "workbook s", "repeats"], rows,
-                        numeric=(0, 1, 2, 3, 4))
+    text += table(["rows", "build + validate s", "render_report s", "workbook s", "repeats"], rows, numeric=(0, 1, 2, 3, 4))
+    credit = results.credit_workbook.get("workbook")
+    if credit:
+        text += (f"\n\nThe workbook of `credit_data` (modeldata, {results.credit_workbook['rows']:,} rows; "
+                 f"`python -m benchmarks.inmemory credit-data`): {median(credit):.3f} s, median of {len(credit)}.")
+    elif results.credit_workbook:
+        text += f"\n\nThe workbook of `credit_data`: {results.credit_workbook.get('error', 'not measured')}."
+    return text
 
 
 def _streaming(results: r.Results) -> str:

@@ -10,7 +10,6 @@ recalculates the saved book, and every formula cell must give the value the tool
 from __future__ import annotations
 
 import math
-import time
 import warnings
 
 import numpy as np
@@ -33,7 +32,6 @@ import spreadsheet  # tests/spreadsheet.py: the LibreOffice recalculation
 # LibreOffice writing 15 significant digits to the file) agree to far better than this.
 RECALC_RTOL = 1e-9
 RECALC_ATOL = 1e-12  # a WoE or share of exactly 0 has no relative scale
-BUILD_SECONDS = 2.0  # the brief: well under a second or two for credit_data
 
 FORMULA_LIKE = ("=1+1", "@SUM(A1)", "-5")
 LEVELS = (*FORMULA_LIKE, "branch", "vip")
@@ -268,13 +266,10 @@ def test_a_failed_write_leaves_the_old_file_and_no_temporary(invented, tmp_path,
 
 
 @pytest.mark.slow
-def test_credit_data_book_is_quick_and_sized_by_the_tables(credit):
+def test_credit_data_book_is_sized_by_the_tables(credit):
+    # its time is measured in the benchmarks (benchmarks/inmemory.py credit-data), not here
     build, validation = credit
-    start = time.perf_counter()
     book = workbook(build, validation)
-    seconds = time.perf_counter() - start
-    assert seconds < BUILD_SECONDS, f"{seconds:.2f} s"
-    print(f"workbook of credit_data built in {seconds:.3f} s")
     classing_rows = sum(len(c.binning.labels) + 2 for c in build.characteristics)
     assert book["Classing"].max_row == 4 + classing_rows - 1  # no blank row after the last block
     cutoff_rows = sum(len(s.cutoffs.cutoffs) for s in validation.samples.values())
