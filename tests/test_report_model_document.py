@@ -47,6 +47,10 @@ def test_every_heading_of_the_guidance_is_there_and_the_page_is_self_contained(d
     assert headings == HEADINGS
     assert "<script" not in html and not re.search(r"(src|href)=\"(https?:)?//", html)
     assert "SR 11-7" in "".join(first.text)
+    # the caution every deliverable carries, said of this document
+    text = " ".join(first.text)
+    assert "This document supports, and does not replace, the lender's own credit policy" in text
+    assert "This report supports" not in text
 
 
 def test_what_only_the_lender_can_write_is_a_marked_placeholder_until_the_settings_give_it(documents):

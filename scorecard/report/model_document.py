@@ -18,8 +18,7 @@ import numpy as np
 
 from .. import __version__
 from ..files import write_text_atomically
-from ..terms import DEVELOPMENT_NAME
-from . import CAUTION
+from ..terms import DEVELOPMENT_NAME, caution
 from .build_page import _challenger, _data, _fairness, _fingerprint, _headline_table
 from .page_kit import DASH, classed_by, environment, fixed_text, signed_text, text_table
 
@@ -60,7 +59,7 @@ def render_model_document(build, validation, *, previous=None, previous_name: st
         "title": f"{report.title}: model document",
         "kicker": "Model document",
         "subtitle": (f"{report.lender} · " if report.lender else "") + f"built from {build.source}",
-        "caution": CAUTION,
+        "caution": caution("This document"),
         "tool_version": __version__,
         "sections": SECTIONS,
         "guidance": GUIDANCE,
