@@ -47,7 +47,7 @@ from .page_kit import NOT_COMPUTED, classed_by, degrees_of_freedom_rule, referen
 from .sheet_kit import (
     AUC, CAPTION_ROW, COUNT, FIRST_ROW, Formula, HEADER_ROW, INPUT_FILL, P_VALUE, Placed, RATE, SAMPLE_COLOURS,
     SMALL_P_VALUE, STATISTIC, WOE, as_points, bar_chart, cell_address, count_number_format, fit_widths,
-    formula_cell, freeze_header, header_cells, print_across, range_address, reference_candidate, save_workbook,
+    formula_cell, freeze_header, header_cells, impact_formulas, print_across, range_address, save_workbook,
     scatter_chart, sheet_heading, text_cell, text_sections, value_cell, write_frame, write_pairs,
 )
 
@@ -752,18 +752,12 @@ def _fairness_sheet(sheet: Worksheet, build, validation, counts_format: str) -> 
     rows, row = [], FIRST_ROW
     for attribute, impact in fairness.impacts.items():
         first, last = row, row + len(impact.levels) - 1
-        candidates = f"${letter['Rate if it may be the reference']}${first}:${letter['Rate if it may be the reference']}${last}"
-        counts = f"${letter['Applications']}${first}:${letter['Applications']}${last}"
         for level, applications, approved, goods, bads in zip(impact.levels, impact.applications, impact.approved,
                                                               impact.goods_approved, impact.bads_approved):
             cell = {name: f"{letter[name]}{row}" for name in letter}
             rows.append({
                 "Attribute": attribute, "Level": level, "Applications": applications, "Approved": approved,
-                "Approval rate": Formula(f'IF({cell["Applications"]}>0,{cell["Approved"]}/{cell["Applications"]},"")'),
-                "Rate if it may be the reference": reference_candidate(cell, counts, build.settings.fairness.reference_share),
-                "Ratio to the reference": Formula(f'IF(MAX({candidates})>0,{cell["Approval rate"]}/MAX({candidates}),"")'),
-                "Under the guide": Formula(f'IF({cell["Ratio to the reference"]}<{guide!r},"under {guide:g}",'
-                                           f'"at or above {guide:g}")'),
+                **impact_formulas(cell, letter, first, last, build.settings.fairness.reference_share, guide),
                 "Goods approved": goods, "Bads approved": bads,
                 "Bad rate among approved": Formula(f'IF({cell["Goods approved"]}+{cell["Bads approved"]}>0,'
                                                    f'{cell["Bads approved"]}/({cell["Goods approved"]}+{cell["Bads approved"]}),"")'),

@@ -39,7 +39,7 @@ from . import CAUTION
 from .page_kit import NOT_COMPUTED, reference_wording
 from .sheet_kit import (
     FIRST_ROW, HEADER_ROW, NOTE_ROW, RATE, SMALL_P_VALUE, STATISTIC, WEIGHTED_COUNT, Formula, Placed, bar_chart,
-    count_number_format, fit_widths, freeze_header, reference_candidate, save_workbook, sheet_heading, text_cell,
+    count_number_format, fit_widths, freeze_header, impact_formulas, save_workbook, sheet_heading, text_cell,
     text_sections, write_frame, write_pairs,
 )
 
@@ -436,18 +436,11 @@ def _fairness_sheet(sheet: Worksheet, result: MonitorResult, saved: SavedModel, 
     for attribute, periods in result.impacts.items():
         for period, impact in periods.items():
             first, last = row, row + len(impact.levels) - 1
-            candidates = f"${letter['Rate if it may be the reference']}${first}:${letter['Rate if it may be the reference']}${last}"
-            counts_range = f"${letter['Applications']}${first}:${letter['Applications']}${last}"
             for level, applications, approved in zip(impact.levels, impact.applications, impact.approved):
                 cell = {name: f"{letter[name]}{row}" for name in letter}
                 rows.append({"Attribute": attribute, "Period": WHOLE_LEDGER if period == "all" else period, "Level": level,
                              "Applications": applications, "Approved": approved,
-                             "Approval rate": Formula(f'IF({cell["Applications"]}>0,{cell["Approved"]}/{cell["Applications"]},"")'),
-                             "Rate if it may be the reference": reference_candidate(cell, counts_range,
-                                                                                    saved.settings.fairness.reference_share),
-                             "Ratio to the reference": Formula(f'IF(MAX({candidates})>0,{cell["Approval rate"]}/MAX({candidates}),"")'),
-                             "Under the guide": Formula(f'IF({cell["Ratio to the reference"]}<{guide!r},"under {guide:g}",'
-                                                        f'"at or above {guide:g}")')})
+                             **impact_formulas(cell, letter, first, last, saved.settings.fairness.reference_share, guide)})
                 row += 1
     write_frame(sheet, pd.DataFrame(rows, columns=FAIRNESS_COLUMNS, dtype=object), caption="Adverse impact at the cut-off",
                 formats={"Applications": counts, "Approved": counts, "Approval rate": RATE,

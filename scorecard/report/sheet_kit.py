@@ -152,15 +152,26 @@ class Formula(str):
 TOO_SMALL = "too small"  # a level that holds too few applications to be the adverse-impact reference
 
 
-def reference_candidate(cell: Mapping[str, str], counts: str, share: float) -> Formula:
-    """A level's approval rate when it may be the adverse-impact reference, else the words "too small".
+def impact_formulas(cell: Mapping[str, str], letter: Mapping[str, str], first: int, last: int, share: float,
+                    guide: float) -> dict[str, Formula]:
+    """The adverse-impact columns of one level's row (rows ``first`` to ``last`` hold its attribute's levels).
 
-    A level may be the reference when it holds at least ``share`` of the attribute's applications
-    (``counts``: the range of its levels' applications), and the largest level always may; the
-    reference is then the largest rate of the column (checks.fairness.adverse_impact).
+    Approval rate; the rate again when the level may be the reference, else the words "too small" (a
+    level may be when it holds at least ``share`` of the attribute's applications, and the largest
+    level always may: checks.fairness.adverse_impact); the ratio to the largest such rate; and
+    whether it is under the four-fifths ``guide``. ``cell`` and ``letter`` give each header's cell in
+    the row and its column letter.
     """
-    mine = cell["Applications"]
-    return Formula(f'IF(OR({mine}>={share!r}*SUM({counts}),{mine}=MAX({counts})),{cell["Approval rate"]},"{TOO_SMALL}")')
+    counts, candidates = (f"${letter[header]}${first}:${letter[header]}${last}"
+                          for header in ("Applications", "Rate if it may be the reference"))
+    mine, rate, ratio = cell["Applications"], cell["Approval rate"], cell["Ratio to the reference"]
+    return {
+        "Approval rate": Formula(f'IF({mine}>0,{cell["Approved"]}/{mine},"")'),
+        "Rate if it may be the reference": Formula(f'IF(OR({mine}>={share!r}*SUM({counts}),{mine}=MAX({counts})),'
+                                                   f'{rate},"{TOO_SMALL}")'),
+        "Ratio to the reference": Formula(f'IF(MAX({candidates})>0,{rate}/MAX({candidates}),"")'),
+        "Under the guide": Formula(f'IF({ratio}<{guide!r},"under {guide:g}","at or above {guide:g}")'),
+    }
 
 
 @dataclass(frozen=True)
