@@ -26,6 +26,15 @@ from scorecard.checks.discrimination import (
     freeze_arrays,
     validated_histogram,
 )
+from scorecard.checks.distributions import (
+    beta_cdf,
+    beta_ppf,
+    binomial_cdf,
+    binomial_pmf,
+    binomial_sf,
+    chi_square_sf,
+    normal_sf,
+)
 from scorecard.errors import FitError, ScorecardError, ScorecardWarning, describe_rows
 from scorecard.fitter import fit_logistic
 
@@ -46,14 +55,6 @@ __all__ = [
 # "as likely" in the two-sided binomial test; the same guard against rounding that R's binom.test
 # and scipy.stats.binomtest use.
 _AS_LIKELY = 1e-7
-
-
-def _stats():
-    """scipy.stats, imported where a check first needs it: importing it takes about half a second,
-    which a build that writes no report (and never runs these checks) should not pay at start-up."""
-    from scipy import stats
-
-    return stats
 
 
 @dataclass(frozen=True, eq=False)  # eq=False: arrays have no single truth value to compare by
@@ -261,8 +262,8 @@ def calibration_table(scores, goods, bads, pd, *, n_bands: int = 10, edges=None,
         count=count, goods=bands["goods"], bads=bands["bads"], observed_rate=bands["bads"] / count,
         mean_pd=mean_pd, expected_bads=bands["expected_bads"],
         binomial_p_two_sided=_binomial_two_sided(whole_bads, whole_count, mean_pd),
-        binomial_p_excess=_stats().binom.sf(whole_bads - 1, whole_count, mean_pd),
-        jeffreys_p=_stats().beta.cdf(mean_pd, bands["bads"] + 0.5, bands["goods"] + 0.5),
+        binomial_p_excess=binomial_sf(whole_bads - 1, whole_count, mean_pd),
+        jeffreys_p=beta_cdf(mean_pd, bands["bads"] + 0.5, bands["goods"] + 0.5),
         jeffreys_lower=lower, jeffreys_upper=upper, level=float(level), rounded_counts=rounded,
     )
 
@@ -305,7 +306,7 @@ def hosmer_lemeshow(table: CalibrationTable, *, in_sample: bool = True) -> Hosme
         )
     expected = table.expected_bads
     statistic = float(np.sum((table.bads - expected) ** 2 / (expected * (1 - expected / table.count))))
-    return HosmerLemeshow(statistic=statistic, df=df, p_value=float(_stats().chi2.sf(statistic, df)),
+    return HosmerLemeshow(statistic=statistic, df=df, p_value=float(chi_square_sf(statistic, df)),
                           n_bands=n_bands, in_sample=bool(in_sample))
 
 
@@ -344,8 +345,8 @@ def calibration_in_the_large(scores, goods, bads, pd) -> CalibrationInTheLarge:
     z = (observed - expected) / np.sqrt(count @ (pd * (1 - pd)))
     return CalibrationInTheLarge(
         count=total, observed_bads=observed, expected_bads=expected, observed_rate=observed / total,
-        expected_rate=expected / total, z=float(z), p_two_sided=float(2 * _stats().norm.sf(abs(z))),
-        p_excess=float(_stats().norm.sf(z)),
+        expected_rate=expected / total, z=float(z), p_two_sided=float(2 * normal_sf(abs(z))),
+        p_excess=float(normal_sf(z)),
     )
 
 
@@ -391,8 +392,8 @@ def calibration_line(scores, goods, bads, pd) -> CalibrationLine:
     intercept_se, slope_se = fit.std_errors
     return CalibrationLine(
         intercept=float(intercept), slope=float(slope), intercept_std_error=float(intercept_se),
-        slope_std_error=float(slope_se), intercept_p_value=float(2 * _stats().norm.sf(abs(intercept) / intercept_se)),
-        slope_p_value=float(2 * _stats().norm.sf(abs(slope - 1) / slope_se)),
+        slope_std_error=float(slope_se), intercept_p_value=float(2 * normal_sf(abs(intercept) / intercept_se)),
+        slope_p_value=float(2 * normal_sf(abs(slope - 1) / slope_se)),
     )
 
 
@@ -540,19 +541,19 @@ def _whole_counts(count: np.ndarray, bads: np.ndarray, band: np.ndarray) -> tupl
 def _binomial_two_sided(bads: np.ndarray, count: np.ndarray, pd: np.ndarray) -> np.ndarray:
     """Sum of the probabilities of all outcomes no more likely than the observed one, per band."""
     expected = count * pd
-    threshold = _stats().binom.pmf(bads, count, pd) * (1 + _AS_LIKELY)
+    threshold = binomial_pmf(bads, count, pd) * (1 + _AS_LIKELY)
 
     def pmf_at_most(j):
-        return _stats().binom.pmf(j, count, pd) <= threshold
+        return binomial_pmf(j, count, pd) <= threshold
 
     def pmf_above(j):
-        return _stats().binom.pmf(j, count, pd) > threshold
+        return binomial_pmf(j, count, pd) > threshold
 
     # The pmf falls on each side of the mean, so the unlikely outcomes on the far side form a tail.
     upper_tail_start = _first_true(pmf_at_most, np.ceil(expected), count + 1)
     lower_tail_end = _first_true(pmf_above, np.zeros_like(count), np.floor(expected) + 1) - 1
-    below_mean = _stats().binom.cdf(bads, count, pd) + _stats().binom.sf(upper_tail_start - 1, count, pd)
-    above_mean = _stats().binom.cdf(lower_tail_end, count, pd) + _stats().binom.sf(bads - 1, count, pd)
+    below_mean = binomial_cdf(bads, count, pd) + binomial_sf(upper_tail_start - 1, count, pd)
+    above_mean = binomial_cdf(lower_tail_end, count, pd) + binomial_sf(bads - 1, count, pd)
     p_value = np.where(bads < expected, below_mean, above_mean)
     return np.minimum(1.0, np.where(bads == expected, 1.0, p_value))
 
@@ -571,6 +572,6 @@ def _first_true(predicate, low: np.ndarray, high: np.ndarray) -> np.ndarray:
 
 def _jeffreys_interval(bads: np.ndarray, goods: np.ndarray, level: float) -> tuple[np.ndarray, np.ndarray]:
     tail = (1 - level) / 2
-    lower = np.where(bads > 0, _stats().beta.ppf(tail, bads + 0.5, goods + 0.5), 0.0)
-    upper = np.where(goods > 0, _stats().beta.ppf(1 - tail, bads + 0.5, goods + 0.5), 1.0)
+    lower = np.where(bads > 0, beta_ppf(tail, bads + 0.5, goods + 0.5), 0.0)
+    upper = np.where(goods > 0, beta_ppf(1 - tail, bads + 0.5, goods + 0.5), 1.0)
     return lower, upper
