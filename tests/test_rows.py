@@ -17,6 +17,7 @@ from scorecard.rows import (
     UNSEEN_LABEL, InProcessRows, count_bins, merge_histograms, merge_pattern_tables, pattern_keys, pattern_table,
     reads_in_batches, row_table, score_histogram, tally_unseen,
 )
+from scorecard.rows.tables import score_histograms_by_part
 from scorecard.terms import BAD, GOOD, INDETERMINATE, OUTCOME_NAMES, SAMPLE_NAMES, UNKNOWN
 
 
@@ -126,6 +127,25 @@ def test_histograms_of_batches_merge_into_the_histogram_of_all_rows():
     for field in ("scores", "goods", "bads", "others"):
         np.testing.assert_array_equal(getattr(merged, field), getattr(whole, field))
     assert merged.everyone.sum() == weight.sum()
+
+
+def test_histograms_by_part_are_each_parts_own_histogram_to_the_bit():
+    rng = np.random.default_rng(18)
+    n = 20_000
+    scores = rng.integers(380, 720, n).astype(float)
+    outcome = rng.integers(0, 4, n)
+    weight = rng.uniform(0.1, 3.0, n)  # uneven weights: any change in the order of the sums would show
+    part = rng.integers(-1, 7, n)
+    part[part == 5] = -1  # part 5 has no rows
+    names = [f"p{p}" for p in range(7)]
+    found = score_histograms_by_part(scores, part, 7, outcome == GOOD, outcome == BAD, weight, names=names)
+    assert sorted(found) == [0, 1, 2, 3, 4, 6]
+    for p, histogram in found.items():
+        inside = part == p
+        alone = score_histogram(scores[inside], outcome[inside] == GOOD, outcome[inside] == BAD, weight[inside], sample=names[p])
+        assert histogram.sample == alone.sample
+        for field in ("scores", "goods", "bads", "others"):
+            assert getattr(histogram, field).tobytes() == getattr(alone, field).tobytes()
 
 
 # --------------------------------------------------------------------------------------------

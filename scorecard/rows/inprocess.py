@@ -18,8 +18,8 @@ from ..terms import BAD, DEVELOPMENT, GOOD, SAMPLE_NAMES, UNKNOWN
 from .coding import UNSEEN_LABEL, code_rows, ordered_levels, score_codes, tally_unseen, unseen_levels
 from .engine import Batches
 from .tables import (
-    MERGE_LIMIT, BinCounts, PatternTable, ScoreHistogram, count_bins, merge_histograms, merge_pattern_tables,
-    pattern_table, row_table, score_histogram,
+    MERGE_LIMIT, BinCounts, PatternTable, ScoreHistogram, count_bins, score_histograms_by_part, merge_histograms,
+    merge_pattern_tables, pattern_table, row_table, score_histogram,
 )
 
 THREADS = 2  # the machines this is built for have two cores or more; more threads gain little here
@@ -199,12 +199,11 @@ class InProcessRows:
         for first_row, codes in self.coded_batches(binnings, kept):
             scores = score_codes(codes, table)
             rows = slice(first_row, first_row + len(scores))
-            outcome, weight, sample = self.outcome[rows], self.weight[rows], self.sample[rows]
-            for index, name in enumerate(SAMPLE_NAMES):
-                inside = sample == index
-                if inside.any():
-                    parts.setdefault(name, []).append(score_histogram(
-                        scores[inside], outcome[inside] == GOOD, outcome[inside] == BAD, weight[inside], sample=name))
+            outcome = self.outcome[rows]
+            found = score_histograms_by_part(scores, self.sample[rows], len(SAMPLE_NAMES), outcome == GOOD, outcome == BAD,
+                                             self.weight[rows], names=SAMPLE_NAMES)
+            for index, histogram in found.items():
+                parts.setdefault(SAMPLE_NAMES[index], []).append(histogram)
         return {name: merge_histograms(pieces) for name, pieces in parts.items()}
 
     def level_tables(self, binnings: Sequence, table, levels: np.ndarray, parts: np.ndarray, *, n_levels: int,
@@ -227,23 +226,24 @@ class InProcessRows:
         """
         histograms: dict[tuple[int, int], list[ScoreHistogram]] = {}
         crossed: dict[tuple[int, str], np.ndarray] = {}
+        names = [f"{number}:{g}" for number in range(n_parts) for g in range(n_levels)]
         for first_row, codes in self.coded_batches(binnings, kept):
             scores = score_codes(codes, table)
             rows = slice(first_row, first_row + len(scores))
             outcome, weight, level, part = self.outcome[rows], self.weight[rows], levels[rows], parts[rows]
-            for number in range(n_parts):
-                for g in range(n_levels):
-                    inside = (part == number) & (level == g)
-                    if inside.any():
-                        histograms.setdefault((number, g), []).append(score_histogram(
-                            scores[inside], outcome[inside] == GOOD, outcome[inside] == BAD, weight[inside],
-                            sample=f"{number}:{g}"))
-                known = (part == number) & (level >= 0)
-                for j, binning in enumerate(binnings):
-                    cell = codes[known, j].astype(np.int64) * n_levels + level[known]
-                    counts = np.bincount(cell, weights=weight[known], minlength=binning.n_bins * n_levels)
+            known = (part >= 0) & (level >= 0)
+            slot = np.where(known, part.astype(np.int64) * n_levels + level, -1)  # a part and a level together
+            found = score_histograms_by_part(scores, slot, n_parts * n_levels, outcome == GOOD, outcome == BAD, weight,
+                                             names=names)
+            for both, histogram in found.items():
+                histograms.setdefault(divmod(both, n_levels), []).append(histogram)
+            part, level, weight, codes = part[known].astype(np.int64), level[known], weight[known], codes[known]
+            for j, binning in enumerate(binnings):
+                cell = (part * binning.n_bins + codes[:, j]) * n_levels + level
+                counts = np.bincount(cell, weights=weight, minlength=n_parts * binning.n_bins * n_levels)
+                for number, table_part in enumerate(counts.reshape(n_parts, binning.n_bins, n_levels)):
                     key = (number, binning.characteristic)
-                    crossed[key] = crossed.get(key, 0) + counts.reshape(binning.n_bins, n_levels)
+                    crossed[key] = crossed.get(key, 0) + table_part
         return ({key: merge_histograms(pieces) for key, pieces in histograms.items()}, crossed)
 
     def quarter_of_rows(self) -> np.ndarray:

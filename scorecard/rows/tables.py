@@ -259,6 +259,33 @@ def score_histogram(scores: np.ndarray, is_good: np.ndarray, is_bad: np.ndarray,
     return ScoreHistogram(sample, frozen(distinct), frozen(goods), frozen(bads), frozen(others))
 
 
+def score_histograms_by_part(scores: np.ndarray, part: np.ndarray, n_parts: int, is_good: np.ndarray,
+                             is_bad: np.ndarray, weight: np.ndarray, *, names: Sequence[str]) -> dict[int, ScoreHistogram]:
+    """Return ``score_histogram`` of the rows of each part that has any, from one sort and one count per outcome.
+
+    ``part`` is each row's part (0 .. n_parts − 1; -1: in none); ``names`` the parts' sample
+    names. Equal, bit for bit, to ``score_histogram`` of each part's rows: every cell's weights
+    are added in row order, as there.
+    """
+    distinct, inverse = np.unique(scores, return_inverse=True)
+    size = len(distinct)
+    inside = part >= 0
+    cell = part[inside].astype(np.int64) * size + inverse[inside]
+    weight, is_good, is_bad = weight[inside], is_good[inside], is_bad[inside]
+
+    def counted(weights: np.ndarray | None) -> np.ndarray:
+        return np.bincount(cell, weights=weights, minlength=n_parts * size).reshape(n_parts, size)
+
+    rows = counted(None)
+    goods, bads, others = counted(weight * is_good), counted(weight * is_bad), counted(weight * ~(is_good | is_bad))
+    found = {}
+    for p in np.flatnonzero(rows.sum(axis=1)):
+        present = rows[p] > 0
+        found[int(p)] = ScoreHistogram(names[p], frozen(distinct[present]), frozen(goods[p][present]),
+                                       frozen(bads[p][present]), frozen(others[p][present]))
+    return found
+
+
 def merge_histograms(histograms: Sequence[ScoreHistogram]) -> ScoreHistogram:
     """Return the histogram of several batches of one sample together."""
     if len(histograms) == 1:
