@@ -24,11 +24,13 @@ from .errors import ScorecardWarning
 from .intake import Fingerprint, Ledger, open_ledger, rows_in_memory, with_inferred_rejects
 from .points import PointsTable, points_table, scaling
 from .rejects import BandRates, InferredRejects, band_rates, infer_rejects
-from .rows import InProcessRows, PatternTable, RowSource, ScoreHistogram, score_codes, score_histogram
+from .rows import InProcessRows, PatternTable, RowSource, ScoreHistogram, goods_and_bads, score_codes, score_histogram
 from .scoring import Scorecard
 from .selection import Decision, SelectionResult, select_characteristics
 from .settings import Settings
-from .terms import BAD, DEVELOPMENT, DEVELOPMENT_NAME, GOOD, NO_INFERENCE, SAMPLE_NAMES
+from .terms import BAD, COMPARISON, DEVELOPMENT, DEVELOPMENT_NAME, GOOD, NO_INFERENCE, SAMPLE_NAMES
+
+PART_ROWS = 1_000_000  # rows looked at a time where a temporary of every row would do the same
 
 
 @dataclass(frozen=True)
@@ -234,32 +236,48 @@ def _challenger(ledger: Ledger, rows, model: _Model, settings: Settings) -> tupl
     fine = fine_binnings(ledger, rows, settings, names)
     n_bins = [fine[name].n_bins for name in names]
     # every development row, as the scorecard's final fit; its seeded selection sub-sample when that is too many
-    too_many = len(rows.fitting_rows()) * sum(n_bins) > DESIGN_CELLS_LIMIT
+    too_many = rows.n_fitting() * sum(n_bins) > DESIGN_CELLS_LIMIT
     table = rows.pattern_table("selection" if too_many else "", [fine[name] for name in names])
     if table.n_patterns * sum(n_bins) > DESIGN_CELLS_LIMIT:
         return None, (f"The challenger was not fitted: its design would hold {table.n_patterns:,} patterns × "
                       f"{sum(n_bins):,} indicators, more than this build keeps in memory.",)
-    fit = fit_challenger([table.column(name) for name in names], n_bins, table.goods, table.bads, names=names,
-                         l2=settings.challenger.l2)
+    codes = table.part(names)
+    fit = fit_challenger(list(codes.T), n_bins, *goods_and_bads(table), names=names, l2=settings.challenger.l2)
     effects = bin_effects(fit, n_bins)
-    challenger_scores = _row_scores(rows, [fine[name] for name in names],
+    compared = {index: _compared_rows(rows, index) for index in range(len(SAMPLE_NAMES))}
+    challenger_scores = _row_scores(rows, [fine[name] for name in names], compared,
                                     lambda codes: challenger_log_odds(codes, fit, effects))
-    scorecard_scores = _row_scores(rows, model.binnings, lambda codes: score_codes(codes, model.table))
+    scorecard_scores = _row_scores(rows, model.binnings, compared, lambda codes: score_codes(codes, model.table))
     comparisons = {}
     for index, name in enumerate(SAMPLE_NAMES):
-        inside = rows.sample == index
-        goods = np.where(inside & (rows.outcome == GOOD), rows.weight, 0.0)[inside]
-        bads = np.where(inside & (rows.outcome == BAD), rows.weight, 0.0)[inside]
+        inside = compared[index]
+        outcome, weight = rows.outcome[inside], rows.weight[inside]
+        goods, bads = np.where(outcome == GOOD, weight, 0.0), np.where(outcome == BAD, weight, 0.0)
         if goods.sum() > 1 and bads.sum() > 1:
-            comparisons[name] = compare(name, scorecard_scores[inside], challenger_scores[inside], goods, bads)
+            comparisons[name] = compare(name, scorecard_scores[index], challenger_scores[index], goods, bads)
     return Challenger(tuple(names), sum(n_bins), settings.challenger.l2, fit, comparisons), ()
 
 
-def _row_scores(rows, binnings: Sequence, score: Callable[[np.ndarray], np.ndarray]) -> np.ndarray:
-    """Every row's score from its codes (one pass; a characteristic coded twice in one pass would share a column)."""
-    scores = np.empty(len(rows.outcome))
+def _compared_rows(rows, sample: int) -> np.ndarray:
+    """The rows of a sample the challenger is compared on: every row, or the seeded sub-sample of its goods and
+    bads drawn at intake when it has more than ``COMPARISON_ROWS`` (ascending row numbers either way)."""
+    drawn = rows.subsamples.get(f"{COMPARISON} {SAMPLE_NAMES[sample]}")
+    if drawn is not None:
+        return drawn
+    parts = [np.flatnonzero(rows.sample[first:first + PART_ROWS] == sample) + first
+             for first in range(0, len(rows.sample), PART_ROWS)]
+    return np.concatenate(parts) if parts else np.zeros(0, dtype=np.int64)
+
+
+def _row_scores(rows, binnings: Sequence, compared: Mapping[int, np.ndarray],
+                score: Callable[[np.ndarray], np.ndarray]) -> dict[int, np.ndarray]:
+    """The score of the compared rows of each sample, from their codes (one pass over the rows)."""
+    scores = {index: np.empty(len(inside)) for index, inside in compared.items()}
     for first_row, codes in rows.coded_batches(binnings):
-        scores[first_row:first_row + len(codes)] = score(codes)
+        for index, inside in compared.items():
+            wanted = inside[np.searchsorted(inside, first_row):np.searchsorted(inside, first_row + len(codes))]
+            start = np.searchsorted(inside, first_row)
+            scores[index][start:start + len(wanted)] = score(codes[wanted - first_row])
     return scores
 
 

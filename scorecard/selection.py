@@ -22,8 +22,8 @@ import pandas as pd
 from scipy import special
 
 from .errors import FitError, ScorecardWarning
-from .fitter import FitResult, NestedFits, fit_logistic, fit_logistic_by_parts, fit_logistic_by_sums
-from .rows import MERGE_LIMIT, PatternTable
+from .fitter import FitResult, NestedFits, PartCounts, fit_logistic, fit_logistic_by_parts, fit_logistic_by_sums
+from .rows import MERGE_LIMIT, PatternTable, RowsOnDisk, goods_and_bads
 from .settings import FitSettings, SelectionSettings
 
 
@@ -209,10 +209,10 @@ class _WoeDesign:
         """WoE columns of ``names``; columns stored one after another, so each is written and read in one sweep."""
         if patterns is None:
             return self.full[rows, [self.position[name] for name in names]]
-        codes = [patterns.column(name)[rows] for name in names]
-        matrix = np.empty((len(codes[0]) if codes else patterns.n_patterns, len(names)), order="F")
+        codes = patterns.part(names, rows)
+        matrix = np.empty(codes.shape, order="F")
         for j, name in enumerate(names):
-            np.take(self.woe[name], codes[j], out=matrix[:, j])
+            np.take(self.woe[name], codes[:, j], out=matrix[:, j])
         return matrix
 
     def fit(self, names: Sequence[str]) -> FitResult:
@@ -232,13 +232,22 @@ class _WoeDesign:
         # a table kept as rows (above MERGE_LIMIT) is fitted a part at a time, so that no design
         # matrix of all of them is ever held (the Newton steps cost the same either way)
         if table.n_patterns > MERGE_LIMIT and settings.solver == "newton" and settings.l2 == 0:
-            return fit_logistic_by_parts(lambda rows: self.matrix(names, table, rows), table.goods, table.bads,
+            goods, bads = _row_counts(table)
+            return fit_logistic_by_parts(lambda rows: self.matrix(names, table, rows), goods, bads,
                                          names=list(names), max_iterations=settings.max_iterations or None)
-        return fit_logistic(self.matrix(names, table), table.goods, table.bads, names=list(names), solver=settings.solver,
+        return fit_logistic(self.matrix(names, table), *goods_and_bads(table), names=list(names), solver=settings.solver,
                             l2=settings.l2, max_iterations=settings.max_iterations or None)
 
     def correlation(self, names: Sequence[str]) -> pd.DataFrame:
         return pd.DataFrame(weighted_correlation(self.matrix(names), self.weights), index=list(names), columns=list(names))
+
+
+def _row_counts(table: PatternTable | RowsOnDisk):
+    """The goods and bads of a table kept as rows: arrays in memory, or read a part at a time from disk."""
+    if isinstance(table, RowsOnDisk):
+        return (PartCounts(table.goods_of, table.n_rows, table.goods_total),
+                PartCounts(table.bads_of, table.n_rows, table.bads_total))
+    return table.goods, table.bads
 
 
 def _fit_in_engine(table, names: Sequence[str], woe: Mapping[str, np.ndarray], settings: FitSettings) -> FitResult:

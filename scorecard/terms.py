@@ -27,6 +27,12 @@ DEVELOPMENT, HOLDOUT, OUT_OF_TIME = 0, 1, 2
 SAMPLE_NAMES = ("development", "hold-out", "out-of-time")
 DEVELOPMENT_NAME = SAMPLE_NAMES[DEVELOPMENT]
 
+# The challenger is compared with the scorecard row by row (DeLong's paired test needs every row's two
+# scores), so a sample with more goods and bads than this is compared on a seeded sub-sample of them,
+# drawn at intake like the others (the name of each: "comparison <sample name>"); about 50 bytes a row.
+COMPARISON_ROWS = 2_000_000
+COMPARISON = "comparison"
+
 # The samples whose figures say most about new applications, most honest first: the development
 # sample's figures are optimistic, since the classing, the choice and the fit were made on it.
 MOST_HONEST_FIRST = ("out-of-time", "hold-out", "development")

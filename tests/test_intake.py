@@ -614,7 +614,10 @@ def test_protected_levels_read_each_value_as_text_and_missing_as_minus_one():
     parts = [factorize_levels(values.iloc[:3].reset_index(drop=True)), factorize_levels(values.iloc[3:].reset_index(drop=True))]
     assert joined_levels(parts).levels == found.levels
     np.testing.assert_array_equal(joined_levels(parts).codes, found.codes)
-    assert found.codes.dtype == np.int32
+    assert found.codes.dtype == np.int8  # a byte a row for up to 127 levels
+    from scorecard.intake.roles import level_dtype
+
+    assert [level_dtype(n) for n in (127, 128, 32_767, 32_768)] == [np.int8, np.int16, np.int16, np.int32]
 
 
 def test_an_identifier_is_judged_on_the_first_rows_with_a_value():
@@ -628,3 +631,26 @@ def test_an_identifier_is_judged_on_the_first_rows_with_a_value():
     # repeats among the first rows: not an identifier, whatever the rest holds
     repeated_first = pd.Series(np.concatenate([np.arange(ROLE_SAMPLE_ROWS) // 2, np.arange(n - ROLE_SAMPLE_ROWS)]))
     assert looks_like_identifier_or_date(repeated_first, NUMERIC) == ""
+
+
+def test_the_smallest_keys_found_by_buckets_part_by_part_are_those_of_a_sort_of_every_key(monkeypatch):
+    # the oracle: every member sorted by (key, texts), the first `count` taken
+    import scorecard.intake.samples as samples
+
+    monkeypatch.setattr(samples, "PART_ROWS", 777)  # several parts, cut anywhere
+    rng = np.random.default_rng(8)
+    n_rows = 5_000
+    keys = rng.integers(0, 2**60, n_rows)
+    keys[::7] = keys[3]  # one key shared by many rows, at the edge for some counts
+    keys[1::11] = 2**60 - 1  # the last bucket
+    keys[2::13] = keys[2] & ~(2**44 - 1)  # many keys in one bucket
+    member = rng.random(n_rows) < 0.6
+
+    def texts(rows):
+        return [(str(row % 13), str(row)) for row in rows]
+
+    members = np.flatnonzero(member)
+    oracle = sorted(members, key=lambda row: (keys[row], texts([row])[0]))
+    for count in (0, 1, 2, 700, 2_000, len(members) - 1, len(members), 10_000):
+        found = samples.smallest_keys(lambda rows: member[rows], lambda rows: keys[rows], count, n_rows, texts)
+        np.testing.assert_array_equal(found, np.sort(np.array(oracle[:count], dtype=np.int64)))

@@ -17,6 +17,7 @@ from scorecard.errors import LedgerError
 from scorecard.intake import open_ledger, stream_ledger
 from scorecard.modelfile import model_document
 from scorecard.settings import Settings
+from scorecard.terms import BAD, DEVELOPMENT, GOOD, HOLDOUT
 
 # every test here builds or reads a generated ledger of thousands of rows, several times
 pytestmark = pytest.mark.slow
@@ -195,8 +196,47 @@ def test_large_tables_kept_as_rows_and_fitted_by_parts_give_the_same_model(ledge
             monkeypatch.setattr(module, name, 1_000)
         rows = build_scorecard(ledgers[1], _settings(), stream=False)
         streamed = build_scorecard(ledgers[1], _settings(), stream=True)
+        written = []
+        monkeypatch.setattr(scorecard.rows.inprocess, "rows_on_disk",
+                            lambda *args, **kwargs: written.append(1) or scorecard.rows.tables.rows_on_disk(*args, **kwargs))
+        on_disk = build_scorecard(ledgers[1], _settings(), stream=True)
+        # the final table of rows held in memory instead of on disk (as for weighted rows): the same bytes
+        monkeypatch.setattr(scorecard.rows.inprocess.InProcessRows, "unit_weights", property(lambda self: False))
+        in_memory = build_scorecard(ledgers[1], _settings(), stream=True)
     assert rows.selection.fit.solver == "newton (by parts)"
+    assert written == [1]  # the final table went to disk
     assert json.dumps(model_document(rows), sort_keys=True) == json.dumps(model_document(streamed), sort_keys=True)
+    assert json.dumps(model_document(on_disk), sort_keys=True) == json.dumps(model_document(in_memory), sort_keys=True)
     assert rows.selection.chosen == merged.selection.chosen
     np.testing.assert_allclose(rows.selection.fit.coefficients, merged.selection.fit.coefficients, rtol=1e-8)
     np.testing.assert_allclose(rows.selection.fit.std_errors, merged.selection.fit.std_errors, rtol=1e-8)
+
+
+def test_a_large_sample_compares_the_challenger_on_the_same_seeded_rows_whole_streamed_and_shuffled(ledgers, tmp_path,
+                                                                                                      monkeypatch):
+    # the challenger's comparison needs every compared row's two scores, so a sample with more goods and bads
+    # than COMPARISON_ROWS is compared on a seeded sub-sample of them (lowered here so a small ledger has one)
+    import scorecard.intake.samples
+
+    monkeypatch.setattr(scorecard.intake.samples, "COMPARISON_ROWS", 1_500)
+    frame = pd.read_csv(ledgers[0])
+    shuffled = write_ledger(frame.sample(frac=1.0, random_state=5), tmp_path / ledgers[0].name)
+    ledger, _ = stream_ledger(ledgers[0], _settings())
+    for name, code in (("development", DEVELOPMENT), ("hold-out", HOLDOUT)):
+        drawn = ledger.subsamples[f"comparison {name}"]
+        assert len(drawn) == 1_500 and np.all(np.diff(drawn) > 0)
+        assert np.all(ledger.sample[drawn] == code) and np.all(np.isin(ledger.outcome[drawn], [GOOD, BAD]))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        builds = [build_scorecard(ledgers[0], _settings(), stream=False), build_scorecard(ledgers[0], _settings(), stream=True),
+                  build_scorecard(shuffled, _settings(), stream=True)]
+    comparisons = [build.challenger.comparisons for build in builds]
+    assert set(comparisons[0]) >= {"development", "hold-out"}
+    assert repr(comparisons[0]) == repr(comparisons[1])
+    # in another row order the same rows are compared; their sums run in another order (the challenger is in the
+    # reports, not in the model file), so the figures agree to rounding
+    for name, comparison in comparisons[0].items():
+        shuffled_comparison = comparisons[2][name]
+        assert comparison.scorecard.n_goods == shuffled_comparison.scorecard.n_goods
+        assert comparison.scorecard.auc == pytest.approx(shuffled_comparison.scorecard.auc, rel=1e-12)
+        assert comparison.challenger.auc == pytest.approx(shuffled_comparison.challenger.auc, rel=1e-12)

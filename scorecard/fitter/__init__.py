@@ -13,13 +13,13 @@
 
 from .fit import fit_logistic
 from .parts import PART_ROWS, fit_logistic_by_parts
-from .problem import gradient, information_matrix, log_likelihood
+from .problem import PartCounts, gradient, information_matrix, log_likelihood
 from .inputs import SOLVERS
 from .nested import NestedFits
 from .result import INTERCEPT_NAME, FitResult
 from .sums import Sums, fit_logistic_by_sums
 
 __all__ = [
-    "INTERCEPT_NAME", "PART_ROWS", "SOLVERS", "FitResult", "NestedFits", "Sums", "fit_logistic",
+    "INTERCEPT_NAME", "PART_ROWS", "SOLVERS", "FitResult", "NestedFits", "PartCounts", "Sums", "fit_logistic",
     "fit_logistic_by_parts", "fit_logistic_by_sums", "gradient", "information_matrix", "log_likelihood",
 ]

@@ -49,7 +49,7 @@ def patterns(problem: Problem) -> Patterns:
     """The distinct rows of the design that carry weight, block by block, then merged across blocks."""
     found = []
     for rows, design in blocks(problem.design):
-        carries_weight = problem.weights[rows] > 0
+        carries_weight = problem.weights(rows) > 0
         distinct, inverse = _distinct_rows(design[carries_weight])
         found.append(Patterns(
             design=distinct,
@@ -88,15 +88,17 @@ def _distinct_rows(design: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
 
 def raise_if_dependent(problem: Problem, names: tuple[str, ...]) -> None:
     """Raise FitError naming the columns that take part in an exact linear dependence."""
-    carries_weight = problem.weights > 0
-    products = weighted_gram(problem, carries_weight.astype(float))
+    def carries_weight(rows: slice) -> np.ndarray:
+        return problem.weights(rows) > 0
+
+    products = weighted_gram(problem, lambda rows: carries_weight(rows).astype(float))
     if _clearly_full_rank_gram(products):
         return  # the common case, from one pass over the rows and a p×p eigen-decomposition
     if isinstance(problem.design, Parts):
         norms, null_space = _null_space_of_gram(products, problem.design.shape)
-        first = next(design[carries_weight[rows]][0] for rows, design in blocks(problem.design) if carries_weight[rows].any())
+        first = next(design[carries_weight(rows)][0] for rows, design in blocks(problem.design) if carries_weight(rows).any())
     else:
-        design = problem.design[carries_weight]
+        design = problem.design[carries_weight(slice(None))]
         norms, null_space, first = np.linalg.norm(design, axis=0), _null_space(design), design[0]
     if null_space.shape[0] == 0:
         return
@@ -242,7 +244,7 @@ def overlap_proved(problem: Problem, beta: np.ndarray) -> bool:
 def _carried(problem: Problem):
     """Yield the design, goods and bads of the rows that carry weight, block by block."""
     for rows, design in blocks(problem.design):
-        carries_weight = problem.weights[rows] > 0
+        carries_weight = problem.weights(rows) > 0
         if carries_weight.all():  # a pattern table's rows always do: no copy
             yield design, problem.goods[rows], problem.bads[rows]
         else:
@@ -386,7 +388,7 @@ def numerically_singular_message(singular: SingularInformation, names: tuple[str
     n_extreme = 0
     for rows, design in blocks(singular.problem.design):
         eta = design @ singular.beta
-        n_extreme += int(np.sum((singular.problem.weights[rows] > 0) & (special.expit(eta) * special.expit(-eta) < 1e-10)))
+        n_extreme += int(np.sum((singular.problem.weights(rows) > 0) & (special.expit(eta) * special.expit(-eta) < 1e-10)))
     which = f"; the characteristics most involved are {quoted(involved)}" if involved else ""
     separation = (
         f", or they nearly separate goods from bads: {n_extreme} rows that carry weight have fitted "

@@ -16,7 +16,7 @@ import numpy as np
 from ..errors import FitError, ScorecardWarning
 from .guards import raise_if_dependent
 from .inputs import check_names, checked_counts, checked_start
-from .problem import Parts, design_matrix, make_problem, no_standardisation
+from .problem import PartCounts, Parts, design_matrix, make_problem, no_standardisation
 from .result import INTERCEPT_NAME, FitResult
 from .solvers import DEFAULT_MAX_ITERATIONS, StoppingRule, fit_problem, not_converged_message
 
@@ -36,8 +36,9 @@ def fit_logistic_by_parts(design_part, goods, bads, *, names, start=None, part_r
     design_part : callable
         ``design_part(rows)`` returns the features (no intercept column) of the rows in the slice
         ``rows``, as a float array of shape (rows, p).
-    goods, bads : numpy.ndarray
-        Weighted goods and bads per row.
+    goods, bads : numpy.ndarray or PartCounts
+        Weighted goods and bads per row; or made a part at a time (``PartCounts``, checked where they were
+        made: a row table kept on disk).
     names : sequence of str
         The p characteristics' names.
     start : array_like, optional
@@ -64,7 +65,7 @@ def fit_logistic_by_parts(design_part, goods, bads, *, names, start=None, part_r
     """
     names = tuple(map(str, names))
     check_names(names, len(names))
-    goods, bads = checked_counts(goods, bads, len(np.asarray(goods)))
+    goods, bads = (goods, bads) if isinstance(goods, PartCounts) else checked_counts(goods, bads, len(np.asarray(goods)))
     all_names = (INTERCEPT_NAME, *names)
     if part_rows < 1:
         raise FitError(f"part_rows = {part_rows!r}: give a whole number >= 1.")

@@ -124,6 +124,33 @@ class Parts:
             yield rows, self.make(rows)
 
 
+@dataclass(frozen=True, eq=False)
+class PartCounts:
+    """Goods (or bads) per row of a table too large to hold, made a part of the rows at a time, as ``Parts``
+    makes its design: ``counts[rows]`` for a slice of rows, and their total known beforehand.
+
+    ``total`` must be the sum the array of all of them would give (``numpy.sum``): a count of rows
+    of unit weight is exact in any order, which is what the row tables kept on disk hold.
+    """
+
+    part: Callable[[slice], np.ndarray]
+    n_rows: int
+    total: float
+
+    def __getitem__(self, rows: slice) -> np.ndarray:
+        return self.part(rows)
+
+    def __len__(self) -> int:
+        return self.n_rows
+
+    @property
+    def shape(self) -> tuple[int]:
+        return (self.n_rows,)
+
+    def sum(self) -> float:
+        return self.total
+
+
 def blocks(design: np.ndarray | Parts) -> Iterator[tuple[slice, np.ndarray]]:
     """The design's rows as (slice, columns) blocks: one block for a design in memory."""
     if isinstance(design, Parts):
@@ -135,14 +162,14 @@ def blocks(design: np.ndarray | Parts) -> Iterator[tuple[slice, np.ndarray]]:
 @dataclass(frozen=True, eq=False)
 class Problem:
     design: np.ndarray | Parts
-    goods: np.ndarray
-    bads: np.ndarray
+    goods: np.ndarray | PartCounts
+    bads: np.ndarray | PartCounts
     ridge: np.ndarray  # penalty per coefficient: 0 for the intercept, l2 for the others
     intercept: bool
 
-    @property
-    def weights(self) -> np.ndarray:
-        return self.goods + self.bads
+    def weights(self, rows: slice = slice(None)) -> np.ndarray:
+        """Goods plus bads of some rows (of one block: the sum of every row's would be made anew at each call)."""
+        return self.goods[rows] + self.bads[rows]
 
     @property
     def total_weight(self) -> float:
@@ -162,7 +189,7 @@ def make_problem(design, goods, bads, *, l2: float, intercept: bool) -> Problem:
     ridge = np.full(design.shape[1], float(l2))
     if intercept and ridge.size:
         ridge[0] = 0.0
-    goods, bads = (np.asarray(counts, dtype=float) for counts in (goods, bads))
+    goods, bads = (counts if isinstance(counts, PartCounts) else np.asarray(counts, dtype=float) for counts in (goods, bads))
     return Problem(design, goods, bads, ridge, intercept)
 
 
@@ -216,16 +243,16 @@ def cost_gradient_and_hessian(problem: Problem, beta: np.ndarray) -> tuple[np.nd
         eta = design @ beta
         good, bad = special.expit(eta), special.expit(-eta)
         score += design.T @ (problem.goods[rows] * bad - problem.bads[rows] * good)
-        information += gram(design, problem.weights[rows] * good * bad)
+        information += gram(design, problem.weights(rows) * good * bad)
     return (problem.ridge * beta - score) / problem.total_weight, (information + np.diag(problem.ridge)) / problem.total_weight
 
 
-def weighted_gram(problem: Problem, weights: np.ndarray) -> np.ndarray:
-    """X' diag(weights) X, added up block by block."""
+def weighted_gram(problem: Problem, weights: Callable[[slice], np.ndarray]) -> np.ndarray:
+    """X' diag(weights) X, added up block by block (``weights(rows)``: the weights of a block's rows)."""
     n_columns = problem.design.shape[1]
     total = np.zeros((n_columns, n_columns))
     for rows, design in blocks(problem.design):
-        total += gram(design, weights[rows])
+        total += gram(design, weights(rows))
     return total
 
 
@@ -304,15 +331,17 @@ def standardisation_of(problem: Problem) -> Standardisation:
     units of the logistic curvature's bound 1/4, so no standardised coefficient is far stiffer
     than the others.
     """
-    weights = problem.weights / problem.total_weight
+    def weights(rows: slice) -> np.ndarray:
+        return problem.weights(rows) / problem.total_weight
+
     n_columns = problem.design.shape[1]
     centre = np.zeros(n_columns)
     if problem.intercept:
         for rows, design in blocks(problem.design):
-            centre += weights[rows] @ design
+            centre += weights(rows) @ design
     variance, size = np.zeros(n_columns), np.zeros(n_columns)
     for rows, design in blocks(problem.design):
-        block_weights = weights[rows]
+        block_weights = weights(rows)
         for chunk_rows, chunk in row_chunks(design):
             variance += block_weights[chunk_rows] @ (chunk - centre) ** 2
             size = np.maximum(size, np.max(np.abs(chunk), axis=0, initial=0.0))

@@ -12,6 +12,8 @@ import pandas as pd
 
 from ..terms import OUTCOME_NAMES, SAMPLE_NAMES
 
+PART_ROWS = 1_000_000  # rows counted at a time
+
 
 @dataclass(frozen=True)
 class Characteristic:
@@ -151,9 +153,28 @@ class Ledger:
         """Return rows, goods, bads, indeterminates and unknowns (weighted) per sample."""
         if self.summary is not None:
             return self.summary
-        table = np.zeros((len(SAMPLE_NAMES), len(OUTCOME_NAMES)))
-        np.add.at(table, (self.sample, self.outcome), self.weight)
-        return summary_frame(table, np.bincount(self.sample, minlength=len(SAMPLE_NAMES)))
+        return summary_frame(*sample_counts(self.sample, self.outcome, self.weight))
+
+
+def sample_counts(sample: np.ndarray, outcome: np.ndarray, weight: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Weighted rows per (sample, outcome), and rows per sample.
+
+    Rows are counted a million at a time (no temporary of 8 bytes a row); weights are added row
+    after row in row order, unless every row weighs 1, when the weighted rows are the counts.
+    """
+    n_samples, n_outcomes = len(SAMPLE_NAMES), len(OUTCOME_NAMES)
+
+    def cells(rows: slice) -> np.ndarray:
+        return sample[rows].astype(np.int64) * n_outcomes + outcome[rows]
+
+    counts = np.zeros(n_samples * n_outcomes, dtype=np.int64)
+    for first in range(0, len(sample), PART_ROWS):
+        counts += np.bincount(cells(slice(first, first + PART_ROWS)), minlength=len(counts))
+    if weight.strides == (0,) and float(weight[:1].sum()) == 1.0:
+        weighted = counts.astype(float)
+    else:
+        weighted = np.bincount(cells(slice(None)), weights=weight, minlength=len(counts))
+    return weighted.reshape(n_samples, n_outcomes), counts.reshape(n_samples, n_outcomes).sum(axis=1)
 
 
 def summary_frame(weighted: np.ndarray, rows: np.ndarray) -> pd.DataFrame:

@@ -21,11 +21,13 @@ from ..rows import BATCH_READABLE, InProcessRows, RowPlace, reads_in_batches
 from ..rows.coding import factorize_levels
 from ..rows.keys import split_keys
 from ..settings import Settings
-from ..terms import BAD, DEVELOPMENT, DUCKDB, GOOD, IN_PROCESS, NUMERIC, OUT_OF_TIME, REJECTED, SPARK, UNKNOWN
+from ..terms import BAD, COMPARISON, DEVELOPMENT, DUCKDB, GOOD, IN_PROCESS, NUMERIC, OUT_OF_TIME, REJECTED, SPARK, UNKNOWN
 from .kinds import added_readings, check_finite, choose_characteristics, role_columns, value_reading, with_reading
 from .ledger import Fingerprint, Ledger, RejectedRows, fingerprint_of
 from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, ledger_columns, read_batches, read_head, read_ledger
-from .roles import check_roles, joined_levels, protected_columns, protected_levels, role_values, unit_weights
+from .roles import (
+    check_roles, joined_levels, level_dtype, protected_columns, protected_levels, role_values, unit_weights,
+)
 from .samples import (
     draw_subsamples, frame_tie_texts, key_columns, needs_keys, out_of_time, repeats_apart, sample_keys, split_samples,
 )
@@ -247,17 +249,27 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
             check_finite(frame, read, source_name, first_row=first_row)
             yield first_row, frame
 
-    parts, readings = [], {c.name: (0, np.inf, 0) for c in numeric}
+    # per batch; each field's parts are joined at the end, each part released as it is copied
+    parts: dict[str, list] = {"outcome": [], "weight": [], "out of time": [], "dates": [], "keys": [], "protected": []}
+    readings = {c.name: (0, np.inf, 0) for c in numeric}
     for first_row, frame in file_batches(path, suffix, first_pass, types, batch_rows):
-        parts.append((*role_values(frame, settings, source_name, first_row=first_row),
-                      split_keys(frame, keyed, settings.samples.seed) if drawn else None,
-                      [(codes.astype(np.int32), texts) for codes, texts in map(factorize_levels, map(frame.get, protected_names))]))
+        outcome, weight, dates = role_values(frame, settings, source_name, first_row=first_row)
+        parts["outcome"].append(outcome)
+        parts["weight"].append(weight)
+        # a build needs the dates only to set the out-of-time rows apart: 1 byte a row, not 8
+        parts["out of time"].append(out_of_time(dates, settings, n_rows=len(frame), source=source_name, first_row=first_row))
+        if dates is not None and not require_outcome:  # monitoring counts by calendar quarter
+            parts["dates"].append(dates)
+        if drawn:
+            parts["keys"].append(split_keys(frame, keyed, settings.samples.seed))
+        parts["protected"].append([(codes.astype(level_dtype(len(texts))), texts)
+                                   for codes, texts in map(factorize_levels, map(frame.get, protected_names))])
         for char in numeric:
             values = frame[char.name].to_numpy(dtype=float, na_value=np.nan)
             readings[char.name] = added_readings(readings[char.name], value_reading(values, char.special_values))
     characteristics = [with_reading(c, readings[c.name]) if c.name in readings else c for c in characteristics]
-    protected = {name: joined_levels([p[4][i] for p in parts]) for i, name in enumerate(protected_names)}
-    outcome = np.concatenate([p[0] for p in parts])
+    protected = {name: joined_levels([p[i] for p in parts["protected"]]) for i, name in enumerate(protected_names)}
+    outcome = joined(parts["outcome"])
     if (outcome == REJECTED).any():
         if require_outcome:
             raise LedgerError(
@@ -266,9 +278,10 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
                 "rows out of the file."
             )
         outcome = np.where(outcome == REJECTED, UNKNOWN, outcome).astype(np.int8)
-    weight = np.concatenate([p[1] for p in parts]) if settings.ledger.weight_column else unit_weights(len(outcome))
-    dates = np.concatenate([p[2] for p in parts]) if settings.ledger.date_column else None
-    keys = np.concatenate([p[3] for p in parts]) if drawn else None
+    weight = joined(parts["weight"]) if settings.ledger.weight_column else unit_weights(len(outcome))
+    dates = joined(parts["dates"]) if parts["dates"] else None
+    in_time = joined(parts["out of time"])
+    keys = joined(parts["keys"]) if drawn else None
     del parts
     repairs = check_roles(outcome, weight, settings, source_name, require_outcome=require_outcome)
 
@@ -285,7 +298,8 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
 
     if drawn:  # without an id column, the repeats of a row keyed apart (their rows read again)
         keys = repeats_apart(keys, lambda rows: rows_of(rows, keyed), keyed, settings)
-    sample = split_samples(outcome, dates, settings, keys=keys, tie_texts=tie_texts, source=source_name)
+    sample = split_samples(outcome, dates, settings, keys=keys, tie_texts=tie_texts, source=source_name,
+                           out_of_time_sample=in_time)
     subsamples = draw_subsamples(sample, outcome, keys, settings, tie_texts=tie_texts) if drawn else {}
     del keys
     notes = [*read_notes, *repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
@@ -297,6 +311,18 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
         fingerprint=fingerprint_of(path, len(outcome)), left_out=left_out, subsamples=subsamples, protected=protected,
     )
     return ledger, batches
+
+
+def joined(parts: list[np.ndarray]) -> np.ndarray:
+    """The parts one after another in one array; each part is taken from the list and released once copied,
+    so that the parts and the whole are never both held."""
+    whole = np.empty(sum(len(part) for part in parts), dtype=parts[0].dtype)
+    filled = 0
+    while parts:
+        part = parts.pop(0)
+        whole[filled:filled + len(part)] = part
+        filled += len(part)
+    return whole
 
 
 def with_inferred_rejects(ledger: Ledger, bad_share: np.ndarray) -> Ledger:
@@ -327,6 +353,7 @@ def with_inferred_rejects(ledger: Ledger, bad_share: np.ndarray) -> Ledger:
     weights = np.concatenate([ledger.weight, good_weight[good_weight > 0], bad_weight[bad_weight > 0]])
     sample = np.concatenate([ledger.sample, np.full(n_added, DEVELOPMENT, np.int8)])
     added = np.arange(n_booked, n_booked + n_added)
-    subsamples = {purpose: np.concatenate([drawn, added]) for purpose, drawn in ledger.subsamples.items()}
+    subsamples = {purpose: drawn if purpose.startswith(COMPARISON) else np.concatenate([drawn, added])
+                  for purpose, drawn in ledger.subsamples.items()}  # the challenger is compared on booked rows
     return replace(ledger, frame=frame, outcome=outcome, weight=weights, sample=sample, dates=None, ids=None,
                    subsamples=subsamples, rejects=None)

@@ -219,8 +219,14 @@ def protected_levels(values: pd.Series) -> AttributeLevels:
 def joined_levels(parts: Sequence[tuple[np.ndarray, list[str]]]) -> AttributeLevels:
     """The levels of a protected attribute read in parts (batches): each part's codes into its own levels as
     ``factorize_levels`` gives them, joined into one set of sorted levels. Each distinct value is read as text
-    once per part, and a part keeps 4 bytes a row, not its values."""
+    once per part, and a part keeps its codes (a byte or two a row), not its values."""
     levels = tuple(sorted({text for _, texts in parts for text in texts}))
     index = pd.Index(levels)
-    joined = [np.append(index.get_indexer(texts), -1).astype(np.int32)[codes] for codes, texts in parts]  # -1 picks the last
+    dtype = level_dtype(len(levels))
+    joined = [np.append(index.get_indexer(texts), -1).astype(dtype)[codes] for codes, texts in parts]  # -1 picks the last
     return AttributeLevels(np.concatenate(joined) if len(joined) != 1 else joined[0], levels)
+
+
+def level_dtype(n_levels: int) -> np.dtype:
+    """The smallest signed integer type holding the codes -1 .. n_levels − 1 (one byte a row for up to 127 levels)."""
+    return np.dtype(np.int8 if n_levels <= 127 else np.int16 if n_levels <= 32_767 else np.int32)

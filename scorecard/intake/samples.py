@@ -18,14 +18,20 @@ import pandas as pd
 from ..errors import LedgerError, describe_rows
 from ..rows.keys import TWIN_SEED_STEP, holdout_count, repeat_keys, row_texts, split_keys, subsample_keys
 from ..settings import Settings
-from ..terms import BAD, DEVELOPMENT, GOOD, HOLDOUT, OUT_OF_TIME, OUTCOME_NAMES
+from ..terms import BAD, COMPARISON, COMPARISON_ROWS, DEVELOPMENT, GOOD, HOLDOUT, OUT_OF_TIME, OUTCOME_NAMES, SAMPLE_NAMES
 
 # the texts that order rows whose keys are equal: (the id's row text, the whole row's text)
 TieTexts = Callable[[np.ndarray], Sequence[tuple[str, str]]]
 
+# keys are counted in buckets of their top 16 bits (of 60) to find the edge of the smallest ones
+_BUCKET_BITS = 16
+_BUCKET_SHIFT = 60 - _BUCKET_BITS
+PART_ROWS = 1_000_000  # rows gone through at a time when the samples are drawn
+
 
 def split_samples(outcome: np.ndarray, dates: np.ndarray | None, settings: Settings, *, keys: np.ndarray | None = None,
-                  tie_texts: TieTexts | None = None, source: str = "ledger") -> np.ndarray:
+                  tie_texts: TieTexts | None = None, source: str = "ledger",
+                  out_of_time_sample: np.ndarray | None = None) -> np.ndarray:
     """Assign each row to the development, hold-out or out-of-time sample.
 
     Rows dated on or after ``samples.out_of_time_from`` form the out-of-time sample. Of the rest,
@@ -47,6 +53,9 @@ def split_samples(outcome: np.ndarray, dates: np.ndarray | None, settings: Setti
         the edge of a class's hold-out (with 60-bit keys, rows with the same id or the same values).
     source : str
         The ledger's name, for messages.
+    out_of_time_sample : numpy.ndarray, optional
+        The out-of-time sample already set apart (``out_of_time``, batch by batch when the ledger is read
+        so): int8 per row, used instead of ``dates`` (and changed in place).
 
     Returns
     -------
@@ -59,35 +68,63 @@ def split_samples(outcome: np.ndarray, dates: np.ndarray | None, settings: Setti
         An out-of-time date is set but the ledger has no date column, or rows have no date.
     """
     samples = settings.samples
-    sample = out_of_time(dates, settings, n_rows=len(outcome), source=source)
+    sample = out_of_time(dates, settings, n_rows=len(outcome), source=source) if out_of_time_sample is None \
+        else out_of_time_sample
     if samples.holdout_fraction == 0:
         return sample
     if keys is None:
         raise TypeError("split_samples: the split keys are needed to draw a hold-out sample")  # our own invariant
-    in_time = sample != OUT_OF_TIME
     for outcome_class in range(len(OUTCOME_NAMES)):
-        rows = np.flatnonzero(in_time & (outcome == outcome_class))
-        chosen = smallest_keys(rows, keys[rows], holdout_count(len(rows), samples.holdout_fraction), tie_texts)
-        sample[chosen] = HOLDOUT
+        def member(rows: slice, outcome_class=outcome_class) -> np.ndarray:
+            return (sample[rows] != OUT_OF_TIME) & (outcome[rows] == outcome_class)
+
+        n_members = sum(int(np.count_nonzero(member(rows))) for rows in row_parts(len(outcome)))
+        count = holdout_count(n_members, samples.holdout_fraction)
+        sample[smallest_keys(member, lambda rows: keys[rows], count, len(outcome), tie_texts)] = HOLDOUT
     return sample
 
 
-def smallest_keys(rows: np.ndarray, keys: np.ndarray, count: int, tie_texts: TieTexts | None) -> np.ndarray:
-    """The ``count`` rows of smallest key; rows of equal key at the edge are ordered by their texts."""
+def smallest_keys(member: Callable[[slice], np.ndarray], keys_of: Callable[[slice], np.ndarray], count: int,
+                  n_rows: int, tie_texts: TieTexts | None) -> np.ndarray:
+    """The ``count`` rows of smallest key among the members, ascending; rows of equal key at the edge are ordered
+    by their texts.
+
+    ``member(rows)`` and ``keys_of(rows)`` give the mask of members and every row's key (0 <= key < 2**60) of
+    a slice of rows; the rows are gone through a part at a time, so no temporary holds 8 bytes of every row.
+    The edge (the count-th smallest key) is found in two steps: the bucket of the top bits of the keys that
+    holds it, from the buckets' counts, then the key itself among the few keys of that bucket.
+    """
+    parts = row_parts(n_rows)
+
+    def found(condition) -> np.ndarray:  # ascending row numbers of the members whose key meets the condition
+        pieces = [np.flatnonzero(member(rows) & condition(keys_of(rows))) + rows.start for rows in parts]
+        return np.concatenate(pieces) if pieces else np.zeros(0, dtype=np.int64)
+
     if count <= 0:
-        return rows[:0]
-    if count >= len(rows):
-        return rows
-    edge = np.partition(keys, count - 1)[count - 1]
-    below, at = keys < edge, keys == edge
-    wanted = count - int(below.sum())
-    tied = rows[at]
+        return np.zeros(0, dtype=np.int64)
+    buckets = np.zeros(2**_BUCKET_BITS, dtype=np.int64)
+    for rows in parts:
+        buckets += np.bincount(keys_of(rows)[member(rows)] >> _BUCKET_SHIFT, minlength=len(buckets))
+    if count >= buckets.sum():
+        return found(lambda keys: np.ones(len(keys), dtype=bool))
+    before = np.cumsum(buckets)
+    bucket = int(np.searchsorted(before, count))  # the first bucket whose members reach the count
+    among = np.concatenate([keys_of(rows)[member(rows) & (keys_of(rows) >> _BUCKET_SHIFT == bucket)] for rows in parts])
+    wanted_in_bucket = count - (int(before[bucket - 1]) if bucket else 0)
+    edge = np.partition(among, wanted_in_bucket - 1)[wanted_in_bucket - 1]
+    below, tied = found(lambda keys: keys < edge), found(lambda keys: keys == edge)
+    wanted = count - len(below)
     if len(tied) > wanted:
         if tie_texts is None:
             raise TypeError("smallest_keys: rows of equal key need their texts")  # our own invariant
         texts = tie_texts(tied)
         tied = tied[sorted(range(len(tied)), key=lambda i: texts[i])]  # str order is UTF-8 byte order
-    return np.sort(np.concatenate([rows[below], tied[:wanted]]))
+    return np.sort(np.concatenate([below, tied[:wanted]]))
+
+
+def row_parts(n_rows: int) -> list[slice]:
+    """Slices of ``PART_ROWS`` rows covering 0 .. n_rows − 1: row work whose temporaries should stay small."""
+    return [slice(first, min(first + PART_ROWS, n_rows)) for first in range(0, n_rows, PART_ROWS)]
 
 
 def draw_subsamples(sample: np.ndarray, outcome: np.ndarray, keys: np.ndarray | None, settings: Settings, *,
@@ -98,13 +135,24 @@ def draw_subsamples(sample: np.ndarray, outcome: np.ndarray, keys: np.ndarray | 
     ``selection``: the rows the choice of characteristics runs on (``selection.sample_rows``).
     Each is the wanted number of development rows with a good or bad outcome whose reordered
     keys (``subsample_keys``) are smallest; a sub-sample is left out when every such row is in it.
+    ``comparison <sample>``: of each sample with more goods and bads than ``COMPARISON_ROWS``, as
+    many of them, the rows the challenger is compared with the scorecard on.
     """
-    fitting = np.flatnonzero((sample == DEVELOPMENT) & ((outcome == GOOD) | (outcome == BAD)))
-    limits = {"classing": settings.classing.fine_sample_rows, "selection": settings.selection.sample_rows}
-    drawn = {}
-    for purpose, limit in limits.items():
-        if limit and len(fitting) > limit:
-            drawn[purpose] = smallest_keys(fitting, subsample_keys(keys[fitting], purpose), limit, tie_texts)
+    def decided(sample_code: int) -> Callable[[slice], np.ndarray]:
+        return lambda rows: (sample[rows] == sample_code) & ((outcome[rows] == GOOD) | (outcome[rows] == BAD))
+
+    wanted = [("classing", DEVELOPMENT, settings.classing.fine_sample_rows),
+              ("selection", DEVELOPMENT, settings.selection.sample_rows)]
+    wanted += [(f"{COMPARISON} {name}", code, COMPARISON_ROWS) for code, name in enumerate(SAMPLE_NAMES)]
+    drawn, n_decided = {}, {}
+    for purpose, sample_code, limit in wanted:
+        member = decided(sample_code)
+        if sample_code not in n_decided:
+            n_decided[sample_code] = sum(int(np.count_nonzero(member(rows))) for rows in row_parts(len(outcome)))
+        if limit and n_decided[sample_code] > limit:
+            reordered = purpose.split()[0]  # the comparisons of every sample reorder the keys alike (their rows differ)
+            drawn[purpose] = smallest_keys(member, lambda rows, reordered=reordered: subsample_keys(keys[rows], reordered),
+                                           limit, len(outcome), tie_texts)
     return drawn
 
 
@@ -150,8 +198,9 @@ def frame_tie_texts(frame: pd.DataFrame, settings: Settings) -> TieTexts:
     return texts
 
 
-def out_of_time(dates: np.ndarray | None, settings: Settings, *, n_rows: int, source: str) -> np.ndarray:
-    """int8 per row: out-of-time for rows dated on or after ``samples.out_of_time_from``, else development."""
+def out_of_time(dates: np.ndarray | None, settings: Settings, *, n_rows: int, source: str, first_row: int = 0) -> np.ndarray:
+    """int8 per row: out-of-time for rows dated on or after ``samples.out_of_time_from``, else development
+    (``first_row``: the row number of the first of these rows in the ledger, for messages)."""
     samples = settings.samples
     sample = np.zeros(n_rows, dtype=np.int8)
     if not samples.out_of_time_from:
@@ -163,7 +212,7 @@ def out_of_time(dates: np.ndarray | None, settings: Settings, *, n_rows: int, so
         )
     undated = np.isnat(dates)
     if undated.any():
-        rows = describe_rows((np.flatnonzero(undated) + 2).tolist())
+        rows = describe_rows((np.flatnonzero(undated) + 2 + first_row).tolist())
         raise LedgerError(
             f"{source}, column {settings.ledger.date_column!r}, {rows}: no date, so the row cannot be placed "
             "in or out of time. Fill the dates or remove the rows."

@@ -14,14 +14,14 @@ from .coding import UNSEEN_LABEL, code_rows, factorize_levels, ordered_levels, s
 from .engine import BATCH_READABLE, Batches, RowPlace, RowSource, connect, csv_delimiter, reads_in_batches
 from .inprocess import InProcessRows, KeptCodes
 from .tables import (
-    MERGE_LIMIT, BinCounts, PatternTable, ScoreHistogram, count_bins, merge_histograms, merge_pattern_tables,
-    pattern_keys, pattern_table, row_table, score_histogram,
+    MERGE_LIMIT, BinCounts, PatternTable, RowsOnDisk, ScoreHistogram, count_bins, goods_and_bads, merge_histograms,
+    merge_pattern_tables, pattern_keys, pattern_table, row_table, rows_on_disk, score_histogram,
 )
 
 __all__ = [
     "BATCH_READABLE", "MERGE_LIMIT", "UNSEEN_LABEL", "Batches", "BinCounts", "InProcessRows", "KeptCodes", "RowPlace",
     "connect", "csv_delimiter",
-    "PatternTable", "RowSource", "ScoreHistogram", "code_rows", "count_bins", "factorize_levels", "merge_histograms",
-    "merge_pattern_tables", "ordered_levels", "pattern_keys", "pattern_table", "reads_in_batches", "row_table", "score_codes",
+    "PatternTable", "RowSource", "RowsOnDisk", "ScoreHistogram", "code_rows", "count_bins", "factorize_levels", "goods_and_bads", "merge_histograms",
+    "merge_pattern_tables", "ordered_levels", "pattern_keys", "pattern_table", "reads_in_batches", "row_table", "rows_on_disk", "score_codes",
     "score_histogram", "tally_unseen", "unseen_levels",
 ]

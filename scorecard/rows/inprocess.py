@@ -18,11 +18,12 @@ from ..terms import BAD, DEVELOPMENT, GOOD, SAMPLE_NAMES, UNKNOWN
 from .coding import UNSEEN_LABEL, code_rows, ordered_levels, score_codes, tally_unseen, unseen_levels
 from .engine import Batches
 from .tables import (
-    MERGE_LIMIT, BinCounts, PatternTable, ScoreHistogram, count_bins, score_histograms_by_part, merge_histograms,
-    merge_pattern_tables, pattern_table, row_table, score_histogram,
+    MERGE_LIMIT, BinCounts, PatternTable, RowsOnDisk, ScoreHistogram, count_bins, merge_histograms, merge_pattern_tables,
+    pattern_table, row_table, rows_on_disk, score_histogram, score_histograms_by_part,
 )
 
 THREADS = 2  # the machines this is built for have two cores or more; more threads gain little here
+COUNT_ROWS = 1_000_000  # rows worked on at a time where a pass over every row would make temporaries of its size
 
 
 @dataclass(frozen=True)
@@ -81,7 +82,12 @@ class InProcessRows:
     @property
     def fitting(self) -> np.ndarray:
         """Mask of the development rows with a good or bad outcome: the rows every fit and classing is made on."""
-        return (self.sample == DEVELOPMENT) & ((self.outcome == GOOD) | (self.outcome == BAD))
+        return self._fitting_in(slice(None))
+
+    @property
+    def unit_weights(self) -> bool:
+        """Whether every row weighs 1 (the weights are then one number, not an array)."""
+        return self.weight.strides == (0,) and float(self.weight[:1].sum()) == 1.0
 
     def fitting_rows(self, subsample: str = "") -> np.ndarray:
         """Row numbers of the development rows with a good or bad outcome, or of their seeded sub-sample
@@ -89,6 +95,23 @@ class InProcessRows:
         if subsample in self.subsamples:
             return self.subsamples[subsample]
         return np.flatnonzero(self.fitting)
+
+    def n_fitting(self, subsample: str = "") -> int:
+        """The number of ``fitting_rows(subsample)``, counted a part at a time (not 8 bytes a row)."""
+        if subsample in self.subsamples:
+            return len(self.subsamples[subsample])
+        return sum(int(np.count_nonzero(self._fitting_in(rows))) for rows in _parts(len(self.outcome)))
+
+    def _fitting_in(self, rows: slice) -> np.ndarray:
+        outcome = self.outcome[rows]
+        return (self.sample[rows] == DEVELOPMENT) & ((outcome == GOOD) | (outcome == BAD))
+
+    def _fitting_in_batch(self, subsample: str, first_row: int, n_rows: int) -> np.ndarray:
+        """Positions, within the rows first_row .. first_row + n_rows − 1, of those among ``fitting_rows(subsample)``."""
+        if subsample in self.subsamples:
+            rows = self.subsamples[subsample]  # ascending
+            return rows[np.searchsorted(rows, first_row):np.searchsorted(rows, first_row + n_rows)] - first_row
+        return np.flatnonzero(self._fitting_in(slice(first_row, first_row + n_rows)))
 
     # ----------------------------------------------------------------------------------------
     # Classing
@@ -152,16 +175,19 @@ class InProcessRows:
     # Selection and the fit
 
     def pattern_table(self, subsample: str, binnings: Sequence, *, kept: KeptCodes | None = None,
-                      final: bool = False) -> PatternTable:
+                      final: bool = False) -> PatternTable | RowsOnDisk:
         """The pattern table of a sub-sample of development (``fitting_rows``) over the given characteristics.
 
-        Above ``MERGE_LIMIT`` rows the table stays rows: merging would only cost memory (``final``,
-        the final fit's table, is treated alike here: the rows are this process's anyway).
+        Above ``MERGE_LIMIT`` rows the table stays rows: merging would only cost memory. The final
+        fit's table (``final``), read a part at a time by the fit, is then kept in a temporary file
+        (``RowsOnDisk``) when its rows weigh 1 and its codes fit in a byte; any other stays in memory.
         """
-        rows = self.fitting_rows(subsample)
         columns = tuple(b.characteristic for b in binnings)
-        if len(rows) > MERGE_LIMIT:
-            return self._row_table(rows, binnings, kept)
+        if self.n_fitting(subsample) > MERGE_LIMIT:
+            if final and self.unit_weights and all(b.n_bins <= 255 for b in binnings):
+                return rows_on_disk(self._fitting_codes(subsample, binnings, kept), characteristics=columns)
+            return self._row_table(self.fitting_rows(subsample), binnings, kept)
+        rows = self.fitting_rows(subsample)
         parts = []
         for first_row, codes in self.coded_batches(binnings, kept):
             inside = rows[(rows >= first_row) & (rows < first_row + len(codes))]
@@ -169,6 +195,13 @@ class InProcessRows:
             parts.append(pattern_table(codes[inside - first_row], np.where(outcome == GOOD, weight, 0.0),
                                        np.where(outcome == BAD, weight, 0.0), characteristics=columns))
         return merge_pattern_tables(parts)
+
+    def _fitting_codes(self, subsample: str, binnings: Sequence, kept: KeptCodes | None):
+        """Yield (codes, is good) of the rows of ``fitting_rows(subsample)``, in row order, a part at a time."""
+        for first_row, batch in self.coded_batches(binnings, kept):
+            for rows in _parts(len(batch)):  # kept codes come as one batch of every row
+                inside = self._fitting_in_batch(subsample, first_row + rows.start, rows.stop - rows.start) + rows.start
+                yield batch[inside], self.outcome[first_row + inside] == GOOD
 
     def _row_table(self, rows: np.ndarray, binnings: Sequence, kept: KeptCodes | None) -> PatternTable:
         """The rows' codes, goods and bads, filled in batch by batch into arrays made once."""
@@ -281,6 +314,11 @@ class InProcessRows:
                           "unknown": part["unknown"]} for label, part in parts.items()}
         undated = int((quarter < 0).sum()) if quarter is not None else 0
         return merged, {name: ordered_levels(levels) for name, levels in unseen.items()}, undated
+
+
+def _parts(n_rows: int, size: int = COUNT_ROWS):
+    """Slices of ``size`` rows covering 0 .. n_rows − 1: for row work whose temporaries should stay small."""
+    return [slice(first, min(first + size, n_rows)) for first in range(0, n_rows, size)]
 
 
 def _absolute_quarters(dates: np.ndarray) -> np.ndarray:

@@ -229,7 +229,7 @@ def holdout_count(n_rows: int, fraction: float) -> int:
 
 # odd 64-bit multipliers (the golden ratio's and a well-known hash prime) that reorder the split keys
 # for each sub-sample of development, so that it is drawn independently of the hold-out
-SUBSAMPLE_MULTIPLIERS = {"classing": 0x9E3779B97F4A7C15, "selection": 0xC2B2AE3D27D4EB4F}
+SUBSAMPLE_MULTIPLIERS = {"classing": 0x9E3779B97F4A7C15, "selection": 0xC2B2AE3D27D4EB4F, "comparison": 0x165667B19E3779F9}
 
 
 def subsample_keys(keys: np.ndarray, purpose: str) -> np.ndarray:

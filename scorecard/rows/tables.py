@@ -6,14 +6,17 @@ an engine that counts elsewhere (an embedded SQL engine, a cluster) only has to
 produce the same tables (see ``scorecard.rows``).
 
 - ``BinCounts``: one characteristic's bins × (sample, outcome), weighted and raw.
-- ``PatternTable``: distinct patterns of bin codes across characteristics, with goods and bads.
+- ``PatternTable``: distinct patterns of bin codes across characteristics, with goods and bads;
+  ``RowsOnDisk``: a large table of rows of unit weight kept in a temporary file.
 - ``ScoreHistogram``: goods, bads and others at each distinct score of one sample.
 """
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+import os
+import tempfile
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -124,6 +127,10 @@ class PatternTable:
         """Return the bin codes of one characteristic across the patterns."""
         return self.codes[:, self.characteristics.index(characteristic)]
 
+    def part(self, characteristics: Sequence[str], rows: slice = slice(None)) -> np.ndarray:
+        """Return the bin codes of some patterns (a slice) of the named characteristics, patterns × characteristics."""
+        return self.codes[rows, [self.characteristics.index(c) for c in characteristics]]
+
     def subset(self, characteristics: Sequence[str]) -> PatternTable:
         """Return the pattern table of fewer characteristics (patterns merged, counts added; not above ``MERGE_LIMIT``)."""
         columns = [self.characteristics.index(c) for c in characteristics]
@@ -142,6 +149,114 @@ def row_table(codes: np.ndarray, goods: np.ndarray, bads: np.ndarray, *, charact
     for array in (codes, goods, bads):
         array.setflags(write=False)
     return PatternTable(tuple(characteristics), codes, goods, bads)
+
+
+@dataclass(frozen=True, eq=False)
+class RowsOnDisk:
+    """A table of rows as they are (``row_table``) kept in a temporary file, not in memory, and read a part at a time.
+
+    Each row is its bin codes (one byte per characteristic) and one byte that is 1 for a good and
+    0 for a bad, every row of unit weight: the final fit's table of a large ledger, about k + 1
+    bytes a row on disk and a part of the rows in memory at a time. The file has no name (it is
+    gone when closed, or when the process ends however it ends).
+
+    Attributes
+    ----------
+    characteristics : tuple of str
+        The columns this table shows, in order.
+    file : file object
+        The open temporary file.
+    n_rows : int
+    width : int
+        Bytes per row in the file.
+    positions : tuple of int
+        Each characteristic's column in the file.
+    goods_total, bads_total : float
+        The goods and the bads: counts of rows.
+    """
+
+    characteristics: tuple[str, ...]
+    file: object
+    n_rows: int
+    width: int
+    positions: tuple[int, ...]
+    goods_total: float
+    bads_total: float
+    last_read: dict = field(default_factory=dict, repr=False)  # the part read last: a pass asks for its codes and counts
+
+    @property
+    def n_patterns(self) -> int:
+        """Number of rows (each its own pattern)."""
+        return self.n_rows
+
+    def part(self, characteristics: Sequence[str], rows: slice = slice(None)) -> np.ndarray:
+        """Return the bin codes of some rows (a slice) of the named characteristics, rows × characteristics."""
+        columns = [self.positions[self.characteristics.index(c)] for c in characteristics]
+        return self._read(rows)[:, columns]
+
+    def goods_of(self, rows: slice = slice(None)) -> np.ndarray:
+        """Goods of some rows (1.0 or 0.0 each)."""
+        return (self._read(rows)[:, -1] == 1).astype(float)
+
+    def bads_of(self, rows: slice = slice(None)) -> np.ndarray:
+        """Bads of some rows (1.0 or 0.0 each)."""
+        return (self._read(rows)[:, -1] == 0).astype(float)
+
+    def subset(self, characteristics: Sequence[str]) -> RowsOnDisk:
+        """The same rows showing fewer characteristics (nothing is read or copied)."""
+        positions = tuple(self.positions[self.characteristics.index(c)] for c in characteristics)
+        return RowsOnDisk(tuple(characteristics), self.file, self.n_rows, self.width, positions, self.goods_total,
+                          self.bads_total, self.last_read)
+
+    def _read(self, rows: slice) -> np.ndarray:
+        first, last, _ = rows.indices(self.n_rows)
+        if self.last_read.get("rows") != (first, last):
+            data = _read_exactly(self.file.fileno(), max(last - first, 0) * self.width, first * self.width)
+            self.last_read.update(rows=(first, last), data=np.frombuffer(data, dtype=np.uint8).reshape(-1, self.width))
+        return self.last_read["data"]
+
+
+def _read_exactly(descriptor: int, size: int, offset: int) -> bytearray:
+    """``size`` bytes of a file from ``offset`` (one read returns at most about 2 GB, so as many as it takes)."""
+    data = bytearray(size)
+    view, done = memoryview(data), 0
+    while done < size:
+        count = os.preadv(descriptor, [view[done:]], offset + done)
+        if count == 0:
+            raise OSError(f"a temporary file of rows ended {size - done} bytes early")  # our own invariant
+        done += count
+    return data
+
+
+def goods_and_bads(table: PatternTable | RowsOnDisk) -> tuple[np.ndarray, np.ndarray]:
+    """The goods and the bads of every pattern (row) of a table, as arrays in memory."""
+    if isinstance(table, RowsOnDisk):
+        return table.goods_of(), table.bads_of()
+    return table.goods, table.bads
+
+
+def rows_on_disk(parts: Iterable[tuple[np.ndarray, np.ndarray]], *, characteristics: Sequence[str]) -> RowsOnDisk:
+    """Write rows to a temporary file as they come, part by part: (bin codes rows × characteristics, is good per row).
+
+    The codes must fit in a byte (bins 0 to 255) and every row must weigh 1; the order of the rows
+    is the order they come in, as ``row_table`` keeps it.
+    """
+    file = tempfile.TemporaryFile(prefix="scorewright-rows-")
+    n_rows = n_goods = 0
+    width = len(characteristics) + 1
+    try:
+        for codes, good in parts:
+            block = np.empty((len(good), width), dtype=np.uint8)
+            block[:, :-1] = codes
+            block[:, -1] = good
+            file.write(block.tobytes())
+            n_rows, n_goods = n_rows + len(good), n_goods + int(np.count_nonzero(good))
+        file.flush()
+    except BaseException:
+        file.close()
+        raise
+    return RowsOnDisk(tuple(characteristics), file, n_rows, width, tuple(range(len(characteristics))),
+                      float(n_goods), float(n_rows - n_goods))
 
 
 def pattern_table(codes: np.ndarray, goods: np.ndarray, bads: np.ndarray, *,
