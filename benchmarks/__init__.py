@@ -12,3 +12,4 @@ REPO = HERE.parent
 DATA = HERE / "data"      # generated ledgers, reused across runs (git-ignored)
 RUNS = HERE / "runs"      # settings, build folders and scored files of the last run (git-ignored)
 RESULTS = HERE / "RESULTS.md"
+LARGE_RESULTS = HERE / "RESULTS-large.md"  # the streamed build of 100M rows (make bench-large; large.py)

@@ -1,6 +1,7 @@
 """Run the benchmarks and write benchmarks/RESULTS.md.
 
 ``python -m benchmarks [--rows 1000000] [--pairs 5] [--quick] [--streaming] [--sizes 1000000,10000000,30000000] [--engines]``
+``python -m benchmarks --large [--sizes 1000000,100000000]`` (``make bench-large``; see ``large.py``)
 
 In order: make (or reuse) the ledger; run ``scorewright init`` once; time pandas' two CSV engines
 and keep the faster as the parse-only baseline; time ``scorewright --help``; alternate parse-only
@@ -19,14 +20,15 @@ import shlex
 import sys
 from datetime import datetime
 
-from . import RESULTS, RUNS
+from . import LARGE_RESULTS, RESULTS, RUNS
 from . import sections as s
 from .data import ledger_file
+from .large import LARGE_SIZES, LargeRecord, read_large, write_large
 from .machine import changed_files, code_fingerprint, machine
 from .results import Results
 from .rowengines import PLAN, engine_builds
 from .streaming import streamed_builds
-from .writing import write_results
+from .writing import large_markdown, write_results
 
 SEED = 7
 QUICK_ROWS, QUICK_PAIRS = 100_000, 2
@@ -52,6 +54,8 @@ def main(argv: list[str] | None = None) -> int:
                       seed=SEED, ledger=ledger.name, ledger_mb=ledger.stat().st_size / 1e6, machine=machine())
     code = code_fingerprint()
     settings = s.make_settings(ledger, RUNS, _log)  # also brings the ledger into the page cache
+    if options.large:
+        return _large(results, options.sizes or LARGE_SIZES, settings)
     results.engines = s.engine_runs(ledger, _log)
     results.engine = s.fastest_engine(results.engines)
     results.help = s.help_runs(_log)
@@ -72,7 +76,18 @@ def main(argv: list[str] | None = None) -> int:
         results.row_engines = engine_builds(SEED, settings, _log, QUICK_ENGINE_PLAN if options.quick else PLAN)
     results.finished = datetime.now()
     results.code_changes = changed_files(code, code_fingerprint())
+    results.large = read_large(LARGE_RESULTS)
     _log(f"written {write_results(results, RESULTS)}")
+    return 0
+
+
+def _large(results: Results, sizes: tuple[int, ...], settings) -> int:
+    """Only the streamed builds of the given sizes, written to RESULTS-large.md (``make bench-large``)."""
+    results.streaming = streamed_builds(sizes, SEED, settings, _log, folder=RUNS / "streaming-large")
+    results.finished = datetime.now()
+    runs = tuple(results.streaming) if isinstance(results.streaming, list) else ()
+    record = LargeRecord(f"{results.started:%Y-%m-%d %H:%M}", results.command, runs)
+    _log(f"written {write_large(LARGE_RESULTS, large_markdown(results), record)}")
     return 0
 
 
@@ -86,6 +101,9 @@ def _parser() -> argparse.ArgumentParser:
                         "(default 1000000,10000000,30000000; with --quick 100000,1000000,3000000)")
     parser.add_argument("--engines", action="store_true",
                         help="also build through each engine (in process, DuckDB, Spark) on Parquet ledgers of 1M and 10M rows")
+    parser.add_argument("--large", action="store_true",
+                        help="only the streamed builds of 1M and 100M rows (or --sizes), written to RESULTS-large.md; "
+                             "make bench's RESULTS.md then takes the 100M targets from it")
     parser.add_argument("--note", default="", help="a sentence to put at the top of RESULTS.md (e.g. the machine was busy)")
     return parser
 

@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 from datetime import datetime
 
 from . import targets as t
+from .large import LargeRecord
 from .measure import Run, median
 from .streaming import MEMORY_CAP_MB
 from .sections import BUILD, BUILD_NO_REPORTS, HANDWRITTEN, SCORE, stage_seconds
@@ -46,6 +47,7 @@ class Results:
     row_engines: list[dict] | None = None  # the same build through each engine (rowengines.py)
     finished: datetime | None = None
     code_changes: list[str] = field(default_factory=list)  # tool files that changed during the run
+    large: LargeRecord | None = None  # the streamed build of 100M rows as RESULTS-large.md recorded it (make bench-large)
 
     def runs(self) -> list[Run]:
         """Every timed run, in order."""
@@ -221,17 +223,26 @@ def outside_stages(results: Results, build: str = BUILD) -> float | None:
 
 
 def large_streamed(results: Results) -> tuple[Run, Run] | None:
-    """The streamed builds of 1M rows and of 100M rows (or more), when both ran to the end."""
-    if not isinstance(results.streaming, list):
-        return None
-    done = {size: run for size, run in results.streaming if run.ok}
+    """The streamed builds of 1M rows and of 100M rows (or more), when both ran to the end: in this run, else as
+    RESULTS-large.md recorded them."""
+    own = _large_pair(results.streaming if isinstance(results.streaming, list) else [])
+    return own or (_large_pair(results.large.runs) if results.large else None)
+
+
+def _large_pair(streaming) -> tuple[Run, Run] | None:
+    done = {size: run for size, run in streaming if run.ok}
     largest = max((size for size in done if size >= t.LARGE_ROWS), default=None)
     return (done[1_000_000], done[largest]) if largest and 1_000_000 in done else None
 
 
 def _large_note(results: Results, large) -> str:
+    if large is not None and _large_pair(results.streaming if isinstance(results.streaming, list) else []):
+        return "(this run)"
     if large is not None:
-        return "(make bench-large)"
+        return f"(`make bench-large`, recorded {results.large.recorded} in RESULTS-large.md)"
+    if results.large is not None:
+        return (f"(`make bench-large` of {results.large.recorded} did not finish both builds: "
+                "see RESULTS-large.md and PROFILE.md)")
     sizes = [size for size, _ in results.streaming] if isinstance(results.streaming, list) else []
     largest = f"; this run's largest streamed size is {max(sizes):,} rows" if sizes else ""
     return f"(not run: `make bench-large` builds it{largest}; see PROFILE.md)"

@@ -26,9 +26,10 @@ from .sections import Log, scorewright
 MEMORY_CAP_MB = 6000.0  # twice the target: past it the verdict is plain, and the machine is shared
 
 
-def streamed_builds(sizes: Sequence[int], seed: int, settings: Path, log: Log) -> list[tuple[int, Run]] | str:
-    """Run one streamed build per size; return (rows, run) per size, or why the section cannot run."""
-    folder = RUNS / "streaming"
+def streamed_builds(sizes: Sequence[int], seed: int, settings: Path, log: Log, *,
+                    folder: Path = RUNS / "streaming") -> list[tuple[int, Run]] | str:
+    """Run one streamed build per size (settings and build folders in ``folder``, emptied first); return (rows, run)
+    per size, or why the section cannot run."""
     shutil.rmtree(folder, ignore_errors=True)
     found = []
     for size in sizes:

@@ -34,6 +34,33 @@ def markdown(results: r.Results) -> str:
     return "\n\n".join(part.rstrip() for part in parts if part) + "\n"
 
 
+def large_markdown(results: r.Results) -> str:
+    """Return RESULTS-large.md's text (but the figures as JSON, which ``large.write_large`` adds): the streamed
+    builds of a ``--large`` run and the three targets of the 100M build."""
+    took = (results.finished - results.started).total_seconds() / 60 if results.finished else None
+    heading = "\n".join([
+        "# Benchmark results: the streamed build of 100M rows",
+        "",
+        f"Run {results.started:%Y-%m-%d %H:%M} (local time) with `{results.command}`; it took {_number(took, '{:.0f}')} min. "
+        "Each size is one `scorewright build SETTINGS --out DIR --force --stream --no-reports --timings` on the Parquet "
+        "ledger of that size, the classing fixed by `scorewright init` on the 1M-row CSV (as `make bench` does). "
+        "`make bench` copies the three targets below into RESULTS.md, saying when they were recorded.",
+        "",
+        "Machine load (1-minute load average just before each build): "
+        + ", ".join(f"{size:,} rows {run.load:.1f}" for size, run in
+                    (results.streaming if isinstance(results.streaming, list) else [])) + f" on {results.machine['cores']} cores.",
+    ] + ([f"", f"**Note:** {results.note}"] if results.note else []))
+    large = [target for target in r.target_list(results) if target.before and "100M" in target.promise or
+             target.promise.startswith("… and ≤ 1.3× the 1M") or target.promise.startswith("… time per row at 100M")]
+    targets = "## Targets\n\n" + table(["target", "before", "measured", "status"],
+                                        [(t.promise, t.before, t.figure(), t.verdict()) for t in large])
+    stages = [f"Streamed build, {size:,} rows: " + ", ".join(f"{stage} {seconds:.1f} s" for stage, seconds in
+                                                          r.stage_medians([run]).items()) + "."
+              for size, run in (results.streaming if isinstance(results.streaming, list) else []) if r.stage_medians([run])]
+    parts = [heading, _machine(results), targets, _streaming(results), "## Where the time goes\n\n" + "\n\n".join(stages)]
+    return "\n\n".join(part.rstrip() for part in parts if part) + "\n"
+
+
 def _profile() -> str:
     """The profiling notes kept by hand in PROFILE.md: where the time went, and what was changed."""
     notes = Path(__file__).with_name("PROFILE.md")
