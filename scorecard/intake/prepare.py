@@ -24,7 +24,10 @@ from ..settings import Settings
 from ..terms import BAD, COMPARISON, DEVELOPMENT, DUCKDB, GOOD, IN_PROCESS, NUMERIC, OUT_OF_TIME, REJECTED, SPARK, UNKNOWN
 from .kinds import added_readings, check_finite, choose_characteristics, role_columns, value_reading, with_reading
 from .ledger import Fingerprint, Ledger, RejectedRows, fingerprint_of
-from .read import HEAD_ROWS, arrow_types, checked_file, file_batches, ledger_columns, read_batches, read_head, read_ledger
+from .read import (
+    HEAD_ROWS, arrow_types, checked_file, file_batches, ledger_columns, read_batches, read_head, read_ledger,
+    release_freed_memory,
+)
 from .roles import (
     check_roles, joined_levels, level_dtype, protected_columns, protected_levels, role_values, unit_weights,
 )
@@ -302,6 +305,7 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
                            out_of_time_sample=in_time)
     subsamples = draw_subsamples(sample, outcome, keys, settings, tie_texts=tie_texts) if drawn else {}
     del keys
+    release_freed_memory()  # the batches' parts and the keys
     notes = [*read_notes, *repairs, *(f"{name!r} left out: {why}." for name, why in left_out.items())]
     for note in repairs:
         warnings.warn(note, ScorecardWarning, stacklevel=2)

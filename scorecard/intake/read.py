@@ -7,6 +7,8 @@ header as row 1, as a spreadsheet shows them.
 from __future__ import annotations
 
 import csv
+import ctypes
+import ctypes.util
 import os
 import re
 from collections.abc import Sequence
@@ -286,6 +288,35 @@ def file_batches(path: Path, suffix: str, columns: list[str], types: dict[str, o
             f"{path.name}, after row {first_row + 1}: cannot read the next rows ({type(error).__name__}: {error}). "
             "A column may hold text where the first rows hold numbers; fix the file or set the column's kind."
         ) from None
+    finally:
+        release_freed_memory()
+
+
+def release_freed_memory() -> None:
+    """Give the memory a pass over the rows freed back to the system.
+
+    Arrow's allocator keeps the pages of freed batches for its next ones, and the C heap keeps freed
+    blocks that lie below live ones (the parts of a streamed ledger's row-level arrays, say): memory
+    the process holds but no longer uses, which otherwise adds up from pass to pass.
+    """
+    import pyarrow
+
+    pyarrow.default_memory_pool().release_unused()
+    if _C_LIBRARY is not None:
+        _C_LIBRARY.malloc_trim(0)
+
+
+def _c_library():
+    """The C library when it can trim its heap (glibc), else None."""
+    found = ctypes.util.find_library("c")
+    try:
+        library = ctypes.CDLL(found) if found else None
+    except OSError:
+        return None
+    return library if library is not None and hasattr(library, "malloc_trim") else None
+
+
+_C_LIBRARY = _c_library()
 
 
 # The two ways a ledger writes numbers with separators (common practice, no source): the name said
