@@ -53,6 +53,7 @@ def main(argv: list[str] | None = None) -> int:
     results = Results(command=command.strip(), started=started, note=options.note, rows=rows, pairs=pairs,
                       seed=SEED, ledger=ledger.name, ledger_mb=ledger.stat().st_size / 1e6, machine=machine())
     code = code_fingerprint()
+    s.compile_package(_log)
     settings = s.make_settings(ledger, RUNS, _log)  # also brings the ledger into the page cache
     if options.large:
         return _large(results, options.sizes or LARGE_SIZES, settings)
