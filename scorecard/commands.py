@@ -2,7 +2,8 @@
 
 Each ``run_*`` function does its work and catches nothing: ``cli.main`` turns our errors into
 messages and exit codes. Heavy libraries are imported here, not in ``cli.py``, so that
-``scorewright --help`` stays fast.
+``scorewright --help`` stays fast; the stages only one command needs (classing, the build, the
+reports) are imported inside that command, so that ``score`` loads only the scoring path.
 """
 
 from __future__ import annotations
@@ -15,12 +16,11 @@ import shlex
 import tomllib
 from dataclasses import replace
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
 
-from .build import Stopwatch, build_scorecard
-from .classing import ClassedLedger, class_ledger, classing_settings_values
 from .errors import LedgerError, SettingsError
 from .files import check_not_an_input, claiming, replacing, replacing_folder, write_text_atomically
 from .intake import (
@@ -31,12 +31,14 @@ from .modelfile import document_checksum, load_model, model_document, save_model
 from .options import (
     EXIT_CHECK_FAILED, EXIT_OK, BuildOptions, ExportOptions, InitOptions, MonitorOptions, ScoreOptions, SetOptions, Streams,
 )
-from .report.text import build_summary, iv_table, monitor_summary
 from .terms import ENGINES, IN_PROCESS, SPARK
 from .rows import ordered_levels, tally_unseen
 from .settings import (
     CharacteristicSettings, Settings, edit_settings, read_settings, settings_from_mapping, settings_to_mapping, write_settings,
 )
+
+if TYPE_CHECKING:  # named in a signature only; classing is imported by the commands that class
+    from .classing import ClassedLedger
 
 
 def run_init(options: InitOptions, streams: Streams) -> int:
@@ -47,6 +49,9 @@ def run_init(options: InitOptions, streams: Streams) -> int:
 
 
 def _init(options: InitOptions, streams: Streams) -> int:
+    from .classing import class_ledger
+    from .report.text import iv_table
+
     out = options.out
     if out.is_dir():
         raise SettingsError(f"{out}: is a folder. Give --out the name of the settings file to write, e.g. {out / 'scorecard.toml'}.")
@@ -213,6 +218,8 @@ def _rejected_option(entry: str, columns) -> dict[str, object]:
 
 def _proposals(ledger, classed: ClassedLedger, settings: Settings):
     """Return the characteristics' settings (kind, classing) and a comment line for each."""
+    from .classing import classing_settings_values
+
     characteristics, comments = {}, {}
     for char in classed.characteristics:
         spec = settings.characteristic(char.name)
@@ -267,6 +274,8 @@ MONITOR_OUTPUTS = ("monitor.txt", "monitor.html", "monitor.xlsx")
 
 def run_build(options: BuildOptions, streams: Streams) -> int:
     """Build the scorecard and write the model file, the resolved settings and the reports, as one set."""
+    from .build import Stopwatch
+
     timings: dict[str, float] = {}
     clock = Stopwatch(timings)
     chosen: list[str] = []  # what the quick path took by itself (the id, the date column): said, never silent
@@ -289,6 +298,9 @@ def run_build(options: BuildOptions, streams: Streams) -> int:
 
 def _build(options: BuildOptions, streams: Streams, settings: Settings, ledger_path: Path | None, place, out: Path, clock,
            timings: dict[str, float], read_whole: list[pd.DataFrame], chosen: list[str]) -> int:
+    from .build import build_scorecard
+    from .report.text import build_summary
+
     check_output_folder(out, options.force, outputs=BUILD_OUTPUTS)
     previous = load_model(options.previous) if options.previous else None  # refused before the build, not after
     with clock("intake"):  # a ledger read whole to propose the settings is not read again (and not held after intake)
@@ -563,7 +575,6 @@ def write_tables_atomically(frames, path: Path) -> Path:
     """
     import pyarrow as pa
     import pyarrow.csv as pacsv
-    import pyarrow.parquet as pq
 
     with replacing(path) as temporary:
         writer, schema = None, None
@@ -576,8 +587,12 @@ def write_tables_atomically(frames, path: Path) -> Path:
                     schema = table.schema if path.suffix.lower() == ".csv" else pa.schema(
                         [pa.field(f.name, f.type.value_type if pa.types.is_dictionary(f.type) else f.type)
                          for f in table.schema], metadata=table.schema.metadata)
-                    writer = (pq.ParquetWriter(temporary, schema) if path.suffix.lower() == ".parquet"
-                              else pacsv.CSVWriter(temporary, schema))
+                    if path.suffix.lower() == ".parquet":
+                        import pyarrow.parquet as pq
+
+                        writer = pq.ParquetWriter(temporary, schema)
+                    else:
+                        writer = pacsv.CSVWriter(temporary, schema)
                 writer.write_table(table.cast(schema))
         finally:
             if writer is not None:
@@ -634,6 +649,7 @@ def _monitor(options: MonitorOptions, streams: Streams, out: Path) -> int:
     from .monitor import monitor_rows
     from .report.monitor_page import write_monitor
     from .report.monitor_sheets import write_monitor_workbook
+    from .report.text import monitor_summary
 
     check_output_folder(out, options.force, outputs=MONITOR_OUTPUTS)
     saved = load_model(options.model)

@@ -17,7 +17,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-from scipy import special
 
 from .errors import ScorecardError
 from .terms import frozen
@@ -51,6 +50,8 @@ class Scaling:
 
     def pd_of_score(self, score: np.ndarray | float) -> np.ndarray | float:
         """Return the probability of default of a score: 1 / (1 + odds(score))."""
+        from scipy import special  # on first use: the score command finds its probabilities without it
+
         return special.expit(-self.log_odds_of_score(score))
 
     def to_dict(self) -> dict[str, float]:

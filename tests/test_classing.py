@@ -88,6 +88,38 @@ def test_unseen_levels_go_to_the_unseen_bin_and_are_counted():
     assert unseen_levels(values, binning) == {"boat": 2}
 
 
+def test_text_held_in_arrow_is_coded_as_the_same_text_held_as_python_objects():
+    # pandas 3 reads text as Arrow strings, which are looked up among the levels in Arrow; the reference is the
+    # same values as Python objects (factorized); two pieces joined make a column of two Arrow chunks
+    binning = categorical_binning("housing", [("own",), ("rent", "other")], has_missing=True)
+    binning = Binning(**{**binning.__dict__, "unseen_bin": 0})
+    rng = np.random.default_rng(8)
+    arrow_text = pd.StringDtype("pyarrow", na_value=np.nan)
+    pieces = [pd.Series(rng.choice(np.array(["own", "rent", "other", "boat", "", "Own", None], dtype=object), n),
+                        dtype=arrow_text) for n in (3_000, 2_000)]
+    for values in (pieces[0], pd.concat(pieces, ignore_index=True)):
+        assert values.dtype.storage == "pyarrow"
+        np.testing.assert_array_equal(code_rows(values, binning), code_rows(values.astype(object), binning))
+        assert unseen_levels(values, binning) == unseen_levels(values.astype(object), binning)
+        assert set(unseen_levels(values, binning)) == {"boat", "", "Own"}
+    known = pd.Series(["own", "rent", None], dtype=arrow_text)
+    np.testing.assert_array_equal(code_rows(known, binning), [0, 1, 2])
+    assert unseen_levels(known, binning) == {}
+
+
+def test_numbers_coded_block_by_block_equal_pandas_cut_with_special_and_missing_values():
+    # more rows than one block (rows.coding.BLOCK_ROWS), and a last block shorter than the others
+    rng = np.random.default_rng(9)
+    values = rng.normal(0, 10, 150_001).round(1)
+    values[::97] = np.nan
+    values[::89] = -1.0
+    binning = numeric_binning("x", [-5.0, 0.0, 2.5, 10.0], special_values=[-1.0], has_missing=True)
+    expected = np.asarray(pd.cut(values, [-np.inf, -5.0, 0.0, 2.5, 10.0, np.inf], right=False, labels=False))
+    expected[values == -1.0] = binning.special_bins[0]
+    expected[np.isnan(values)] = binning.missing_bin
+    np.testing.assert_array_equal(code_rows(pd.Series(values), binning), expected.astype(int))
+
+
 def test_integer_and_float_levels_are_the_same_level():
     binning = categorical_binning("region", [("1",), ("2", "3")], has_missing=False)
     np.testing.assert_array_equal(code_rows(pd.Series([1.0, 2.0, 3.0]), binning), [0, 1, 1])

@@ -2,14 +2,16 @@
 
 from __future__ import annotations
 
+from types import SimpleNamespace
+
 import numpy as np
 import pandas as pd
 import pytest
 
 from scorecard.classing import categorical_binning, numeric_binning
 from scorecard.errors import LedgerError
-from scorecard.rows import score_codes
-from scorecard.scoring import Scorecard, reasons
+from scorecard.rows import score_codes, score_units
+from scorecard.scoring import Scorecard, probabilities, reasons
 
 from tables import example_points_table as _table  # tests/tables.py
 
@@ -21,6 +23,40 @@ def test_score_is_the_sum_of_the_bins_points_for_every_row():
     slow = [sum(c.points[codes[i, j]] for j, c in enumerate(table.characteristics)) for i in range(len(codes))]
     np.testing.assert_array_equal(score_codes(codes, table), slow)
     assert score_codes(codes, table).dtype == np.int64
+
+
+def test_score_of_many_characteristics_looked_up_in_bundles_is_the_sum_of_their_points():
+    # characteristics of 2 to 300 bins are looked up a few at a time (rows.coding.BUNDLE_ENTRIES): still the plain sum
+    rng = np.random.default_rng(2)
+    sizes = [2, 9, 7, 300, 3, 8, 9, 12, 5, 2, 40, 6]
+    table = SimpleNamespace(decimals=0, characteristics=[
+        SimpleNamespace(points=rng.integers(-60, 90, size).astype(float)) for size in sizes])
+    codes = np.asfortranarray(np.column_stack([rng.integers(0, size, 3_000) for size in sizes]).astype(np.uint16))
+    slow = [sum(int(c.points[codes[i, j]]) for j, c in enumerate(table.characteristics)) for i in range(len(codes))]
+    np.testing.assert_array_equal(score_codes(codes, table), slow)
+
+
+def test_probabilities_looked_up_per_score_equal_the_probability_of_each_row():
+    # the probability is computed once per score in the rows' range and looked up: the same doubles, bit for bit
+    table = _table(decimals=1)
+    rng = np.random.default_rng(3)
+    codes = np.column_stack([rng.integers(0, len(c.points), 20_000) for c in table.characteristics])
+    units = score_units(codes, table)
+    row_by_row = table.scaling.pd_of_score(score_codes(codes, table))
+    assert probabilities(units, table).tobytes() == row_by_row.tobytes()
+    assert probabilities(units[:1], table).tobytes() == row_by_row[:1].tobytes()
+
+
+def test_probabilities_without_scipy_are_the_doubles_of_scipys_expit():
+    # scoring computes 1 / (1 + e^x) with math.exp, the C library's exp that scipy.special.expit calls; the reference is
+    # expit itself, bit for bit, on log-odds of every size (and past the largest double's exponent)
+    from scipy import special
+
+    from scorecard.scoring import _pd_of_log_odds
+
+    log_odds = np.concatenate([np.random.default_rng(4).normal(0, 8, 100_000), [-800.0, 0.0, 709.7, 709.8, 800.0]])
+    ours = np.array([_pd_of_log_odds(x) for x in log_odds.tolist()])
+    assert ours.tobytes() == special.expit(-log_odds).tobytes()
 
 
 def test_reasons_rank_the_points_lost_against_the_best_bin():

@@ -20,7 +20,6 @@ from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
 import numpy as np
-from scipy import special
 
 from ..evidence import information_value, woe_values
 from ..terms import (
@@ -328,6 +327,8 @@ def neighbour_p_values(goods: np.ndarray, bads: np.ndarray) -> np.ndarray:
     freedom when the bad rates are equal (the likelihood-ratio test of independence; A. Agresti,
     Categorical Data Analysis, 2nd ed., 2002, section 3.2, from memory).
     """
+    from scipy import special  # on first use: scoring loads classing for its bins, and never needs this
+
     goods, bads = np.asarray(goods, float), np.asarray(bads, float)
     table = np.stack([goods[:-1], bads[:-1], goods[1:], bads[1:]], axis=-1).reshape(-1, 2, 2)  # pair, class, outcome
     expected = table.sum(axis=2, keepdims=True) * table.sum(axis=1, keepdims=True) / table.sum(axis=(1, 2), keepdims=True)

@@ -238,6 +238,8 @@ def check_finite(frame: pd.DataFrame, characteristics: Sequence[Characteristic],
 
 def check_finite_values(series: pd.Series, *, name: str, source: str, first_row: int = 0) -> None:
     """Raise LedgerError when a numeric column holds infinite values (every command says the same)."""
+    if pd.api.types.is_integer_dtype(series) or pd.api.types.is_bool_dtype(series):
+        return  # whole numbers and true/false are never infinite
     infinite = np.isinf(series.to_numpy(dtype=float, na_value=np.nan))
     if infinite.any():
         rows = describe_rows((np.flatnonzero(infinite) + 2 + first_row).tolist())

@@ -10,7 +10,10 @@
 - ``duckdb``, ``spark``: the two engines (imported only when a ledger names them).
 """
 
-from .coding import UNSEEN_LABEL, code_rows, factorize_levels, ordered_levels, score_codes, tally_unseen, unseen_levels
+from .coding import (
+    UNSEEN_LABEL, code_rows, factorize_levels, ordered_levels, score_codes, score_units, scores_of_units, tally_unseen,
+    unseen_levels,
+)
 from .engine import BATCH_READABLE, Batches, RowPlace, RowSource, connect, csv_delimiter, reads_in_batches
 from .inprocess import InProcessRows, KeptCodes
 from .tables import (
@@ -23,5 +26,5 @@ __all__ = [
     "connect", "csv_delimiter",
     "PatternTable", "RowSource", "RowsOnDisk", "ScoreHistogram", "code_rows", "count_bins", "factorize_levels", "goods_and_bads", "merge_histograms",
     "merge_pattern_tables", "ordered_levels", "pattern_keys", "pattern_table", "reads_in_batches", "row_table", "rows_on_disk", "score_codes",
-    "score_histogram", "tally_unseen", "unseen_levels",
+    "score_histogram", "score_units", "scores_of_units", "tally_unseen", "unseen_levels",
 ]
