@@ -492,7 +492,7 @@ def _score(options: ScoreOptions, streams: Streams) -> int:
             scored = scorecard.score(frame, reason_count=count, source=source, first_row=first_row)
             tally_unseen(unseen, scorecard.unseen(frame))
             if scorecard.id_column and scorecard.id_column in frame.columns:
-                scored.insert(0, scorecard.id_column, frame[scorecard.id_column].to_numpy())
+                scored.insert(0, scorecard.id_column, frame[scorecard.id_column].array)  # its own array: no Python object per id
             else:  # as a spreadsheet numbers them: the header is row 1
                 scored.insert(0, "row", np.arange(first_row + 2, first_row + len(frame) + 2))
             summary["rows"] += len(scored)
@@ -624,7 +624,10 @@ def neutralised(frame: pd.DataFrame) -> pd.DataFrame:
                 changed[name] = column.cat.rename_categories(fixed.tolist())
             continue
         text = column.astype("string")
-        risky = text.str.match(FORMULA_START.pattern, na=False) & ~text.str.fullmatch(PLAIN_NUMBER.pattern, na=False)
+        starts = text.str.match(FORMULA_START.pattern, na=False)
+        if not starts.any():  # the common case (ids, names): no text starts like a formula, and no number is looked for
+            continue
+        risky = starts & ~text.str.fullmatch(PLAIN_NUMBER.pattern, na=False)
         if risky.any():
             changed[name] = column.astype(object).where(~risky.to_numpy(), "'" + text.astype(object))
     return frame.assign(**changed) if changed else frame

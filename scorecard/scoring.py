@@ -43,22 +43,35 @@ def reasons(codes: np.ndarray, table: PointsTable, *, count: int = 4) -> np.ndar
     unit = 10.0**table.decimals
     losses = [np.rint((char.best - char.points) * unit).astype(np.int64) for char in table.characteristics]
     largest = max((int(lost.max()) for lost in losses if lost.size), default=0)
-    dtype = np.int32 if (largest + 1) * k < 2**31 - 1 else np.int64  # half the memory to scan when it fits
-    key = np.empty((n_rows, k), dtype=dtype)
-    for column, lost in enumerate(losses):
-        key[:, column] = (-lost * k + column).astype(dtype)[codes[:, column]]
-    # the count smallest keys of each row, smallest first: one scan of the rows per reason (keys are distinct in a row)
-    order = np.empty((n_rows, count), dtype=np.int64)
-    lost_most = np.empty((n_rows, count), dtype=np.int64)
-    flat, starts, taken = key.reshape(-1), np.arange(0, n_rows * k, k), np.iinfo(dtype).max
-    for rank in range(count):
-        position = key.argmin(axis=1)
-        cells = starts + position  # each row's smallest key, as a place in the flat array
-        order[:, rank] = position
-        lost_most[:, rank] = (position - flat[cells]) // k
-        if rank + 1 < count:
-            flat[cells] = taken
-    return np.where(lost_most > 0, order, -1)
+    dtype = np.int32 if (largest + 1) * k < 2**31 - 1 else np.int64  # half the memory to move when it fits
+    keys = [(-lost * k + column).astype(dtype) for column, lost in enumerate(losses)]
+    smallest = np.empty((count, n_rows), dtype=dtype)
+    for start in range(0, n_rows, REASON_BLOCK_ROWS):
+        rows = slice(start, start + REASON_BLOCK_ROWS)
+        _smallest_keys(codes[rows], keys, smallest[:, rows])
+    position = np.mod(smallest, k)  # keys are distinct in a row, so each names its characteristic
+    lost_most = (position - smallest) // k
+    return np.where(lost_most > 0, position, -1).T.astype(np.int64)
+
+
+# rows whose keys are ranked at a time: the running ranks stay in the processor's cache
+REASON_BLOCK_ROWS = 32_768
+
+
+def _smallest_keys(codes: np.ndarray, keys: list[np.ndarray], smallest: np.ndarray) -> None:
+    """Write each row's ``len(smallest)`` smallest keys, smallest first, into ``smallest`` (ranks × rows).
+
+    Each characteristic's key is passed down the running ranks (a sorting network: the smaller
+    stays, the larger moves on), so every row is ranked with whole-column minimum and maximum.
+    """
+    smallest.fill(np.iinfo(smallest.dtype).max)
+    spare = np.empty(smallest.shape[1], dtype=smallest.dtype)
+    for column, key in enumerate(keys):
+        moving = np.take(key, codes[:, column])
+        for rank in smallest:
+            np.maximum(rank, moving, out=spare)
+            np.minimum(rank, moving, out=rank)
+            moving, spare = spare, moving
 
 
 def probabilities(units: np.ndarray, table: PointsTable) -> np.ndarray:
