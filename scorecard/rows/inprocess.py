@@ -188,6 +188,13 @@ class InProcessRows:
                 return rows_on_disk(self._fitting_codes(subsample, binnings, kept), characteristics=columns)
             return self._row_table(self.fitting_rows(subsample), binnings, kept)
         rows = self.fitting_rows(subsample)
+        if self.frame is not None and (kept is None or not kept.codes.shape[0]):
+            # in memory and not coded yet: code the sub-sample's rows only, not every row of the ledger
+            frame = self.frame.iloc[rows]
+            codes = np.column_stack([code_rows(frame[b.characteristic], b) for b in binnings])
+            outcome, weight = self.outcome[rows], self.weight[rows]
+            return pattern_table(codes, np.where(outcome == GOOD, weight, 0.0), np.where(outcome == BAD, weight, 0.0),
+                                 characteristics=columns)
         parts = []
         for first_row, codes in self.coded_batches(binnings, kept):
             inside = rows[(rows >= first_row) & (rows < first_row + len(codes))]
