@@ -15,7 +15,7 @@ from scorecard.classing import (
     fine_classing, interval_labels, keeps_shape, merge_alike_neighbours, neighbour_p_values, numeric_binning,
     best_classing, quantile_cuts, roundest_between,
 )
-from scorecard.classing.fine import ROUNDING_SHARE, rounded_cuts
+from scorecard.classing.fine import ROUNDING_SHARE, distinct_weights, rounded_cuts
 from scorecard.rows import code_rows, unseen_levels
 from scorecard.terms import CATEGORICAL, NUMERIC
 from scorecard.errors import ClassingError
@@ -204,6 +204,22 @@ def test_rounding_moves_no_row_more_than_one_bin_and_at_most_the_stated_share_ac
         moved = weights[(x >= min(old, new)) & (x < max(old, new))].sum()
         assert moved <= ROUNDING_SHARE * weights.sum() + 1e-9, (cut, old, new)
     assert np.all(np.bincount(after, minlength=len(rounded) + 1) > 0)  # no bin is empty
+
+
+@pytest.mark.parametrize("values", [
+    np.array([30.0, 18.0, 45.0, 18.0, 30.0, 71.0]),  # ages: counted per value
+    np.arange(-50.0, 50.0).repeat(3)[::-1],  # negative whole numbers, in falling order
+    np.array([0.0, -0.0, 3.0, 2.0, 2.0]),  # zero of both signs
+    np.array([1.0, 1e9, 2.0]),  # whole numbers spread far wider than the rows: sorted
+    np.array([1.5, 2.0, 1.5, 7.25]),  # not whole numbers: sorted
+    np.array([2.0**60, 2.0**60 + 2**10, 2.0**60]),  # whole numbers beyond 2**53
+])
+def test_distinct_values_and_counts_are_the_same_counted_or_sorted(values):
+    """Whole numbers counted per value give what a sort and its run lengths give, to the bit."""
+    distinct, mass = distinct_weights(values, np.ones(len(values)))
+    expected, counts = np.unique(values, return_counts=True)
+    assert distinct.tolist() == expected.tolist() and distinct.dtype == expected.dtype
+    assert mass.tolist() == counts.astype(float).tolist()
 
 
 def test_quantile_cuts_on_few_distinct_values_use_each_value():

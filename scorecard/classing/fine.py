@@ -95,9 +95,17 @@ def distinct_weights(x: np.ndarray, weights: np.ndarray) -> tuple[np.ndarray, np
     When every row weighs 1 (a ledger without a weight column) the weights at a value are its
     count, and a sort of the values alone gives both: about a fifth of the time of the arg-sort that
     matching each row to its value needs (500,000 values: 0.014 s against 0.066 s), with the
-    same result to the bit.
+    same result to the bit. Whole numbers spanning not much more than the number of rows (ages,
+    months, counts) are counted per value instead, without a sort.
     """
     if np.all(weights == 1.0):
+        if len(x) and np.all(x == np.floor(x)):
+            low, high = float(x.min()), float(x.max())
+            if high - low <= 4 * len(x):
+                # whole numbers in a span not much wider than the rows: a count per value, no sort at all
+                counts = np.bincount((x - low).astype(np.int64), minlength=int(high - low) + 1)
+                at = np.flatnonzero(counts)
+                return at + low, counts[at].astype(float)
         ordered = np.sort(x)
         starts = np.flatnonzero(np.concatenate(([True], ordered[1:] != ordered[:-1])))
         return ordered[starts], np.diff(np.append(starts, len(ordered))).astype(float)
