@@ -281,6 +281,8 @@ def file_batches(path: Path, suffix: str, columns: list[str], types: dict[str, o
             frame = with_numbers_read(batch.to_pandas(), styles, notes=False)
             yield first_row, frame
             first_row += len(frame)
+            del frame, batch
+            _release_arrow()  # the pages of batches before this one (the caller may still hold this one)
     except LedgerError:
         raise
     except Exception as error:  # a reader failure part-way is the file's fault here
@@ -299,11 +301,15 @@ def release_freed_memory() -> None:
     blocks that lie below live ones (the parts of a streamed ledger's row-level arrays, say): memory
     the process holds but no longer uses, which otherwise adds up from pass to pass.
     """
+    _release_arrow()
+    if _C_LIBRARY is not None:
+        _C_LIBRARY.malloc_trim(0)
+
+
+def _release_arrow() -> None:
     import pyarrow
 
     pyarrow.default_memory_pool().release_unused()
-    if _C_LIBRARY is not None:
-        _C_LIBRARY.malloc_trim(0)
 
 
 def _c_library():

@@ -80,46 +80,57 @@ def split_samples(outcome: np.ndarray, dates: np.ndarray | None, settings: Setti
 
         n_members = sum(int(np.count_nonzero(member(rows))) for rows in row_parts(len(outcome)))
         count = holdout_count(n_members, samples.holdout_fraction)
-        sample[smallest_keys(member, lambda rows: keys[rows], count, len(outcome), tie_texts)] = HOLDOUT
+        edge, tied = smallest_keys_edge(member, lambda rows: keys[rows], count, len(outcome), tie_texts)
+        for rows in row_parts(len(outcome)):  # marked in place, part by part: no row numbers of a whole class
+            part = sample[rows]
+            part[member(rows) & (keys[rows] < edge)] = HOLDOUT
+        sample[tied] = HOLDOUT
     return sample
 
 
 def smallest_keys(member: Callable[[slice], np.ndarray], keys_of: Callable[[slice], np.ndarray], count: int,
                   n_rows: int, tie_texts: TieTexts | None) -> np.ndarray:
     """The ``count`` rows of smallest key among the members, ascending; rows of equal key at the edge are ordered
-    by their texts.
+    by their texts (see ``smallest_keys_edge``)."""
+    edge, tied = smallest_keys_edge(member, keys_of, count, n_rows, tie_texts)
+    pieces = [np.flatnonzero(member(rows) & (keys_of(rows) < edge)) + rows.start for rows in row_parts(n_rows)]
+    return np.sort(np.concatenate([*pieces, tied]).astype(np.int64))
+
+
+def smallest_keys_edge(member: Callable[[slice], np.ndarray], keys_of: Callable[[slice], np.ndarray], count: int,
+                       n_rows: int, tie_texts: TieTexts | None) -> tuple[int, np.ndarray]:
+    """Where the ``count`` members of smallest key end: every member whose key is below ``edge``, and the rows
+    ``tied`` (ascending) of those whose key equals it, ordered by their texts.
 
     ``member(rows)`` and ``keys_of(rows)`` give the mask of members and every row's key (0 <= key < 2**60) of
     a slice of rows; the rows are gone through a part at a time, so no temporary holds 8 bytes of every row.
     The edge (the count-th smallest key) is found in two steps: the bucket of the top bits of the keys that
-    holds it, from the buckets' counts, then the key itself among the few keys of that bucket.
+    holds it, from the buckets' counts, then the key itself among the few keys of that bucket. With no
+    count, the edge is 0 (no key is below it); with every member wanted, 2**60 (every key is).
     """
     parts = row_parts(n_rows)
-
-    def found(condition) -> np.ndarray:  # ascending row numbers of the members whose key meets the condition
-        pieces = [np.flatnonzero(member(rows) & condition(keys_of(rows))) + rows.start for rows in parts]
-        return np.concatenate(pieces) if pieces else np.zeros(0, dtype=np.int64)
-
     if count <= 0:
-        return np.zeros(0, dtype=np.int64)
+        return 0, np.zeros(0, dtype=np.int64)
     buckets = np.zeros(2**_BUCKET_BITS, dtype=np.int64)
     for rows in parts:
         buckets += np.bincount(keys_of(rows)[member(rows)] >> _BUCKET_SHIFT, minlength=len(buckets))
     if count >= buckets.sum():
-        return found(lambda keys: np.ones(len(keys), dtype=bool))
+        return 2**60, np.zeros(0, dtype=np.int64)
     before = np.cumsum(buckets)
     bucket = int(np.searchsorted(before, count))  # the first bucket whose members reach the count
     among = np.concatenate([keys_of(rows)[member(rows) & (keys_of(rows) >> _BUCKET_SHIFT == bucket)] for rows in parts])
     wanted_in_bucket = count - (int(before[bucket - 1]) if bucket else 0)
-    edge = np.partition(among, wanted_in_bucket - 1)[wanted_in_bucket - 1]
-    below, tied = found(lambda keys: keys < edge), found(lambda keys: keys == edge)
-    wanted = count - len(below)
+    edge = int(np.partition(among, wanted_in_bucket - 1)[wanted_in_bucket - 1])
+    n_below = int(before[bucket - 1]) if bucket else 0
+    n_below += int(np.count_nonzero(among < edge))
+    tied = np.concatenate([np.flatnonzero(member(rows) & (keys_of(rows) == edge)) + rows.start for rows in parts])
+    wanted = count - n_below
     if len(tied) > wanted:
         if tie_texts is None:
             raise TypeError("smallest_keys: rows of equal key need their texts")  # our own invariant
         texts = tie_texts(tied)
         tied = tied[sorted(range(len(tied)), key=lambda i: texts[i])]  # str order is UTF-8 byte order
-    return np.sort(np.concatenate([below, tied[:wanted]]))
+    return edge, np.sort(tied[:wanted]).astype(np.int64)
 
 
 def row_parts(n_rows: int) -> list[slice]:
