@@ -319,14 +319,22 @@ def stream_ledger(source: str | os.PathLike[str], settings: Settings, *, require
 
 def joined(parts: list[np.ndarray]) -> np.ndarray:
     """The parts one after another in one array; each part is taken from the list and released once copied,
+    and the memory of the parts copied is given back to the system as it goes (``RELEASE_BYTES`` at a time),
     so that the parts and the whole are never both held."""
     whole = np.empty(sum(len(part) for part in parts), dtype=parts[0].dtype)
-    filled = 0
+    filled = released = 0
     while parts:
         part = parts.pop(0)
         whole[filled:filled + len(part)] = part
         filled += len(part)
+        del part
+        if (filled - released) * whole.itemsize >= RELEASE_BYTES:
+            release_freed_memory()  # freed parts would otherwise stay in the heap beside the whole
+            released = filled
     return whole
+
+
+RELEASE_BYTES = 64_000_000
 
 
 def with_inferred_rejects(ledger: Ledger, bad_share: np.ndarray) -> Ledger:
