@@ -24,56 +24,52 @@ def normal_sf(x):
 
 def chi_square_sf(x, df):
     """P(X > x) for X chi-square with ``df`` degrees of freedom (``scipy.stats.chi2.sf``)."""
-    x, df = np.broadcast_arrays(np.asarray(x, dtype=float), np.asarray(df, dtype=float))
-    inside = (x > 0) & np.isfinite(x)
-    values = np.where(x <= 0, 1.0, 0.0)
-    values[inside] = special.chdtrc(df[inside], x[inside])
-    return _scalar(np.where(np.isnan(x), np.nan, values))
+    x, df = _arrays(x, df)
+    return _on_support(special.chdtrc, (df, x), inside=(x > 0) & np.isfinite(x), beyond=x <= 0, at=x)
 
 
 def binomial_pmf(k, n, p):
     """P(K = k) for K binomial(n, p) (``scipy.stats.binom.pmf``): 0 off the whole numbers 0 … n."""
-    k, n, p = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (k, n, p)))
+    k, n, p = _arrays(k, n, p)
     inside = (k >= 0) & (k <= n) & (np.floor(k) == k)
-    values = np.zeros(k.shape)
-    values[inside] = np.clip(_ufuncs._binom_pmf(k[inside], n[inside], p[inside]), 0, 1)
-    return _scalar(np.where(np.isnan(k), np.nan, values))
+    return _on_support(_ufuncs._binom_pmf, (k, n, p), inside=inside, beyond=np.zeros(k.shape, bool), at=k, clip=True)
 
 
 def binomial_cdf(k, n, p):
     """P(K <= k) for K binomial(n, p) (``scipy.stats.binom.cdf``)."""
-    k, n, p = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (k, n, p)))
-    inside = (k >= 0) & (k < n)
-    values = np.where(k >= n, 1.0, 0.0)
-    values[inside] = np.clip(_ufuncs._binom_cdf(np.floor(k[inside]), n[inside], p[inside]), 0, 1)
-    return _scalar(np.where(np.isnan(k), np.nan, values))
+    k, n, p = _arrays(k, n, p)
+    return _on_support(_ufuncs._binom_cdf, (np.floor(k), n, p), inside=(k >= 0) & (k < n), beyond=k >= n, at=k, clip=True)
 
 
 def binomial_sf(k, n, p):
     """P(K > k) for K binomial(n, p) (``scipy.stats.binom.sf``)."""
-    k, n, p = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (k, n, p)))
-    inside = (k >= 0) & (k < n)
-    values = np.where(k < 0, 1.0, 0.0)
-    values[inside] = np.clip(_ufuncs._binom_sf(np.floor(k[inside]), n[inside], p[inside]), 0, 1)
-    return _scalar(np.where(np.isnan(k), np.nan, values))
+    k, n, p = _arrays(k, n, p)
+    return _on_support(_ufuncs._binom_sf, (np.floor(k), n, p), inside=(k >= 0) & (k < n), beyond=k < 0, at=k, clip=True)
 
 
 def beta_cdf(x, a, b):
     """P(X <= x) for X beta(a, b) (``scipy.stats.beta.cdf``)."""
-    x, a, b = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in (x, a, b)))
-    inside = (x > 0) & (x < 1)
-    values = np.where(x >= 1, 1.0, 0.0)
-    values[inside] = special.betainc(a[inside], b[inside], x[inside])
-    return _scalar(values)
+    x, a, b = _arrays(x, a, b)
+    return _on_support(special.betainc, (a, b, x), inside=(x > 0) & (x < 1), beyond=x >= 1, at=x)
 
 
 def beta_ppf(q, a, b):
     """The q-quantile of beta(a, b) (``scipy.stats.beta.ppf``), for 0 <= q <= 1."""
-    q, a, b = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in (q, a, b)))
-    inside = (q > 0) & (q < 1)
-    values = np.where(q >= 1, 1.0, 0.0)
-    values[inside] = _ufuncs._beta_ppf(q[inside], a[inside], b[inside])
-    return _scalar(values)
+    q, a, b = _arrays(q, a, b)
+    return _on_support(_ufuncs._beta_ppf, (q, a, b), inside=(q > 0) & (q < 1), beyond=q >= 1, at=q)
+
+
+def _arrays(*values) -> list[np.ndarray]:
+    return np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in values))
+
+
+def _on_support(ufunc, arguments, *, inside: np.ndarray, beyond: np.ndarray, at: np.ndarray, clip: bool = False):
+    """The ufunc where the point is inside the support; 1 where it is past the end the function reaches 1 at,
+    0 elsewhere, and NaN at a NaN point: how scipy.stats' generic methods handle the edges."""
+    values = np.where(beyond, 1.0, 0.0)
+    found = ufunc(*(argument[inside] for argument in arguments))
+    values[inside] = np.clip(found, 0, 1) if clip else found
+    return _scalar(np.where(np.isnan(at), np.nan, values))
 
 
 def _scalar(values: np.ndarray):
