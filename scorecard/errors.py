@@ -42,13 +42,13 @@ class ScorecardWarning(UserWarning):
     """Something was repaired or left out; the message says what and how to avoid it."""
 
 
-def describe_rows(rows: Sequence[int], *, limit: int = 5) -> str:
+def describe_rows(rows: Sequence[int], *, limit: int = 5, total: int | None = None) -> str:
     """Name rows as the user sees them: 'row 17', 'rows 17 and 203', 'rows 2, 5, 9, 11, 12 and 40 more'.
 
     ``rows`` are row numbers as a spreadsheet shows them (the header is row 1); give them all, so
-    that the message can say how many more there are.
+    that the message can say how many more there are, or the first ``limit`` of them and ``total``.
     """
-    total = len(rows)
+    total = len(rows) if total is None else total
     shown = [str(int(r)) for r in rows[:limit]]
     if total == 1:
         return f"row {shown[0]}"

@@ -18,7 +18,7 @@ from scorecard import LedgerError, ScorecardWarning, Settings, prepare_ledger, r
 from scorecard.intake import fingerprint_of
 from scorecard.intake.samples import draw_subsamples, frame_tie_texts, holdout_count, sample_keys, subsample_keys
 from scorecard.terms import (
-    BAD, CATEGORICAL, DEVELOPMENT, GOOD, HOLDOUT, INDETERMINATE, NUMERIC, OUT_OF_TIME, UNKNOWN,
+    BAD, CATEGORICAL, DEVELOPMENT, GOOD, HOLDOUT, INDETERMINATE, NUMERIC, OUT_OF_TIME, REJECTED, UNKNOWN,
 )
 from scorecard.settings import CharacteristicSettings
 
@@ -214,6 +214,25 @@ def test_missing_outcome_is_unknown_with_a_warning():
     assert ledger.outcome[3] == UNKNOWN and ledger.outcome[8] == UNKNOWN
     assert np.bincount(ledger.outcome, minlength=4)[UNKNOWN] == 2
     assert any("no outcome" in note for note in ledger.notes)
+
+
+def test_rows_with_no_outcome_are_named_and_counted_across_parts_of_a_million_rows():
+    """The note names the first five rows and counts the rest, the same as from every row's number at once."""
+    from scorecard.errors import describe_rows
+    from scorecard.intake.roles import _check_both_classes, no_outcome_note, unknown_outcome_note
+
+    outcome = np.zeros(2_500_003, dtype=np.int8)  # three parts of a million rows, the last short
+    outcome[1::7] = BAD
+    unknown = np.array([999_998, 999_999, 1_000_000, 1_000_001, 2_000_000, 2_500_002, 17])
+    outcome[unknown] = UNKNOWN
+    every = np.sort(unknown) + 2  # row numbers as a spreadsheet shows them
+    assert unknown_outcome_note(outcome, "big.csv", "outcome") == \
+        no_outcome_note("big.csv", "outcome", describe_rows(every.tolist()), 7)
+    assert "rows 19, 1000000, 1000001, 1000002, 1000003 and 2 more: 7 rows have no outcome" in \
+        unknown_outcome_note(outcome, "big.csv", "outcome")
+    outcome[outcome == BAD] = REJECTED
+    with pytest.raises(LedgerError, match="there are no bads"):
+        _check_both_classes(outcome, "big.csv", "outcome")
 
 
 # --------------------------------------------------------------------------------------------

@@ -14,7 +14,9 @@ from ..errors import LedgerError, describe_rows
 from ..settings import Settings
 from ..terms import BAD, GOOD, INDETERMINATE, REJECTED, UNKNOWN, value_text
 from ..rows.coding import factorize_levels
-from .ledger import AttributeLevels
+from .ledger import PART_ROWS, AttributeLevels
+
+ROWS_NAMED = 5  # rows a message names before it says how many more
 
 
 def role_values(frame: pd.DataFrame, settings: Settings, source: str, *, first_row: int = 0):
@@ -89,10 +91,16 @@ def default_outcome_mapping(values: Sequence[str]) -> tuple[tuple[str, ...], tup
 
 def unknown_outcome_note(outcome: np.ndarray, source: str, column: str) -> str:
     """Say how many rows have no outcome (and which), or return ''."""
-    unknown = np.flatnonzero(outcome == UNKNOWN)
-    if not len(unknown):
+    # a million rows at a time: on a streamed ledger of 100M rows, the positions of every unknown row
+    # (and a list of them) would be the largest thing the build holds
+    count, first = 0, []
+    for start in range(0, len(outcome), PART_ROWS):
+        unknown = np.flatnonzero(outcome[start:start + PART_ROWS] == UNKNOWN)
+        count += len(unknown)
+        first.extend((unknown[:ROWS_NAMED - len(first)] + start + 2).tolist())
+    if not count:
         return ""
-    return no_outcome_note(source, column, describe_rows((unknown + 2).tolist()), len(unknown))
+    return no_outcome_note(source, column, describe_rows(first, limit=ROWS_NAMED, total=count), count)
 
 
 def no_outcome_note(source: str, column: str, where: str, n_unknown: int) -> str:
@@ -144,7 +152,11 @@ def mark_rejected(frame: pd.DataFrame, outcome: np.ndarray, settings: Settings, 
 
 
 def _check_both_classes(outcome: np.ndarray, source: str, column: str) -> None:
-    check_both_classes(np.bincount(outcome, minlength=4), source, column)
+    # counted a million rows at a time: bincount widens one-byte codes to 8-byte indexes
+    codes = REJECTED + 1  # good, bad, indeterminate, unknown, rejected
+    counts = sum((np.bincount(outcome[start:start + PART_ROWS], minlength=codes) for start in range(0, len(outcome), PART_ROWS)),
+                 np.zeros(codes, dtype=np.int64))
+    check_both_classes(counts, source, column)
 
 
 def check_both_classes(counts: np.ndarray, source: str, column: str) -> None:
